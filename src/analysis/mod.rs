@@ -1,0 +1,80 @@
+//! Layer 4: the analysis, a pure function of (document text, data profiles, configuration).
+//! It knows nothing of LSP or the terminal.
+//!
+//! Two steps so that front ends can load data in between:
+//! 1. [`parse_document`] parses and lowers the text (syntax, schema and model diagnostics);
+//! 2. [`analyze`] runs the rules over the model and the profiles the front end loaded for it.
+
+pub mod config;
+pub mod rules;
+
+use std::collections::HashMap;
+
+use crate::data::DataContext;
+use crate::diagnostic::Diagnostic;
+use crate::spec::model::ChartSpec;
+use crate::syntax::SyntaxTree;
+
+pub use config::AnalysisConfig;
+
+/// A parsed and lowered document.
+#[derive(Clone, Debug)]
+pub struct ParsedDocument {
+    pub tree: SyntaxTree,
+    pub spec: ChartSpec,
+    /// Syntax, schema and model diagnostics.
+    pub diagnostics: Vec<Diagnostic>,
+}
+
+/// Parse and lower `text`. Never fails.
+pub fn parse_document(text: &str) -> ParsedDocument {
+    let tree = crate::syntax::parse(text);
+    let mut diagnostics: Vec<Diagnostic> = tree
+        .errors()
+        .iter()
+        .map(|error| {
+            Diagnostic::new(
+                rules::SYNTAX_ERROR,
+                crate::diagnostic::Severity::Error,
+                error.range,
+                error.message.clone(),
+            )
+        })
+        .collect();
+    let (spec, model_diagnostics) = crate::spec::lower_document(&tree);
+    diagnostics.extend(model_diagnostics);
+    ParsedDocument {
+        tree,
+        spec,
+        diagnostics,
+    }
+}
+
+/// All diagnostics for a document: those of parsing and lowering, then the rules', with the
+/// configuration's severities applied, sorted by position.
+pub fn analyze(
+    document: &ParsedDocument,
+    data: &DataContext,
+    config: &AnalysisConfig,
+) -> Vec<Diagnostic> {
+    let mut diagnostics = document.diagnostics.clone();
+    diagnostics.extend(rules::run_all(document, data, config));
+    let mut out: Vec<Diagnostic> = diagnostics
+        .into_iter()
+        .filter_map(|mut diagnostic| {
+            let severity = config.severity_for(diagnostic.rule, diagnostic.severity)?;
+            diagnostic.severity = severity;
+            Some(diagnostic)
+        })
+        .collect();
+    out.sort_by(|a, b| {
+        (a.range.start, a.range.end, a.rule).cmp(&(b.range.start, b.range.end, b.rule))
+    });
+    // the same finding from two routes (for example schema and model) is reported once
+    let mut seen: HashMap<(usize, usize, &'static str), ()> = HashMap::new();
+    out.retain(|d| {
+        seen.insert((d.range.start, d.range.end, d.rule), ())
+            .is_none()
+    });
+    out
+}

@@ -1,0 +1,1 @@
+//! The language server front end (the only module that speaks LSP).

@@ -1,0 +1,7 @@
+//! Layer 2: the typed chart-spec model lowered from the syntax tree, and the JSON Schema check.
+
+pub mod lower;
+pub mod model;
+
+pub use lower::lower_document;
+pub use model::*;

@@ -1,0 +1,1 @@
+//! JSON lexer: splits the input into tokens that cover every byte.
