@@ -407,8 +407,9 @@ mod tests {
             for (offset, _) in text.char_indices().chain([(text.len(), ' ')]) {
                 let position = index.position_of_offset(offset, encoding);
                 let back = index.offset_of_position(position, encoding);
-                let is_cr_of_crlf =
-                    text.as_bytes().get(offset) == Some(&b'\n') && offset > 0 && text.as_bytes()[offset - 1] == b'\r';
+                let is_cr_of_crlf = text.as_bytes().get(offset) == Some(&b'\n')
+                    && offset > 0
+                    && text.as_bytes()[offset - 1] == b'\r';
                 if is_cr_of_crlf {
                     assert_eq!(back, offset - 1, "LF of CRLF maps to the CR at {offset}");
                 } else {
@@ -423,6 +424,9 @@ mod tests {
         // LSP 3.17 general.positionEncodings: utf-16 must always be supported and is the default
         assert_eq!(PositionEncoding::negotiate([]), Utf16);
         assert_eq!(PositionEncoding::negotiate(["utf-16"]), Utf16);
-        assert_eq!(PositionEncoding::negotiate(["utf-32", "utf-8", "utf-16"]), Utf8);
+        assert_eq!(
+            PositionEncoding::negotiate(["utf-32", "utf-8", "utf-16"]),
+            Utf8
+        );
     }
 }

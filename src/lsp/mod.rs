@@ -1,1 +1,108 @@
-//! The language server front end (the only module that speaks LSP).
+//! The language server front end (`markwell serve`): the only module that speaks LSP.
+//!
+//! - [`run_stdio`] builds the tokio runtime and serves LSP over stdin/stdout;
+//! - `server`: the tower-lsp handlers, document store and analysis loop;
+//! - `documents`: open documents (rope + line index + latest analysis);
+//! - `features`, `completion`: the LSP-free parts of hover, outline, colours, inlay hints,
+//!   definition and completion, as pure functions over byte offsets;
+//! - `convert`: lsp-types at the edge; `settings`: editor configuration.
+
+pub mod completion;
+pub mod convert;
+pub mod documents;
+pub mod features;
+pub mod log;
+pub mod server;
+pub mod settings;
+
+use std::pin::Pin;
+use std::process::ExitCode;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::Arc;
+use std::task::{Context, Poll};
+
+use tower_lsp::jsonrpc::{Request, Response};
+use tower_lsp::{LspService, Server};
+
+pub use server::Backend;
+
+/// Set `MARKWELL_LSP_TEST_HOOKS=1` to register `markwell/testPanic` (used by the stdio tests).
+const TEST_HOOKS_VARIABLE: &str = "MARKWELL_LSP_TEST_HOOKS";
+
+/// Serve LSP over stdio until `exit` (or the end of stdin). Exit code 0 after `shutdown` then
+/// `exit`, 1 when the input ended or `exit` came without `shutdown` (LSP 3.17 `exit`).
+pub fn run_stdio() -> ExitCode {
+    let runtime = match tokio::runtime::Builder::new_multi_thread()
+        .worker_threads(2)
+        .enable_all()
+        .build()
+    {
+        Ok(runtime) => runtime,
+        Err(error) => {
+            log::error(&format!("cannot start the async runtime: {error}"));
+            return ExitCode::FAILURE;
+        }
+    };
+    let shutdown_requested = Arc::new(AtomicBool::new(false));
+    let exit_received = Arc::new(tokio::sync::Notify::new());
+    let shutdown_flag = shutdown_requested.clone();
+    let exit_signal = exit_received.clone();
+    runtime.block_on(async move {
+        let mut builder = LspService::build(move |client| Backend::new(client, shutdown_flag));
+        if std::env::var(TEST_HOOKS_VARIABLE).is_ok_and(|value| value == "1") {
+            builder = builder.custom_method("markwell/testPanic", Backend::test_panic);
+        }
+        let (service, socket) = builder.finish();
+        let service = ExitWatch {
+            inner: service,
+            exit_received: exit_signal,
+        };
+        let server = Server::new(tokio::io::stdin(), tokio::io::stdout(), socket);
+        tokio::select! {
+            _ = server.serve(service) => log::info("input ended"),
+            _ = exit_received.notified() => log::info("exit received"),
+        }
+    });
+    // the stdin reader thread may still be blocked in a read: do not wait for it
+    runtime.shutdown_background();
+    if shutdown_requested.load(Ordering::SeqCst) {
+        ExitCode::SUCCESS
+    } else {
+        ExitCode::FAILURE
+    }
+}
+
+/// Forwards every message to the LSP service and signals when `exit` has been handled, so that
+/// the process ends without waiting for the client to close stdin.
+struct ExitWatch<S> {
+    inner: S,
+    exit_received: Arc<tokio::sync::Notify>,
+}
+
+impl<S> tower_service::Service<Request> for ExitWatch<S>
+where
+    S: tower_service::Service<Request, Response = Option<Response>>,
+    S::Future: Send + 'static,
+{
+    type Response = Option<Response>;
+    type Error = S::Error;
+    type Future =
+        Pin<Box<dyn std::future::Future<Output = Result<Option<Response>, S::Error>> + Send>>;
+
+    fn poll_ready(&mut self, context: &mut Context<'_>) -> Poll<Result<(), Self::Error>> {
+        self.inner.poll_ready(context)
+    }
+
+    fn call(&mut self, request: Request) -> Self::Future {
+        let is_exit = request.method() == "exit";
+        let future = self.inner.call(request);
+        let exit_received = self.exit_received.clone();
+        Box::pin(async move {
+            let response = future.await;
+            if is_exit {
+                exit_received.notify_one();
+            }
+            response
+        })
+    }
+}

@@ -1,0 +1,227 @@
+//! Conversions between the crate's types (byte ranges, diagnostics, fixes, outline entries) and
+//! lsp-types, at the edge of the server. Every position goes through [`LineIndex`].
+
+use std::collections::HashMap;
+use std::path::Path;
+
+use serde::{Deserialize, Serialize};
+use tower_lsp::lsp_types as lsp;
+
+use crate::diagnostic::{Diagnostic, Fix, FixKind, RelatedTarget, Severity};
+use crate::lsp::features::{OutlineEntry, OutlineKind};
+use crate::positions::{LineIndex, LinePosition, PositionEncoding};
+use crate::text_range::TextRange;
+
+/// Name in `Diagnostic.source`.
+pub const DIAGNOSTIC_SOURCE: &str = "markwell";
+
+pub fn to_lsp_position(position: LinePosition) -> lsp::Position {
+    lsp::Position::new(position.line, position.character)
+}
+
+pub fn from_lsp_position(position: lsp::Position) -> LinePosition {
+    LinePosition::new(position.line, position.character)
+}
+
+pub fn to_lsp_range(index: &LineIndex, range: TextRange, encoding: PositionEncoding) -> lsp::Range {
+    let (start, end) = index.range_to_positions(range, encoding);
+    lsp::Range::new(to_lsp_position(start), to_lsp_position(end))
+}
+
+pub fn from_lsp_range(
+    index: &LineIndex,
+    range: lsp::Range,
+    encoding: PositionEncoding,
+) -> TextRange {
+    index.positions_to_range(
+        from_lsp_position(range.start),
+        from_lsp_position(range.end),
+        encoding,
+    )
+}
+
+pub fn to_lsp_severity(severity: Severity) -> lsp::DiagnosticSeverity {
+    match severity {
+        Severity::Error => lsp::DiagnosticSeverity::ERROR,
+        Severity::Warning => lsp::DiagnosticSeverity::WARNING,
+        Severity::Info => lsp::DiagnosticSeverity::INFORMATION,
+        Severity::Hint => lsp::DiagnosticSeverity::HINT,
+    }
+}
+
+/// A fix as carried in a published diagnostic's `data`, positions already converted.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct FixPayload {
+    pub title: String,
+    /// `"quickfix"` or `"refactor"` (LSP `CodeActionKind` values).
+    pub kind: String,
+    pub edits: Vec<lsp::TextEdit>,
+}
+
+/// The `data` of a published diagnostic.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct DiagnosticData {
+    pub fixes: Vec<FixPayload>,
+}
+
+pub fn code_action_kind(kind: FixKind) -> lsp::CodeActionKind {
+    match kind {
+        FixKind::QuickFix => lsp::CodeActionKind::QUICKFIX,
+        FixKind::Refactor => lsp::CodeActionKind::REFACTOR,
+    }
+}
+
+pub fn fix_payload(fix: &Fix, index: &LineIndex, encoding: PositionEncoding) -> FixPayload {
+    FixPayload {
+        title: fix.title.clone(),
+        kind: code_action_kind(fix.kind).as_str().to_string(),
+        edits: fix
+            .edits
+            .iter()
+            .map(|edit| lsp::TextEdit {
+                range: to_lsp_range(index, edit.range, encoding),
+                new_text: edit.new_text.clone(),
+            })
+            .collect(),
+    }
+}
+
+pub fn file_uri(path: &Path) -> Option<lsp::Url> {
+    lsp::Url::from_file_path(path).ok()
+}
+
+pub fn to_lsp_diagnostic(
+    diagnostic: &Diagnostic,
+    uri: &lsp::Url,
+    index: &LineIndex,
+    encoding: PositionEncoding,
+) -> lsp::Diagnostic {
+    let related: Vec<lsp::DiagnosticRelatedInformation> = diagnostic
+        .related
+        .iter()
+        .filter_map(|related| {
+            let location = match &related.target {
+                RelatedTarget::SameDocument(range) => {
+                    lsp::Location::new(uri.clone(), to_lsp_range(index, *range, encoding))
+                }
+                RelatedTarget::File { path, line, .. } => {
+                    let line = u32::try_from(*line).unwrap_or(u32::MAX);
+                    let start = lsp::Position::new(line, 0);
+                    lsp::Location::new(file_uri(path)?, lsp::Range::new(start, start))
+                }
+            };
+            Some(lsp::DiagnosticRelatedInformation {
+                location,
+                message: related.message.clone(),
+            })
+        })
+        .collect();
+    let data = if diagnostic.fixes.is_empty() {
+        None
+    } else {
+        let payload = DiagnosticData {
+            fixes: diagnostic
+                .fixes
+                .iter()
+                .map(|fix| fix_payload(fix, index, encoding))
+                .collect(),
+        };
+        serde_json::to_value(payload).ok()
+    };
+    lsp::Diagnostic {
+        range: to_lsp_range(index, diagnostic.range, encoding),
+        severity: Some(to_lsp_severity(diagnostic.severity)),
+        code: Some(lsp::NumberOrString::String(diagnostic.rule.to_string())),
+        code_description: None,
+        source: Some(DIAGNOSTIC_SOURCE.to_string()),
+        message: diagnostic.message.clone(),
+        related_information: if related.is_empty() {
+            None
+        } else {
+            Some(related)
+        },
+        tags: None,
+        data,
+    }
+}
+
+/// Code actions for every fix of the diagnostics that overlap `requested` (byte range).
+pub fn code_actions(
+    diagnostics: &[Diagnostic],
+    requested: TextRange,
+    uri: &lsp::Url,
+    index: &LineIndex,
+    encoding: PositionEncoding,
+) -> Vec<lsp::CodeActionOrCommand> {
+    let mut actions = Vec::new();
+    for diagnostic in diagnostics
+        .iter()
+        .filter(|diagnostic| diagnostic.range.intersects(requested))
+    {
+        let lsp_diagnostic = to_lsp_diagnostic(diagnostic, uri, index, encoding);
+        for (position, fix) in diagnostic.fixes.iter().enumerate() {
+            let payload = fix_payload(fix, index, encoding);
+            let mut changes = HashMap::new();
+            changes.insert(uri.clone(), payload.edits);
+            actions.push(lsp::CodeActionOrCommand::CodeAction(lsp::CodeAction {
+                title: fix.title.clone(),
+                kind: Some(code_action_kind(fix.kind)),
+                diagnostics: Some(vec![lsp_diagnostic.clone()]),
+                edit: Some(lsp::WorkspaceEdit {
+                    changes: Some(changes),
+                    document_changes: None,
+                    change_annotations: None,
+                }),
+                command: None,
+                is_preferred: Some(position == 0 && fix.kind == FixKind::QuickFix),
+                disabled: None,
+                data: None,
+            }));
+        }
+    }
+    actions
+}
+
+fn symbol_kind(kind: OutlineKind) -> lsp::SymbolKind {
+    match kind {
+        OutlineKind::Title => lsp::SymbolKind::STRING,
+        OutlineKind::Source => lsp::SymbolKind::FILE,
+        OutlineKind::Column => lsp::SymbolKind::FIELD,
+        OutlineKind::Layer => lsp::SymbolKind::CLASS,
+        OutlineKind::Binding => lsp::SymbolKind::PROPERTY,
+        OutlineKind::Frame => lsp::SymbolKind::OBJECT,
+        OutlineKind::Panels => lsp::SymbolKind::ARRAY,
+    }
+}
+
+#[allow(deprecated)] // `DocumentSymbol::deprecated` must still be filled in lsp-types 0.94
+pub fn to_document_symbol(
+    entry: &OutlineEntry,
+    index: &LineIndex,
+    encoding: PositionEncoding,
+) -> lsp::DocumentSymbol {
+    let children: Vec<lsp::DocumentSymbol> = entry
+        .children
+        .iter()
+        .map(|child| to_document_symbol(child, index, encoding))
+        .collect();
+    lsp::DocumentSymbol {
+        // an empty name is invalid in LSP
+        name: if entry.name.is_empty() {
+            "\"\"".to_string()
+        } else {
+            entry.name.clone()
+        },
+        detail: entry.detail.clone(),
+        kind: symbol_kind(entry.kind),
+        tags: None,
+        deprecated: None,
+        range: to_lsp_range(index, entry.range, encoding),
+        selection_range: to_lsp_range(index, entry.selection_range, encoding),
+        children: if children.is_empty() {
+            None
+        } else {
+            Some(children)
+        },
+    }
+}

@@ -1,0 +1,189 @@
+//! Open documents: one record per URI with its version, its text in a `ropey::Rope`, the line
+//! index of that text, and the outcome of the latest analysis. Applying a change is synchronous
+//! (no `.await`), so changes are applied in the order the client sent them.
+//!
+//! Positions of incremental changes are converted with [`LineIndex`] (the LSP line rule), never
+//! with ropey's line functions, which also count Unicode line breaks. After each change the text is
+//! materialised once (O(n)) because the parser wants a `&str`; the rope keeps the edit itself
+//! O(log n).
+
+use std::sync::Arc;
+
+use ropey::Rope;
+
+use crate::analysis::ParsedDocument;
+use crate::data::DataContext;
+use crate::diagnostic::Diagnostic;
+use crate::positions::{LineIndex, LinePosition, PositionEncoding};
+
+/// One change of `textDocument/didChange`, with LSP types already stripped.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct TextChange {
+    /// `None` replaces the whole document.
+    pub range: Option<(LinePosition, LinePosition)>,
+    pub text: String,
+}
+
+/// The result of analysing one version of a document.
+#[derive(Debug)]
+pub struct AnalysisOutcome {
+    pub version: i32,
+    pub index: Arc<LineIndex>,
+    pub parsed: Arc<ParsedDocument>,
+    pub data: Arc<DataContext>,
+    pub diagnostics: Vec<Diagnostic>,
+}
+
+#[derive(Debug)]
+pub struct OpenDocument {
+    pub version: i32,
+    pub language_id: String,
+    rope: Rope,
+    index: Arc<LineIndex>,
+    /// The latest analysis (possibly of an older version).
+    pub latest: Option<Arc<AnalysisOutcome>>,
+}
+
+impl OpenDocument {
+    pub fn new(text: &str, version: i32, language_id: String) -> OpenDocument {
+        OpenDocument {
+            version,
+            language_id,
+            rope: Rope::from_str(text),
+            index: Arc::new(LineIndex::new(text)),
+            latest: None,
+        }
+    }
+
+    pub fn index(&self) -> Arc<LineIndex> {
+        self.index.clone()
+    }
+
+    pub fn text(&self) -> &str {
+        self.index.text()
+    }
+
+    /// Apply the changes in order and set the new version. Every change's range is read in the
+    /// document as left by the previous change (LSP 3.17 `didChange`).
+    pub fn apply_changes(
+        &mut self,
+        version: i32,
+        changes: Vec<TextChange>,
+        encoding: PositionEncoding,
+    ) {
+        for change in changes {
+            match change.range {
+                None => self.rope = Rope::from_str(&change.text),
+                Some((start, end)) => {
+                    let range = self.index.positions_to_range(start, end, encoding);
+                    // the index clamps to character boundaries, so these conversions are exact
+                    let start_char = self.rope.byte_to_char(range.start);
+                    let end_char = self.rope.byte_to_char(range.end);
+                    self.rope.remove(start_char..end_char);
+                    self.rope.insert(start_char, &change.text);
+                }
+            }
+            // the next change's range is read in this change's result
+            self.index = Arc::new(LineIndex::from_rope(&self.rope));
+        }
+        self.version = version;
+    }
+
+    /// The latest analysis if it is of the current version.
+    pub fn current_analysis(&self) -> Option<Arc<AnalysisOutcome>> {
+        self.latest
+            .as_ref()
+            .filter(|outcome| outcome.version == self.version)
+            .cloned()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn change(start: (u32, u32), end: (u32, u32), text: &str) -> TextChange {
+        TextChange {
+            range: Some((
+                LinePosition::new(start.0, start.1),
+                LinePosition::new(end.0, end.1),
+            )),
+            text: text.to_string(),
+        }
+    }
+
+    #[test]
+    fn incremental_changes_apply_in_order_on_the_previous_result() {
+        let mut document = OpenDocument::new("{\n  \"mark\": \"bar\"\n}\n", 1, "chartspec".into());
+        document.apply_changes(
+            2,
+            vec![
+                change((1, 11), (1, 14), "line"),
+                // this range is read in the text after the first change
+                change((1, 15), (1, 16), "\","),
+            ],
+            PositionEncoding::Utf16,
+        );
+        assert_eq!(document.text(), "{\n  \"mark\": \"line\",\n}\n");
+        assert_eq!(document.version, 2);
+    }
+
+    #[test]
+    fn utf16_change_after_an_emoji_lands_on_the_right_bytes() {
+        // "x 😀 bad": `bad` is UTF-16 columns 5..8 (the emoji counts 2 units)
+        let mut document = OpenDocument::new("x \u{1F600} bad\n", 1, "chartspec".into());
+        document.apply_changes(
+            2,
+            vec![change((0, 5), (0, 8), "good")],
+            PositionEncoding::Utf16,
+        );
+        assert_eq!(document.text(), "x \u{1F600} good\n");
+        let mut utf8 = OpenDocument::new("x \u{1F600} bad\n", 1, "chartspec".into());
+        utf8.apply_changes(
+            2,
+            vec![change((0, 7), (0, 10), "good")],
+            PositionEncoding::Utf8,
+        );
+        assert_eq!(utf8.text(), "x \u{1F600} good\n");
+    }
+
+    #[test]
+    fn unicode_line_separator_does_not_shift_lines() {
+        // ropey would count U+2028 as a line break; LSP (and our index) does not
+        let mut document = OpenDocument::new("a\u{2028}b\nc", 1, "chartspec".into());
+        document.apply_changes(
+            2,
+            vec![change((1, 0), (1, 1), "z")],
+            PositionEncoding::Utf16,
+        );
+        assert_eq!(document.text(), "a\u{2028}b\nz");
+    }
+
+    #[test]
+    fn whole_document_change_and_out_of_range_positions() {
+        let mut document = OpenDocument::new("abc", 1, "chartspec".into());
+        document.apply_changes(
+            2,
+            vec![TextChange {
+                range: None,
+                text: "hello\r\nworld".into(),
+            }],
+            PositionEncoding::Utf16,
+        );
+        assert_eq!(document.text(), "hello\r\nworld");
+        // a range past the end clamps to the end: an append
+        document.apply_changes(
+            3,
+            vec![change((40, 2), (99, 0), "!")],
+            PositionEncoding::Utf16,
+        );
+        assert_eq!(document.text(), "hello\r\nworld!");
+        // a character past the end of line 0 clamps before the CRLF
+        document.apply_changes(
+            4,
+            vec![change((0, 80), (0, 90), ",")],
+            PositionEncoding::Utf16,
+        );
+        assert_eq!(document.text(), "hello,\r\nworld!");
+    }
+}
