@@ -43,6 +43,7 @@ pub fn parse_document(text: &str) -> ParsedDocument {
         .collect();
     let (spec, model_diagnostics) = crate::spec::lower_document(&tree);
     diagnostics.extend(model_diagnostics);
+    diagnostics.extend(crate::spec::schema::check_schema(&tree));
     ParsedDocument {
         tree,
         spec,

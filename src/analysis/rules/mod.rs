@@ -1,18 +1,128 @@
-//! The rule registry. Each rule lives in its own file with its documentation beside it.
+//! The rule registry. Each rule lives in its own file with its documentation beside it (a
+//! Markdown file of the same name with the sections What it checks / Why it matters / Example /
+//! Instead / Source); `markwell explain ID` prints it.
 
 use crate::analysis::{AnalysisConfig, ParsedDocument};
 use crate::data::DataContext;
-use crate::diagnostic::Diagnostic;
+use crate::diagnostic::{Diagnostic, Severity};
 
-/// Id of syntax errors (not a rule of the registry: parsing reports them).
+/// Id of syntax errors (reported by the parser).
 pub const SYNTAX_ERROR: &str = "syntax-error";
 
-/// Run every registered rule.
+/// Everything a rule may look at.
+pub struct RuleContext<'a> {
+    pub document: &'a ParsedDocument,
+    pub data: &'a DataContext,
+    pub config: &'a AnalysisConfig,
+}
+
+/// Where a rule's findings come from.
+#[derive(Clone, Copy)]
+pub enum RuleCheck {
+    /// Found while parsing, lowering or checking the schema (not run by the registry).
+    Document,
+    /// Run over the model and the data.
+    Semantic(fn(&RuleContext<'_>) -> Vec<Diagnostic>),
+}
+
+/// A registered rule.
+pub struct Rule {
+    /// Stable kebab-case id.
+    pub id: &'static str,
+    pub default_severity: Severity,
+    /// Catalogue section (`document`, `data`, `expressiveness`, ...).
+    pub group: &'static str,
+    /// One line for `markwell rules`.
+    pub summary: &'static str,
+    pub has_fix: bool,
+    /// The Markdown documentation.
+    pub docs: &'static str,
+    pub check: RuleCheck,
+}
+
+/// The sections every rule's documentation must have, in order.
+pub const DOC_SECTIONS: [&str; 5] = [
+    "## What it checks",
+    "## Why it matters",
+    "## Example",
+    "## Instead",
+    "## Source",
+];
+
+/// All rules, in catalogue order.
+pub fn registry() -> &'static [Rule] {
+    static RULES: &[Rule] = &[
+        Rule {
+            id: SYNTAX_ERROR,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "JSON that does not parse",
+            has_fix: false,
+            docs: include_str!("docs/syntax-error.md"),
+            check: RuleCheck::Document,
+        },
+        Rule {
+            id: crate::spec::schema::UNKNOWN_KEY,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "a key the format does not have",
+            has_fix: true,
+            docs: include_str!("docs/unknown-key.md"),
+            check: RuleCheck::Document,
+        },
+        Rule {
+            id: crate::spec::schema::INVALID_VALUE,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "a value outside the allowed set",
+            has_fix: true,
+            docs: include_str!("docs/invalid-value.md"),
+            check: RuleCheck::Document,
+        },
+        Rule {
+            id: crate::spec::schema::SCHEMA_MISMATCH,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "a value of the wrong type or a missing required key",
+            has_fix: false,
+            docs: include_str!("docs/schema-mismatch.md"),
+            check: RuleCheck::Document,
+        },
+        Rule {
+            id: crate::spec::lower::SPEC_STRUCTURE,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "a chart that draws nothing or mixes layers with a top-level mark",
+            has_fix: false,
+            docs: include_str!("docs/spec-structure.md"),
+            check: RuleCheck::Document,
+        },
+    ];
+    RULES
+}
+
+pub fn rule_by_id(id: &str) -> Option<&'static Rule> {
+    registry().iter().find(|rule| rule.id == id)
+}
+
+/// Run every registered semantic rule.
 pub fn run_all(
     document: &ParsedDocument,
     data: &DataContext,
     config: &AnalysisConfig,
 ) -> Vec<Diagnostic> {
-    let _ = (document, data, config);
-    Vec::new()
+    let context = RuleContext {
+        document,
+        data,
+        config,
+    };
+    let mut diagnostics = Vec::new();
+    for rule in registry() {
+        if let RuleCheck::Semantic(check) = rule.check {
+            if config.severity_for(rule.id, rule.default_severity).is_some() {
+                diagnostics.extend(check(&context));
+            }
+        }
+    }
+    diagnostics
 }
