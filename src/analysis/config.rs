@@ -117,7 +117,9 @@ mod tests {
         assert!(warnings.is_empty(), "{warnings:?}");
         assert_eq!(config.analysis.ranking.as_deref(), Some("munzner-2014"));
         assert_eq!(
-            config.analysis.severity_for("too-many-hues", Severity::Warning),
+            config
+                .analysis
+                .severity_for("too-many-hues", Severity::Warning),
             None
         );
         assert_eq!(

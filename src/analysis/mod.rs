@@ -6,6 +6,7 @@
 //! 2. [`analyze`] runs the rules over the model and the profiles the front end loaded for it.
 
 pub mod config;
+pub mod facts;
 pub mod rules;
 
 use std::collections::HashMap;

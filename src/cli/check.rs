@@ -264,7 +264,10 @@ pub fn find_workspace_root(spec_path: &Path) -> PathBuf {
     }
 }
 
-fn load_project_config(explicit: Option<&Path>, workspace_root: &Path) -> Result<ProjectConfig, String> {
+fn load_project_config(
+    explicit: Option<&Path>,
+    workspace_root: &Path,
+) -> Result<ProjectConfig, String> {
     let (path, required) = match explicit {
         Some(path) => (path.to_path_buf(), true),
         None => (workspace_root.join(CONFIG_FILE_NAME), false),

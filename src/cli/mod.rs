@@ -107,7 +107,9 @@ fn explain(id: &str) -> u8 {
             EXIT_CLEAN
         }
         None => {
-            let ids = crate::analysis::rules::registry().iter().map(|rule| rule.id);
+            let ids = crate::analysis::rules::registry()
+                .iter()
+                .map(|rule| rule.id);
             match crate::spec::suggest::closest_name(id, ids) {
                 Some(suggestion) => {
                     eprintln!("markwell: no rule `{id}`; did you mean `{suggestion}`?")

@@ -59,17 +59,16 @@ pub fn render_human(files: &[CheckedFile]) -> String {
     for file in files {
         let path = file.path.display().to_string();
         for diagnostic in &file.diagnostics {
-            let (line, column) = line_and_column(&file.text, diagnostic.range.start);
-            let start = floor_char_boundary(&file.text, diagnostic.range.start.min(file.text.len()));
+            let start =
+                floor_char_boundary(&file.text, diagnostic.range.start.min(file.text.len()));
             let end = floor_char_boundary(&file.text, diagnostic.range.end.min(file.text.len()))
                 .max(start);
-            let location = format!("{path}:{line}:{column}");
             let mut groups = vec![level_for(diagnostic.severity)
                 .primary_title(diagnostic.message.as_str())
                 .id(diagnostic.rule)
                 .element(
                     Snippet::source(file.text.as_str())
-                        .path(location)
+                        .path(path.as_str())
                         .fold(true)
                         .annotation(AnnotationKind::Primary.span(start..end)),
                 )];

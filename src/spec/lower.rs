@@ -15,7 +15,10 @@ pub const SPEC_STRUCTURE: &str = "spec-structure";
 /// reported in the returned diagnostics (or by the schema check).
 pub fn lower_document(tree: &SyntaxTree) -> (ChartSpec, Vec<Diagnostic>) {
     let mut diagnostics = Vec::new();
-    let Some(root) = tree.root_value().filter(|node| node.kind() == NodeKind::Object) else {
+    let Some(root) = tree
+        .root_value()
+        .filter(|node| node.kind() == NodeKind::Object)
+    else {
         return (ChartSpec::default(), diagnostics);
     };
     let mut spec = ChartSpec {
@@ -61,7 +64,9 @@ pub fn lower_document(tree: &SyntaxTree) -> (ChartSpec, Vec<Diagnostic>) {
                 SPEC_STRUCTURE,
                 Severity::Error,
                 conflicting.key_range().unwrap_or(conflicting.range()),
-                format!("top-level `{key}` cannot be used together with `layers`; move it into a layer"),
+                format!(
+                    "top-level `{key}` cannot be used together with `layers`; move it into a layer"
+                ),
             ));
         }
     } else if top_level_mark.is_some() || top_level_bind.is_some() {
@@ -104,7 +109,8 @@ fn lower_number(node: Node<'_>) -> Option<Spanned<f64>> {
 }
 
 fn lower_bool(node: Node<'_>) -> Option<Spanned<bool>> {
-    node.as_bool().map(|value| Spanned::new(value, node.range()))
+    node.as_bool()
+        .map(|value| Spanned::new(value, node.range()))
 }
 
 fn lower_count(node: Node<'_>) -> Option<Spanned<u32>> {
@@ -130,7 +136,10 @@ fn lower_source(node: Node<'_>) -> Option<Source> {
     }
     let location = if let Some(path) = node.get("path").and_then(lower_string) {
         SourceLocation::Path(path)
-    } else if let Some(rows) = node.get("rows").filter(|rows| rows.kind() == NodeKind::Array) {
+    } else if let Some(rows) = node
+        .get("rows")
+        .filter(|rows| rows.kind() == NodeKind::Array)
+    {
         SourceLocation::Rows {
             rows: rows.elements().filter_map(lower_inline_row).collect(),
             range: rows.range(),
@@ -186,7 +195,9 @@ fn lower_columns(node: Node<'_>) -> Vec<ColumnDeclaration> {
         .filter_map(|member| {
             let key = member.key()?;
             let name = Spanned::new(key.as_str()?.into_owned(), key.range());
-            let value = member.value().filter(|value| value.kind() == NodeKind::Object)?;
+            let value = member
+                .value()
+                .filter(|value| value.kind() == NodeKind::Object)?;
             Some(ColumnDeclaration {
                 name,
                 range: value.range(),
@@ -315,7 +326,10 @@ fn lower_scale(node: Node<'_>) -> Option<Scale> {
         return None;
     }
     let domain = node.get("domain").and_then(|domain| {
-        let bounds: Vec<f64> = domain.elements().filter_map(|bound| bound.as_f64()).collect();
+        let bounds: Vec<f64> = domain
+            .elements()
+            .filter_map(|bound| bound.as_f64())
+            .collect();
         match bounds.as_slice() {
             [low, high] if domain.elements().count() == 2 => {
                 Some(Spanned::new((*low, *high), domain.range()))

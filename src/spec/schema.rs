@@ -111,7 +111,11 @@ pub fn schema_at_path<'s>(schema: &'s Value, path: &[PathSegment]) -> Option<&'s
             PathSegment::Key(key) => current
                 .get("properties")
                 .and_then(|properties| properties.get(key))
-                .or_else(|| current.get("additionalProperties").filter(|v| v.is_object()))?,
+                .or_else(|| {
+                    current
+                        .get("additionalProperties")
+                        .filter(|v| v.is_object())
+                })?,
             PathSegment::Index(_) => current.get("items")?,
         };
         current = resolve_ref(schema, current)?;
@@ -155,7 +159,10 @@ pub fn enum_values_at_path(path: &[PathSegment]) -> Vec<(&'static str, Option<&'
     let Some(schema) = schema_at_path(schema_document(), path) else {
         return Vec::new();
     };
-    let schema = schema.get("then").filter(|_| schema.get("enum").is_none()).unwrap_or(schema);
+    let schema = schema
+        .get("then")
+        .filter(|_| schema.get("enum").is_none())
+        .unwrap_or(schema);
     let descriptions = schema.get("valueDescriptions");
     schema
         .get("enum")
@@ -214,7 +221,8 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                         format!("unknown key `{key}` {place}"),
                     );
                     if let Some(suggestion) = closest_name(key, valid.iter().copied()) {
-                        diagnostic.message = format!("{}; did you mean `{suggestion}`?", diagnostic.message);
+                        diagnostic.message =
+                            format!("{}; did you mean `{suggestion}`?", diagnostic.message);
                         diagnostic.fixes.push(Fix::quick(
                             format!("rename to `{suggestion}`"),
                             vec![TextEdit {
@@ -249,7 +257,8 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                     .as_deref()
                     .and_then(|text| closest_name(text, allowed.iter().copied()))
                 {
-                    diagnostic.message = format!("{shown} is not allowed {place}; did you mean `{suggestion}`?");
+                    diagnostic.message =
+                        format!("{shown} is not allowed {place}; did you mean `{suggestion}`?");
                     diagnostic.fixes.push(Fix::quick(
                         format!("change to `{suggestion}`"),
                         vec![TextEdit {

@@ -2,9 +2,18 @@
 //! Markdown file of the same name with the sections What it checks / Why it matters / Example /
 //! Instead / Source); `markwell explain ID` prints it.
 
+mod kind_conflict;
+mod levels_mismatch;
+mod missing_source;
+mod sparse_column;
+mod summary_on_categorical;
+mod unknown_column;
+
+use crate::analysis::facts::{layer_facts, LayerFacts};
 use crate::analysis::{AnalysisConfig, ParsedDocument};
 use crate::data::DataContext;
 use crate::diagnostic::{Diagnostic, Severity};
+use crate::spec::model::ChartSpec;
 
 /// Id of syntax errors (reported by the parser).
 pub const SYNTAX_ERROR: &str = "syntax-error";
@@ -14,6 +23,32 @@ pub struct RuleContext<'a> {
     pub document: &'a ParsedDocument,
     pub data: &'a DataContext,
     pub config: &'a AnalysisConfig,
+    /// Per-layer facts (sources, profiles, effective kinds), computed once.
+    pub layers: Vec<LayerFacts<'a>>,
+}
+
+impl<'a> RuleContext<'a> {
+    pub fn new(
+        document: &'a ParsedDocument,
+        data: &'a DataContext,
+        config: &'a AnalysisConfig,
+    ) -> RuleContext<'a> {
+        RuleContext {
+            document,
+            data,
+            config,
+            layers: layer_facts(&document.spec, data),
+        }
+    }
+
+    pub fn spec(&self) -> &'a ChartSpec {
+        &self.document.spec
+    }
+
+    /// The text of the document.
+    pub fn text(&self) -> &'a str {
+        self.document.tree.text()
+    }
 }
 
 /// Where a rule's findings come from.
@@ -58,7 +93,7 @@ pub fn registry() -> &'static [Rule] {
             group: "document",
             summary: "JSON that does not parse",
             has_fix: false,
-            docs: include_str!("docs/syntax-error.md"),
+            docs: include_str!("syntax-error.md"),
             check: RuleCheck::Document,
         },
         Rule {
@@ -67,7 +102,7 @@ pub fn registry() -> &'static [Rule] {
             group: "document",
             summary: "a key the format does not have",
             has_fix: true,
-            docs: include_str!("docs/unknown-key.md"),
+            docs: include_str!("unknown-key.md"),
             check: RuleCheck::Document,
         },
         Rule {
@@ -76,7 +111,7 @@ pub fn registry() -> &'static [Rule] {
             group: "document",
             summary: "a value outside the allowed set",
             has_fix: true,
-            docs: include_str!("docs/invalid-value.md"),
+            docs: include_str!("invalid-value.md"),
             check: RuleCheck::Document,
         },
         Rule {
@@ -85,7 +120,7 @@ pub fn registry() -> &'static [Rule] {
             group: "document",
             summary: "a value of the wrong type or a missing required key",
             has_fix: false,
-            docs: include_str!("docs/schema-mismatch.md"),
+            docs: include_str!("schema-mismatch.md"),
             check: RuleCheck::Document,
         },
         Rule {
@@ -94,9 +129,15 @@ pub fn registry() -> &'static [Rule] {
             group: "document",
             summary: "a chart that draws nothing or mixes layers with a top-level mark",
             has_fix: false,
-            docs: include_str!("docs/spec-structure.md"),
+            docs: include_str!("spec-structure.md"),
             check: RuleCheck::Document,
         },
+        missing_source::RULE,
+        unknown_column::RULE,
+        levels_mismatch::RULE,
+        kind_conflict::RULE,
+        summary_on_categorical::RULE,
+        sparse_column::RULE,
     ];
     RULES
 }
@@ -111,15 +152,14 @@ pub fn run_all(
     data: &DataContext,
     config: &AnalysisConfig,
 ) -> Vec<Diagnostic> {
-    let context = RuleContext {
-        document,
-        data,
-        config,
-    };
+    let context = RuleContext::new(document, data, config);
     let mut diagnostics = Vec::new();
     for rule in registry() {
         if let RuleCheck::Semantic(check) = rule.check {
-            if config.severity_for(rule.id, rule.default_severity).is_some() {
+            if config
+                .severity_for(rule.id, rule.default_severity)
+                .is_some()
+            {
                 diagnostics.extend(check(&context));
             }
         }
