@@ -131,6 +131,7 @@ pub fn run(args: &CheckArgs) -> u8 {
     match args.format {
         OutputFormat::Human => print!("{}", render_human(&checked)),
         OutputFormat::Json => println!("{}", render_json(&checked)),
+        OutputFormat::Sarif => println!("{}", super::sarif::render_sarif(&checked)),
     }
 
     let fails = |diagnostic: &Diagnostic| {

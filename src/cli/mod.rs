@@ -3,6 +3,7 @@
 
 mod check;
 mod render;
+mod sarif;
 
 use std::path::PathBuf;
 use std::process::ExitCode;
@@ -33,6 +34,8 @@ pub enum OutputFormat {
     Human,
     /// Machine-readable JSON.
     Json,
+    /// SARIF 2.1.0 (OASIS), for code-scanning services.
+    Sarif,
 }
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
