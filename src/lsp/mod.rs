@@ -5,12 +5,14 @@
 //! - `documents`: open documents (rope + line index + latest analysis);
 //! - `features`, `completion`: the LSP-free parts of hover, outline, colours, inlay hints,
 //!   definition and completion, as pure functions over byte offsets;
-//! - `convert`: lsp-types at the edge; `settings`: editor configuration.
+//! - `convert`: lsp-types at the edge; `settings`: editor configuration;
+//! - `framing`: checks message framing before tower-lsp reads it.
 
 pub mod completion;
 pub mod convert;
 pub mod documents;
 pub mod features;
+pub mod framing;
 pub mod log;
 pub mod server;
 pub mod settings;
@@ -57,9 +59,27 @@ pub fn run_stdio() -> ExitCode {
             inner: service,
             exit_received: exit_signal,
         };
-        let server = Server::new(tokio::io::stdin(), tokio::io::stdout(), socket);
+        // frames are checked before tower-lsp reads them (see `framing`)
+        let (server_input, checked_frames) = tokio::io::duplex(1 << 20);
+        let (server_output, output_frames) = tokio::io::duplex(1 << 20);
+        let (errors, injected) = tokio::sync::mpsc::unbounded_channel();
+        tokio::spawn(framing::forward_valid_frames(
+            tokio::io::stdin(),
+            checked_frames,
+            errors,
+        ));
+        let writer = tokio::spawn(framing::write_frames(
+            output_frames,
+            injected,
+            tokio::io::stdout(),
+        ));
+        let server = Server::new(server_input, server_output, socket);
         tokio::select! {
-            _ = server.serve(service) => log::info("input ended"),
+            _ = server.serve(service) => {
+                log::info("input ended");
+                // the server's output is closed: let the writer copy what is left
+                let _ = tokio::time::timeout(std::time::Duration::from_secs(2), writer).await;
+            }
             _ = exit_received.notified() => log::info("exit received"),
         }
     });
@@ -94,6 +114,7 @@ where
     }
 
     fn call(&mut self, request: Request) -> Self::Future {
+        let request = without_null_params(request);
         let is_exit = request.method() == "exit";
         let future = self.inner.call(request);
         let exit_received = self.exit_received.clone();
@@ -104,5 +125,19 @@ where
             }
             response
         })
+    }
+}
+
+/// `"params": null` means no params (clients send it for `shutdown` and `exit`, whose params
+/// are void in LSP 3.17); tower-lsp would refuse it as unexpected params.
+fn without_null_params(request: Request) -> Request {
+    if request.params() != Some(&serde_json::Value::Null) {
+        return request;
+    }
+    let (method, id, _) = request.into_parts();
+    let builder = Request::build(method);
+    match id {
+        Some(id) => builder.id(id).finish(),
+        None => builder.finish(),
     }
 }

@@ -1,0 +1,670 @@
+//! End-to-end tests of `markwell serve`: the built binary driven over stdio by a small JSON-RPC
+//! client (tests/support/lsp_client.rs). Every read has a timeout; every test ends with
+//! shutdown + exit, checks exit code 0, and fails if the server left a message unread.
+//!
+//! Position values are checked against the LSP 3.17 definition of `Position`: a zero-based line
+//! and a "character offset in a line", counted in UTF-16 code units unless another encoding was
+//! negotiated; line endings are \n, \r\n and \r. The test client converts with its own code
+//! (`str::encode_utf16`), not with the crate's `positions` module.
+
+#[path = "support/lsp_client.rs"]
+mod lsp_client;
+
+use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
+
+use lsp_client::{apply_lsp_edits, utf16_position, LspClient};
+use serde_json::{json, Value};
+
+fn binary() -> &'static Path {
+    Path::new(env!("CARGO_BIN_EXE_markwell"))
+}
+
+fn start() -> LspClient {
+    LspClient::start(binary(), &[])
+}
+
+fn file_uri(path: &Path) -> String {
+    format!("file://{}", path.display())
+}
+
+/// A spec with one unknown key (`colour` in `style`), which has a rename fix.
+const FERRY_SPEC_WITH_TYPO: &str = r##"{
+  "title": "Departure delays against passengers",
+  "source": { "path": "crossings.csv" },
+  "purpose": "relationship",
+  "mark": "point",
+  "bind": {
+    "x": "passengers",
+    "y": { "column": "delay_min" }
+  },
+  "style": { "colour": "#1b6ca8", "opacity": 0.8 }
+}
+"##;
+
+/// Invented data for the ferry specs.
+const FERRY_CSV: &str = "month,route,passengers,delay_min\n\
+2026-01,Harbour Loop,3032,1.9\n\
+2026-01,North Pier,1732,5.3\n\
+2026-02,Harbour Loop,2980,2.4\n\
+2026-02,North Pier,1655,4.1\n";
+
+/// A workspace folder with the ferry data and the spec on disk.
+struct Workspace {
+    directory: tempfile::TempDir,
+}
+
+impl Workspace {
+    fn new() -> Workspace {
+        let directory = tempfile::tempdir().expect("temporary folder");
+        std::fs::write(directory.path().join("crossings.csv"), FERRY_CSV).expect("write data");
+        Workspace { directory }
+    }
+
+    fn path(&self, name: &str) -> PathBuf {
+        self.directory.path().join(name)
+    }
+
+    fn uri(&self, name: &str) -> String {
+        file_uri(&self.path(name))
+    }
+
+    fn root_uri(&self) -> String {
+        file_uri(self.directory.path())
+    }
+}
+
+fn codes(diagnostics: &[Value]) -> Vec<String> {
+    diagnostics
+        .iter()
+        .map(|d| d["code"].as_str().unwrap_or_default().to_string())
+        .collect()
+}
+
+fn find_code<'d>(diagnostics: &'d [Value], code: &str) -> &'d Value {
+    diagnostics
+        .iter()
+        .find(|d| d["code"] == code)
+        .unwrap_or_else(|| panic!("no `{code}` diagnostic in {diagnostics:#?}"))
+}
+
+fn range_of(text: &str, needle: &str) -> Value {
+    let start = text
+        .find(needle)
+        .unwrap_or_else(|| panic!("`{needle}` not in the text"));
+    json!({"start": utf16_position(text, start), "end": utf16_position(text, start + needle.len())})
+}
+
+#[test]
+fn initialize_negotiates_the_position_encoding_and_advertises_what_is_implemented() {
+    // LSP 3.17 general.positionEncodings: without it the client means UTF-16
+    let mut client = start();
+    let result = client.initialize(json!({}), None);
+    let capabilities = &result["capabilities"];
+    assert_eq!(capabilities["positionEncoding"], "utf-16");
+    assert_eq!(
+        capabilities["textDocumentSync"]["change"], 2,
+        "incremental sync"
+    );
+    for provider in [
+        "hoverProvider",
+        "completionProvider",
+        "codeActionProvider",
+        "documentSymbolProvider",
+        "colorProvider",
+        "inlayHintProvider",
+        "definitionProvider",
+    ] {
+        assert!(!capabilities[provider].is_null(), "{provider} advertised");
+    }
+    // not implemented, so not advertised
+    for absent in [
+        "renameProvider",
+        "referencesProvider",
+        "documentFormattingProvider",
+    ] {
+        assert!(
+            capabilities[absent].is_null(),
+            "{absent} must not be advertised"
+        );
+    }
+    assert_eq!(result["serverInfo"]["name"], "markwell");
+    assert!(client.finish().success());
+
+    let mut client = start();
+    let result = client.initialize(
+        json!({"general": {"positionEncodings": ["utf-32", "utf-8", "utf-16"]}}),
+        None,
+    );
+    assert_eq!(result["capabilities"]["positionEncoding"], "utf-8");
+    assert!(client.finish().success());
+}
+
+#[test]
+fn diagnostics_carry_rule_code_source_version_and_fixes() {
+    let workspace = Workspace::new();
+    let uri = workspace.uri("delays.chart.json");
+    let mut client = start();
+    client.initialize(json!({}), Some(&workspace.root_uri()));
+    client.open(&uri, FERRY_SPEC_WITH_TYPO, 7);
+    let diagnostics = client.wait_for_publish(&uri, 7);
+    let unknown = find_code(&diagnostics, "unknown-key");
+    assert_eq!(unknown["source"], "markwell");
+    assert_eq!(unknown["severity"], 1);
+    assert_eq!(
+        unknown["range"],
+        range_of(FERRY_SPEC_WITH_TYPO, "\"colour\"")
+    );
+    let fix = &unknown["data"]["fixes"][0];
+    assert_eq!(fix["kind"], "quickfix");
+    assert_eq!(
+        apply_lsp_edits(
+            FERRY_SPEC_WITH_TYPO,
+            fix["edits"].as_array().expect("edits")
+        ),
+        FERRY_SPEC_WITH_TYPO.replace("\"colour\"", "\"color\"")
+    );
+    assert!(client.finish().success());
+}
+
+#[test]
+fn utf16_and_utf8_ranges_after_an_astral_character() {
+    // an apple emoji (U+1F34E) is 2 UTF-16 code units and 4 UTF-8 bytes
+    let text = "{ \"title\": \"\u{1F34E}\", \"colour\": 1 }";
+    let key = text.find("\"colour\"").expect("key");
+    for (capabilities, expected_start) in [
+        (json!({}), lsp_client::utf16_len(&text[..key])),
+        (json!({"general": {"positionEncodings": ["utf-8"]}}), key),
+    ] {
+        let mut client = start();
+        client.initialize(capabilities, None);
+        client.open("untitled:apples.chart.json", text, 1);
+        let diagnostics = client.wait_for_publish("untitled:apples.chart.json", 1);
+        let unknown = find_code(&diagnostics, "unknown-key");
+        assert_eq!(unknown["range"]["start"]["character"], expected_start);
+        assert_eq!(
+            unknown["range"]["end"]["character"],
+            expected_start + "\"colour\"".len()
+        );
+        assert!(client.finish().success());
+    }
+    // the two encodings really differ here: 12 UTF-16 units vs 14 bytes before the key
+    assert_eq!(lsp_client::utf16_len(&text[..key]) + 2, key);
+}
+
+#[test]
+fn code_action_round_trip_removes_the_diagnostic() {
+    let workspace = Workspace::new();
+    let uri = workspace.uri("delays.chart.json");
+    let mut client = start();
+    client.initialize(json!({}), Some(&workspace.root_uri()));
+    client.open(&uri, FERRY_SPEC_WITH_TYPO, 1);
+    let diagnostics = client.wait_for_publish(&uri, 1);
+    let unknown = find_code(&diagnostics, "unknown-key").clone();
+    let actions = client.request_result(
+        "textDocument/codeAction",
+        json!({"textDocument": {"uri": uri}, "range": unknown["range"],
+               "context": {"diagnostics": [unknown]}}),
+    );
+    let actions = actions.as_array().expect("an array of code actions");
+    let fix = actions
+        .iter()
+        .find(|action| action["kind"] == "quickfix")
+        .unwrap_or_else(|| panic!("no quickfix in {actions:#?}"));
+    assert_eq!(fix["diagnostics"][0]["code"], "unknown-key");
+    let edits = fix["edit"]["changes"][&uri]
+        .as_array()
+        .expect("edits for the document");
+    // apply through incremental changes, as an editor does
+    let mut text = FERRY_SPEC_WITH_TYPO.to_string();
+    for edit in edits {
+        client.change_range(
+            &uri,
+            2,
+            edit["range"].clone(),
+            edit["newText"].as_str().unwrap_or(""),
+        );
+        text = apply_lsp_edits(&text, std::slice::from_ref(edit));
+    }
+    assert!(text.contains("\"color\": \"#1b6ca8\""));
+    let after = client.wait_for_publish(&uri, 2);
+    assert!(
+        !codes(&after).contains(&"unknown-key".to_string()),
+        "the fix removed the finding: {after:#?}"
+    );
+    // only quickfix actions when asked for them, none for a range without findings
+    let none = client.request_result(
+        "textDocument/codeAction",
+        json!({"textDocument": {"uri": uri}, "range": range_of(&text, "\"purpose\""),
+               "context": {"diagnostics": [], "only": ["quickfix"]}}),
+    );
+    assert_eq!(none, json!([]));
+    assert!(client.finish().success());
+}
+
+#[test]
+fn hover_explains_a_diagnostic_and_symbols_outline_the_spec() {
+    let workspace = Workspace::new();
+    let uri = workspace.uri("delays.chart.json");
+    let mut client = start();
+    client.initialize(json!({}), Some(&workspace.root_uri()));
+    client.open(&uri, FERRY_SPEC_WITH_TYPO, 1);
+    client.wait_for_publish(&uri, 1);
+    let key = range_of(FERRY_SPEC_WITH_TYPO, "\"colour\"");
+    let hover = client.request_result(
+        "textDocument/hover",
+        json!({"textDocument": {"uri": uri}, "position": key["start"]}),
+    );
+    assert_eq!(hover["contents"]["kind"], "markdown");
+    let markdown = hover["contents"]["value"].as_str().expect("markdown text");
+    assert!(markdown.contains("unknown-key"), "{markdown}");
+    assert_eq!(hover["range"], key);
+
+    let symbols = client.request_result(
+        "textDocument/documentSymbol",
+        json!({"textDocument": {"uri": uri}}),
+    );
+    let symbols = symbols.as_array().expect("document symbols");
+    let chart = symbols
+        .iter()
+        .find(|symbol| symbol["detail"] == "point")
+        .unwrap_or_else(|| panic!("a layer symbol for the point mark: {symbols:#?}"));
+    let channels: Vec<&str> = chart["children"]
+        .as_array()
+        .expect("bindings")
+        .iter()
+        .filter_map(|child| child["name"].as_str())
+        .collect();
+    assert_eq!(channels, ["x", "y"]);
+    assert_eq!(chart["children"][0]["detail"], "passengers");
+
+    let colours = client.request_result(
+        "textDocument/documentColor",
+        json!({"textDocument": {"uri": uri}}),
+    );
+    // `style.colour` is an unknown key, so the model has no style colour: no swatch
+    assert_eq!(colours, json!([]));
+    assert!(client.finish().success());
+}
+
+#[test]
+fn completion_offers_marks_keys_and_palette_colours_show() {
+    let text = "{\n  \"mark\": \"po\",\n  \"frame\": { \"background\": \"#fafaf5\" },\n  \"bind\": {  }\n}\n";
+    let uri = "untitled:complete.chart.json";
+    let mut client = start();
+    client.initialize(json!({}), None);
+    client.open(uri, text, 1);
+    client.wait_for_publish(uri, 1);
+    let inside_mark = text.find("\"po\"").expect("mark value") + 3;
+    let items = client.request_result(
+        "textDocument/completion",
+        json!({"textDocument": {"uri": uri}, "position": utf16_position(text, inside_mark)}),
+    );
+    let labels: Vec<&str> = items
+        .as_array()
+        .expect("a completion list")
+        .iter()
+        .filter_map(|item| item["label"].as_str())
+        .collect();
+    for mark in ["point", "line", "bar", "area"] {
+        assert!(labels.contains(&mark), "{mark} offered: {labels:?}");
+    }
+    let inside_bind = text.find("{  }").expect("bind object") + 2;
+    let items = client.request_result(
+        "textDocument/completion",
+        json!({"textDocument": {"uri": uri}, "position": utf16_position(text, inside_bind)}),
+    );
+    let labels: Vec<&str> = items
+        .as_array()
+        .expect("a completion list")
+        .iter()
+        .filter_map(|item| item["label"].as_str())
+        .collect();
+    for channel in ["x", "y", "hue", "shape"] {
+        assert!(labels.contains(&channel), "{channel} offered: {labels:?}");
+    }
+    let colours = client.request_result(
+        "textDocument/documentColor",
+        json!({"textDocument": {"uri": uri}}),
+    );
+    // #fafaf5 = (250, 250, 245) / 255
+    let colour = &colours[0]["color"];
+    assert!((colour["red"].as_f64().unwrap_or(0.0) - 250.0 / 255.0).abs() < 1e-6);
+    assert!((colour["blue"].as_f64().unwrap_or(0.0) - 245.0 / 255.0).abs() < 1e-6);
+    assert_eq!(colours[0]["range"], range_of(text, "#fafaf5"));
+    assert!(client.finish().success());
+}
+
+#[test]
+fn malformed_messages_are_answered_and_the_server_lives_on() {
+    let mut client = start();
+    client.initialize(json!({}), None);
+    // JSON-RPC 2.0 section 5.1: "Parse error ... -32700", the response id is null
+    let broken = b"{\"jsonrpc\": \"2.0\", \"id\": 5, \"method\": ";
+    let mut frame = format!("Content-Length: {}\r\n\r\n", broken.len()).into_bytes();
+    frame.extend_from_slice(broken);
+    client.send_raw(&frame);
+    let parse_error = client.wait_for("a parse error response", |m| m.get("error").is_some());
+    assert_eq!(parse_error["error"]["code"], -32700);
+    assert_eq!(parse_error["id"], Value::Null);
+    // a header without a usable length: answered with a parse error (id null), the input is
+    // skipped to the next header, and the request after it is answered normally
+    client.send_raw(b"Content-Length: lots\r\n\r\n{}");
+    let header_error = client.wait_for("a header error response", |m| m.get("error").is_some());
+    assert_eq!(header_error["error"]["code"], -32700);
+    assert_eq!(header_error["id"], Value::Null);
+    let after_bad_header = client.request(
+        "textDocument/hover",
+        json!({"textDocument": {"uri": "untitled:none"}, "position": {"line": 0, "character": 0}}),
+    );
+    assert_eq!(
+        after_bad_header["result"],
+        Value::Null,
+        "{after_bad_header}"
+    );
+    // a body shorter than its Content-Length would swallow the next message: not tested, as
+    // no reader can tell where such a frame ends
+    // JSON that is not a JSON-RPC message: "Invalid Request ... -32600" (JSON-RPC 2.0, 5.1)
+    client.send_raw(b"Content-Length: 23\r\n\r\n{\"id\": 12, \"method\": 7}");
+    let invalid = client.wait_for("an invalid request response", |m| m["id"] == 12);
+    assert_eq!(invalid["error"]["code"], -32600);
+    // a request that is valid JSON but has the wrong params shape: invalid params (-32602)
+    let response = client.request("textDocument/hover", json!({"textDocument": 5}));
+    assert_eq!(response["error"]["code"], -32602);
+    // still serving
+    let hover = client.request(
+        "textDocument/hover",
+        json!({"textDocument": {"uri": "untitled:none"}, "position": {"line": 0, "character": 0}}),
+    );
+    assert_eq!(hover["result"], Value::Null);
+    assert!(client.finish().success());
+}
+
+#[test]
+fn unknown_methods_get_method_not_found_and_unknown_notifications_nothing() {
+    let mut client = start();
+    client.initialize(json!({}), None);
+    let response = client.request("markwell/noSuchRequest", json!({}));
+    // JSON-RPC 2.0 section 5.1: "Method not found ... -32601"
+    assert_eq!(response["error"]["code"], -32601);
+    client.notify("markwell/noSuchNotification", json!({}));
+    client.notify("$/cancelRequest", json!({"id": 999}));
+    client.settle(Duration::from_millis(100));
+    assert!(client.finish().success());
+}
+
+#[test]
+fn out_of_range_positions_clamp() {
+    let text = "{\r\n  \"mark\": \"bar\"\r\n}";
+    let uri = "untitled:clamp.chart.json";
+    let mut client = start();
+    client.initialize(json!({}), None);
+    client.open(uri, text, 1);
+    client.wait_for_publish(uri, 1);
+    for position in [
+        json!({"line": 99, "character": 0}),
+        json!({"line": 1, "character": 4000}),
+    ] {
+        for method in [
+            "textDocument/hover",
+            "textDocument/completion",
+            "textDocument/definition",
+        ] {
+            let response = client.request(
+                method,
+                json!({"textDocument": {"uri": uri}, "position": position}),
+            );
+            assert!(
+                response.get("error").is_none(),
+                "{method} at {position}: {response}"
+            );
+        }
+    }
+    // an edit past the end of the document clamps to the end: an append that breaks the JSON
+    client.change_range(
+        uri,
+        2,
+        json!({"start": {"line": 40, "character": 3}, "end": {"line": 90, "character": 0}}),
+        ",",
+    );
+    let diagnostics = client.wait_for_publish(uri, 2);
+    let syntax = find_code(&diagnostics, "syntax-error");
+    // the comma landed after the closing brace on line 2 (lines split at CRLF)
+    assert_eq!(syntax["range"]["start"]["line"], 2);
+    assert!(client.finish().success());
+}
+
+#[test]
+fn panic_inside_a_handler_becomes_an_error_response() {
+    let mut client = LspClient::start(binary(), &[("MARKWELL_LSP_TEST_HOOKS", "1")]);
+    client.initialize(json!({}), None);
+    let response = client.request("markwell/testPanic", json!({}));
+    // JSON-RPC 2.0 section 5.1: "Internal error ... -32603"
+    assert_eq!(response["error"]["code"], -32603);
+    client.open("untitled:after.chart.json", "{\"mark\": \"bar\",}", 1);
+    let diagnostics = client.wait_for_publish("untitled:after.chart.json", 1);
+    assert!(codes(&diagnostics).contains(&"syntax-error".to_string()));
+    assert!(client
+        .stderr_text()
+        .contains("panic while handling markwell/testPanic"));
+    assert!(client.finish().success());
+}
+
+#[test]
+fn exit_without_shutdown_ends_with_code_1() {
+    // LSP 3.17 `exit`: "The server should exit with success code 0 if the shutdown request has
+    // been received before; otherwise with error code 1"
+    let mut client = start();
+    client.initialize(json!({}), None);
+    client.notify("exit", Value::Null);
+    let status = client.wait_exit();
+    assert_eq!(status.code(), Some(1));
+}
+
+#[test]
+fn thousand_rapid_edits_end_in_the_right_diagnostics() {
+    let workspace = Workspace::new();
+    let uri = workspace.uri("typing.chart.json");
+    let mut client = start();
+    client.initialize(json!({}), Some(&workspace.root_uri()));
+    client.open(&uri, FERRY_SPEC_WITH_TYPO, 1);
+    client.wait_for_publish(&uri, 1);
+    // type 999 characters into the title, one incremental change per keystroke, without waiting
+    let mut text = FERRY_SPEC_WITH_TYPO.to_string();
+    let title_end = text.find(" passengers\"").expect("title") + " passengers".len();
+    let typed = "é🍏x";
+    for keystroke in 0..999 {
+        let character = typed.chars().nth(keystroke % 3).unwrap_or('x');
+        let offset = title_end + typed_len(&text, title_end, keystroke);
+        let position = utf16_position(&text, offset);
+        client.change_range(
+            &uri,
+            2 + keystroke as i64,
+            json!({"start": position, "end": position}),
+            &character.to_string(),
+        );
+        text.insert(offset, character);
+    }
+    // the 1,000th edit fixes the unknown key
+    let key = range_of(&text, "\"colour\"");
+    client.change_range(&uri, 1001, key, "\"color\"");
+    text = text.replacen("\"colour\"", "\"color\"", 1);
+    let finals = client.wait_for_publish(&uri, 1001);
+    assert!(
+        !codes(&finals).contains(&"unknown-key".to_string()),
+        "{finals:#?}"
+    );
+    // earlier publishes (if any) had lower versions and came in order
+    let earlier = client.take_queued("textDocument/publishDiagnostics");
+    let versions: Vec<i64> = earlier
+        .iter()
+        .filter_map(|m| m["params"]["version"].as_i64())
+        .collect();
+    assert!(
+        versions.windows(2).all(|pair| pair[0] < pair[1]),
+        "{versions:?}"
+    );
+    assert!(versions.iter().all(|&version| version < 1001));
+    // the server's text is the client's: the outline shows the typed title exactly
+    let symbols = client.request_result(
+        "textDocument/documentSymbol",
+        json!({"textDocument": {"uri": uri}}),
+    );
+    let title = symbols
+        .as_array()
+        .and_then(|symbols| symbols.iter().find(|s| s["name"] == "title"))
+        .expect("title symbol");
+    let expected_title = {
+        let start = text.find("\"Departure").expect("title start") + 1;
+        let end = text[start..].find('"').expect("title end") + start;
+        text[start..end].to_string()
+    };
+    assert_eq!(title["detail"], expected_title);
+    assert_eq!(
+        expected_title.chars().count(),
+        "Departure delays against passengers".len() + 999
+    );
+    assert!(client.finish().success());
+}
+
+/// Bytes typed so far after the title (the typed characters cycle through `é🍏x`).
+fn typed_len(_text: &str, _title_end: usize, keystrokes: usize) -> usize {
+    let cycle = ["é", "🍏", "x"];
+    (0..keystrokes).map(|index| cycle[index % 3].len()).sum()
+}
+
+#[test]
+fn ten_megabyte_document_opens_edits_and_answers() {
+    // inline rows, about 10 MB of JSON
+    let mut text =
+        String::from("{\n  \"title\": \"Loaves baked per oven\",\n  \"source\": { \"rows\": [\n");
+    let mut row = 0;
+    while text.len() < 10 * 1024 * 1024 {
+        text.push_str(&format!(
+            "    {{\"oven\": \"oven-{}\", \"loaves\": {}, \"crust\": \"{}\"}},\n",
+            row % 7,
+            (row * 37) % 500,
+            ["pale", "golden", "dark"][row % 3]
+        ));
+        row += 1;
+    }
+    text.push_str("    {\"oven\": \"oven-0\", \"loaves\": 1, \"crust\": \"pale\"}\n  ] },\n  \"mark\": \"bar\",\n  \"bind\": { \"x\": \"oven\", \"y\": \"loaves\" }\n}\n");
+    let uri = "untitled:ovens.chart.json";
+    let mut client = start();
+    client.timeout = Duration::from_secs(120);
+    client.initialize(json!({}), None);
+    let opened = Instant::now();
+    client.open(uri, &text, 1);
+    let diagnostics = client.wait_for_publish(uri, 1);
+    let open_time = opened.elapsed();
+    assert!(
+        !codes(&diagnostics).contains(&"syntax-error".to_string()),
+        "{diagnostics:?}"
+    );
+    // break the JSON at the very end with an incremental edit
+    let end = utf16_position(&text, text.len());
+    client.change_range(uri, 2, json!({"start": end, "end": end}), "}");
+    let diagnostics = client.wait_for_publish(uri, 2);
+    let syntax = find_code(&diagnostics, "syntax-error");
+    assert_eq!(syntax["range"]["start"], end);
+    let hover = client.request(
+        "textDocument/hover",
+        json!({"textDocument": {"uri": uri}, "position": {"line": 1, "character": 5}}),
+    );
+    assert!(hover.get("error").is_none());
+    eprintln!("10 MB document: first diagnostics after {open_time:?}");
+    assert!(client.finish().success());
+}
+
+#[test]
+fn watched_data_file_changes_republish_the_specs_that_read_them() {
+    let workspace = Workspace::new();
+    let uri = workspace.uri("late.chart.json");
+    let text = "{\n  \"source\": { \"path\": \"arrivals.csv\" },\n  \"mark\": \"bar\",\n  \"bind\": { \"x\": \"route\", \"y\": \"passengers\" }\n}\n";
+    let mut client = start();
+    let capabilities =
+        json!({"workspace": {"didChangeWatchedFiles": {"dynamicRegistration": true}}});
+    client.initialize(capabilities, Some(&workspace.root_uri()));
+    client.open(&uri, text, 1);
+    let before = client.wait_for_publish(&uri, 1);
+    assert!(
+        codes(&before).contains(&"missing-source".to_string()),
+        "{before:#?}"
+    );
+    let registration = client
+        .server_requests
+        .iter()
+        .find(|request| request["method"] == "client/registerCapability")
+        .unwrap_or_else(|| panic!("file watchers registered: {:?}", client.server_requests))
+        .clone();
+    assert_eq!(
+        registration["params"]["registrations"][0]["method"],
+        "workspace/didChangeWatchedFiles"
+    );
+    // the file appears: created event → the spec is analysed again and republished
+    let data_path = workspace.path("arrivals.csv");
+    std::fs::write(&data_path, FERRY_CSV).expect("write data");
+    client.notify(
+        "workspace/didChangeWatchedFiles",
+        json!({"changes": [{"uri": file_uri(&data_path), "type": 1}]}),
+    );
+    let after = client.wait_for_publish(&uri, 1);
+    assert_ne!(before, after, "the diagnostics changed with the data file");
+    assert!(client.finish().success());
+}
+
+#[test]
+fn editor_configuration_changes_rule_severities() {
+    let workspace = Workspace::new();
+    let uri = workspace.uri("quiet.chart.json");
+    let mut client = start();
+    client.configuration_response = json!({"rules": {"unknown-key": "off"}});
+    client.initialize(
+        json!({"workspace": {"configuration": true}}),
+        Some(&workspace.root_uri()),
+    );
+    // wait until the server asked for the configuration before opening
+    let asked = Instant::now();
+    while !client
+        .server_requests
+        .iter()
+        .any(|request| request["method"] == "workspace/configuration")
+    {
+        assert!(
+            asked.elapsed() < Duration::from_secs(10),
+            "configuration requested"
+        );
+        client.settle(Duration::from_millis(20));
+    }
+    client.open(&uri, FERRY_SPEC_WITH_TYPO, 1);
+    let diagnostics = client.wait_for_publish(&uri, 1);
+    assert!(
+        !codes(&diagnostics).contains(&"unknown-key".to_string()),
+        "{diagnostics:#?}"
+    );
+    // a pushed change of settings (clients without workspace/configuration) turns it back on
+    // here the server pulls again, and gets severity `warning`
+    client.configuration_response = json!({"rules": {"unknown-key": "warning"}});
+    client.notify("workspace/didChangeConfiguration", json!({"settings": {}}));
+    let message = client.wait_for("republished diagnostics", |m| {
+        m["method"] == "textDocument/publishDiagnostics" && m["params"]["uri"] == uri
+    });
+    let diagnostics = message["params"]["diagnostics"]
+        .as_array()
+        .cloned()
+        .unwrap_or_default();
+    assert_eq!(find_code(&diagnostics, "unknown-key")["severity"], 2);
+    assert!(client.finish().success());
+}
+
+#[test]
+fn shutdown_and_exit_with_null_params_are_accepted() {
+    // LSP 3.17: `shutdown` and `exit` have void params; some clients send `"params": null`
+    let mut client = start();
+    client.initialize(json!({}), None);
+    client.send(&json!({"jsonrpc": "2.0", "id": 77, "method": "shutdown", "params": null}));
+    let response = client.wait_for("shutdown response", |m| m["id"] == 77);
+    assert!(response.get("error").is_none(), "{response}");
+    client.send(&json!({"jsonrpc": "2.0", "method": "exit", "params": null}));
+    assert_eq!(client.wait_exit().code(), Some(0));
+}
