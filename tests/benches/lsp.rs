@@ -12,7 +12,7 @@
 //! Targets (issue 5): typical median < 5 ms, p99 < 20 ms; memory < 50 MiB. Figures are printed,
 //! not asserted: this is a benchmark, not a timed test.
 
-#[path = "support/lsp_client.rs"]
+#[path = "../support/lsp_client.rs"]
 mod lsp_client;
 
 use std::path::Path;
@@ -106,7 +106,8 @@ fn run(name: &str, text: &str) -> (Vec<Duration>, Option<u64>) {
     let first_publish = opened.elapsed();
     let memory = resident_memory_kib(client.pid());
     let mut document = text.to_string();
-    let mut insert_at = document.find("winter timetable").expect("title") + "winter timetable".len();
+    let mut insert_at =
+        document.find("winter timetable").expect("title") + "winter timetable".len();
     let mut latencies = Vec::with_capacity(KEYSTROKES);
     let typed = " and summer";
     for keystroke in 0..KEYSTROKES {
@@ -128,7 +129,10 @@ fn run(name: &str, text: &str) -> (Vec<Duration>, Option<u64>) {
         document.insert(insert_at, character);
         insert_at += character.len_utf8();
     }
-    eprintln!("{name}: {} bytes, first diagnostics after {first_publish:?}", text.len());
+    eprintln!(
+        "{name}: {} bytes, first diagnostics after {first_publish:?}",
+        text.len()
+    );
     assert!(client.finish().success());
     (latencies, memory)
 }
