@@ -169,7 +169,12 @@ fn nesting_far_beyond_the_bound_is_one_error_node_without_stack_overflow() {
     objects.push_str(&"}".repeat(depth));
     let tree = parse_with_time_limit("a million nested objects", objects.clone());
     syntax_support::check_tree_invariants(&objects, &tree).expect("invariants hold");
-    assert_eq!(tree.errors().len(), 1, "{:?}", &tree.errors()[..3.min(tree.errors().len())]);
+    assert_eq!(
+        tree.errors().len(),
+        1,
+        "{:?}",
+        &tree.errors()[..3.min(tree.errors().len())]
+    );
 }
 
 #[test]

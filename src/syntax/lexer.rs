@@ -148,9 +148,7 @@ impl Lexer<'_> {
                 0x00..=0x1F => {
                     self.error(
                         TextRange::new(offset, offset + 1),
-                        format!(
-                            "control character U+{byte:04X} in string, write it as an escape"
-                        ),
+                        format!("control character U+{byte:04X} in string, write it as an escape"),
                     );
                     offset += 1;
                 }
@@ -301,22 +299,8 @@ fn continues_word(character: char) -> bool {
 fn is_stray(character: char) -> bool {
     !matches!(
         character,
-        ' ' | '\t'
-            | '\r'
-            | '\n'
-            | '{'
-            | '}'
-            | '['
-            | ']'
-            | ':'
-            | ','
-            | '"'
-            | '\''
-            | '/'
-            | '0'..='9'
-            | '-'
-            | '+'
-            | '.'
+        ' ' | '\t' | '\r' | '\n' | '{' | '}' | '[' | ']' | ':' | ',' | '"' | '\'' | '/' | '0'
+            ..='9' | '-' | '+' | '.'
     ) && !starts_word(character)
 }
 

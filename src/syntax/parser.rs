@@ -254,8 +254,7 @@ impl<'t> Parser<'t> {
                 }
                 TokenKind::RBracket => {
                     self.report_trailing_comma(expecting_member, last_comma);
-                    self.builder
-                        .error(token.range, "expected `}`, found `]`");
+                    self.builder.error(token.range, "expected `}`, found `]`");
                     self.bump();
                     break;
                 }
@@ -333,7 +332,10 @@ impl<'t> Parser<'t> {
         );
 
         self.skip_trivia();
-        let Some(colon) = self.current().filter(|token| token.kind == TokenKind::Colon) else {
+        let Some(colon) = self
+            .current()
+            .filter(|token| token.kind == TokenKind::Colon)
+        else {
             self.builder.error(key_range, "expected `:` after key");
             if self.value_follows_without_colon() {
                 self.parse_value();
@@ -343,14 +345,15 @@ impl<'t> Parser<'t> {
         };
         self.bump();
         self.skip_trivia();
-        while let Some(extra_colon) = self.current().filter(|token| token.kind == TokenKind::Colon)
+        while let Some(extra_colon) = self
+            .current()
+            .filter(|token| token.kind == TokenKind::Colon)
         {
             self.stray_token_node(extra_colon);
             self.skip_trivia();
         }
         if !self.parse_value() {
-            self.builder
-                .error(colon.range, "missing value after `:`");
+            self.builder.error(colon.range, "missing value after `:`");
         }
         self.builder.finish_node();
     }
@@ -401,15 +404,13 @@ impl<'t> Parser<'t> {
                 }
                 TokenKind::RBrace => {
                     self.report_trailing_comma(expecting_value, last_comma);
-                    self.builder
-                        .error(token.range, "expected `]`, found `}`");
+                    self.builder.error(token.range, "expected `]`, found `}`");
                     self.bump();
                     break;
                 }
                 TokenKind::Comma => {
                     if expecting_value {
-                        self.builder
-                            .error(token.range, "missing value before `,`");
+                        self.builder.error(token.range, "missing value before `,`");
                     }
                     self.bump();
                     last_comma = Some(token.range);
@@ -506,5 +507,465 @@ impl<'t> SeenKeys<'t> {
             self.many = Some(self.few.drain(..).collect());
         }
         true
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::syntax::tree::Node;
+
+    /// Parse a fixture and compare its errors with the annotations in it.
+    ///
+    /// A fixture line made of spaces, carets and a message annotates the line above it: the
+    /// carets mark the error's byte range on that line. The other lines, joined by `\n`, are the
+    /// input. Returns the tree for structure checks.
+    fn check(fixture: &str) -> SyntaxTree {
+        let mut input = String::new();
+        let mut expected: Vec<(TextRange, String)> = Vec::new();
+        let mut last_line_start = 0;
+        for line in fixture.trim_matches('\n').lines() {
+            let trimmed = line.trim_start();
+            if trimmed.starts_with('^') {
+                let caret_start = line.len() - trimmed.len();
+                let carets = trimmed.len() - trimmed.trim_start_matches('^').len();
+                let message = trimmed.trim_start_matches('^').trim().to_string();
+                let start = last_line_start + caret_start;
+                expected.push((TextRange::new(start, start + carets), message));
+                continue;
+            }
+            if !input.is_empty() {
+                input.push('\n');
+            }
+            last_line_start = input.len();
+            input.push_str(line);
+        }
+        let tree = parse(&input);
+        let mut actual: Vec<(TextRange, String)> = tree
+            .errors()
+            .iter()
+            .map(|error| (error.range, error.message.clone()))
+            .collect();
+        expected.sort_by_key(|(range, _)| (range.start, range.end));
+        actual.sort_by_key(|(range, _)| (range.start, range.end));
+        let show = |errors: &[(TextRange, String)]| -> Vec<String> {
+            errors
+                .iter()
+                .map(|(range, message)| {
+                    format!(
+                        "{:?} `{}`: {message}",
+                        range,
+                        &input[range.start..range.end]
+                    )
+                })
+                .collect()
+        };
+        assert_eq!(show(&actual), show(&expected), "input:\n{input}");
+        let concatenated: String = tree
+            .tokens()
+            .iter()
+            .map(|token| &input[token.range.start..token.range.end])
+            .collect();
+        assert_eq!(concatenated, input, "the tokens cover the input");
+        tree
+    }
+
+    fn root(tree: &SyntaxTree) -> Node<'_> {
+        tree.root_value().expect("the document has a value")
+    }
+
+    fn number(node: Option<Node<'_>>) -> Option<f64> {
+        node.and_then(|node| node.as_f64())
+    }
+
+    fn keys(node: Node<'_>) -> Vec<Option<String>> {
+        node.members()
+            .map(|member| member.key_text().map(|key| key.into_owned()))
+            .collect()
+    }
+
+    #[test]
+    fn valid_documents_have_no_errors_and_the_expected_structure() {
+        let tree = check(
+            r#"
+{"mark": "bar", "bind": {"x": "orchard", "y": {"column": "crates", "bins": 12}},
+ "emphasis": ["crates", "row\u00e9"], "frame": {"width": 640.5, "zero": true, "n": null}}
+"#,
+        );
+        let spec = root(&tree);
+        assert_eq!(spec.kind(), NodeKind::Object);
+        assert_eq!(
+            spec.get("mark").and_then(|mark| mark.as_str()).as_deref(),
+            Some("bar")
+        );
+        let y = spec.get("bind").and_then(|bind| bind.get("y"));
+        assert_eq!(number(y.and_then(|y| y.get("bins"))), Some(12.0));
+        let emphasis: Vec<String> = spec
+            .get("emphasis")
+            .map(|array| {
+                array
+                    .elements()
+                    .filter_map(|e| e.as_str())
+                    .map(|s| s.into_owned())
+                    .collect()
+            })
+            .unwrap_or_default();
+        assert_eq!(emphasis, vec!["crates".to_string(), "rowé".to_string()]);
+        let frame = spec.get("frame");
+        assert_eq!(number(frame.and_then(|f| f.get("width"))), Some(640.5));
+        assert_eq!(
+            frame.and_then(|f| f.get("zero")).and_then(|z| z.as_bool()),
+            Some(true)
+        );
+        assert!(frame.and_then(|f| f.get("n")).is_some_and(|n| n.is_null()));
+    }
+
+    #[test]
+    fn a_leading_byte_order_mark_is_accepted() {
+        // RFC 8259 section 8.1: a parser MAY ignore a byte-order mark
+        let tree = check("\u{FEFF}[1]");
+        assert_eq!(root(&tree).elements().count(), 1);
+    }
+
+    #[test]
+    fn empty_documents() {
+        let tree = parse("");
+        assert_eq!(tree.errors().len(), 1);
+        assert_eq!(tree.errors()[0].message, "empty document");
+        assert_eq!(tree.errors()[0].range, TextRange::new(0, 0));
+        check(
+            r#"
+   
+^^^ empty document
+"#,
+        );
+    }
+
+    #[test]
+    fn missing_commas_are_inserted_virtually() {
+        let tree = check(
+            r#"
+{"mark": "bar" "bind": {}}
+               ^^^^^^ expected `,` between members
+"#,
+        );
+        let spec = root(&tree);
+        assert_eq!(keys(spec), vec![Some("mark".into()), Some("bind".into())]);
+        assert_eq!(
+            spec.get("mark").and_then(|m| m.as_str()).as_deref(),
+            Some("bar")
+        );
+        assert_eq!(spec.get("bind").map(|b| b.kind()), Some(NodeKind::Object));
+
+        let tree = check(
+            r#"
+[1 2, 3]
+   ^ expected `,` between elements
+"#,
+        );
+        let values: Vec<f64> = root(&tree).elements().filter_map(|e| e.as_f64()).collect();
+        assert_eq!(values, vec![1.0, 2.0, 3.0]);
+    }
+
+    #[test]
+    fn missing_colons() {
+        let tree = check(
+            r#"
+{"a" 1, "b": 2}
+ ^^^ expected `:` after key
+"#,
+        );
+        assert_eq!(number(root(&tree).get("a")), Some(1.0));
+        assert_eq!(number(root(&tree).get("b")), Some(2.0));
+
+        // the string is followed by `:`, so it is the next key, not the value
+        let tree = check(
+            r#"
+{"a" "b": 2}
+ ^^^ expected `:` after key
+     ^^^ expected `,` between members
+"#,
+        );
+        assert_eq!(keys(root(&tree)), vec![Some("a".into()), Some("b".into())]);
+        assert_eq!(root(&tree).get("a"), None);
+        assert_eq!(number(root(&tree).get("b")), Some(2.0));
+
+        check(
+            r#"
+{"a"}
+ ^^^ expected `:` after key
+"#,
+        );
+    }
+
+    #[test]
+    fn missing_values() {
+        let tree = check(
+            r#"
+{"a": , "b": 2, "c":}
+    ^ missing value after `:`
+                   ^ missing value after `:`
+"#,
+        );
+        assert_eq!(keys(root(&tree)).len(), 3);
+        assert_eq!(root(&tree).get("a"), None);
+        assert_eq!(number(root(&tree).get("b")), Some(2.0));
+
+        let tree = check(
+            r#"
+[,1,,2,]
+ ^ missing value before `,`
+    ^ missing value before `,`
+      ^ trailing comma
+"#,
+        );
+        assert_eq!(root(&tree).elements().count(), 2);
+    }
+
+    #[test]
+    fn keys_that_are_not_double_quoted_strings() {
+        let tree = check(
+            r#"
+{mark: "bar", 'bind': {}, "ok": 1}
+ ^^^^ unquoted key `mark`, keys need double quotes
+              ^^^^^^ single-quoted key, keys need double quotes
+"#,
+        );
+        let spec = root(&tree);
+        let members: Vec<_> = spec.members().collect();
+        assert_eq!(members.len(), 3);
+        // a member whose key is an error node has no key, but keeps its value
+        assert_eq!(members[0].key(), None);
+        assert_eq!(
+            members[0].value().and_then(|v| v.as_str()).as_deref(),
+            Some("bar")
+        );
+        assert_eq!(members[1].value().map(|v| v.kind()), Some(NodeKind::Object));
+        assert_eq!(number(spec.get("ok")), Some(1.0));
+
+        let tree = check(
+            r#"
+{: "x", 1: 2, [3]: 4}
+ ^ missing key before `:`
+        ^ keys must be strings in double quotes
+              ^^^ keys must be strings in double quotes
+"#,
+        );
+        let members: Vec<_> = root(&tree).members().collect();
+        assert_eq!(members.len(), 3);
+        assert_eq!(members[0].key(), None);
+        assert_eq!(
+            members[0].value().and_then(|v| v.as_str()).as_deref(),
+            Some("x")
+        );
+        assert_eq!(number(members[1].value()), Some(2.0));
+        assert_eq!(number(members[2].value()), Some(4.0));
+    }
+
+    #[test]
+    fn values_that_are_not_json() {
+        let tree = check(
+            r#"
+["a", 'b', tru, True, NaN, bar, @#]
+      ^^^ single-quoted string, JSON strings need double quotes
+           ^^^ incomplete literal `tru`, expected `true`
+                ^^^^ literals are lowercase: expected `true`
+                      ^^^ `NaN` is not a JSON value
+                           ^^^ unknown word `bar`, strings need double quotes
+                                ^^ unexpected characters `@#`
+"#,
+        );
+        // error values take a place between the commas but are not elements
+        assert_eq!(root(&tree).elements().count(), 1);
+        assert_eq!(root(&tree).children().count(), 7);
+    }
+
+    #[test]
+    fn trailing_commas() {
+        let tree = check(
+            r#"
+{"a": [1, 2,], "b": 3,}
+           ^ trailing comma
+                     ^ trailing comma
+"#,
+        );
+        assert_eq!(root(&tree).get("a").map(|a| a.elements().count()), Some(2));
+        check(
+            r#"
+{"a": 1,,}
+        ^ expected a member before `,`
+        ^ trailing comma
+"#,
+        );
+    }
+
+    #[test]
+    fn stray_tokens_are_wrapped_in_error_nodes() {
+        let tree = check(
+            r#"
+[1 : 2]
+   ^ unexpected `:`
+     ^ expected `,` between elements
+"#,
+        );
+        assert_eq!(root(&tree).elements().count(), 2);
+        let tree = check(
+            r#"
+{"a":: 1}
+     ^ unexpected `:`
+"#,
+        );
+        assert_eq!(number(root(&tree).get("a")), Some(1.0));
+        let tree = check(
+            r#"
+], {"a": 1}
+^ unexpected `]`
+ ^ unexpected `,`
+"#,
+        );
+        assert_eq!(number(root(&tree).get("a")), Some(1.0));
+    }
+
+    #[test]
+    fn unclosed_containers_at_the_end() {
+        let tree = check(
+            r#"
+{"a": [1, 2
+      ^ unclosed array: expected `]`
+^ unclosed object: expected `}`
+"#,
+        );
+        assert_eq!(root(&tree).get("a").map(|a| a.elements().count()), Some(2));
+        check(
+            r#"
+{"a": {"b": 1}, "c": "open
+                     ^^^^^ unterminated string
+^ unclosed object: expected `}`
+"#,
+        );
+    }
+
+    #[test]
+    fn mismatched_closers_close_the_inner_container() {
+        let tree = check(
+            r#"
+{"a": [1, 2}, "b": 3}
+      ^ unclosed array: expected `]`
+            ^^^^^^^^^ unexpected content after the document
+"#,
+        );
+        // the `}` closes the object, so what follows is outside the document
+        assert_eq!(root(&tree).get("a").map(|a| a.elements().count()), Some(2));
+
+        let tree = check(
+            r#"
+[[{"a": 1], 2]
+  ^ unclosed object: expected `}`
+"#,
+        );
+        // the `]` closes the inner array, the outer one goes on
+        assert_eq!(root(&tree).elements().count(), 2);
+
+        // no enclosing object: the wrong closer closes the array
+        let tree = check(
+            r#"
+[1, 2}
+     ^ expected `]`, found `}`
+"#,
+        );
+        assert_eq!(root(&tree).elements().count(), 2);
+    }
+
+    #[test]
+    fn content_after_the_document() {
+        let tree = check(
+            r#"
+{"a": 1} {"b": 2} x
+         ^^^^^^^^^^ unexpected content after the document
+"#,
+        );
+        assert_eq!(number(root(&tree).get("a")), Some(1.0));
+        let last = tree.document().children().last();
+        assert_eq!(last.map(|node| node.kind()), Some(NodeKind::Error));
+    }
+
+    #[test]
+    fn duplicate_keys_are_reported_on_the_later_key() {
+        let tree = check(
+            r#"
+{"mark": "bar", "bind": {"x": 1, "x": 2}, "mark": "line", "m\u0061rk": 0}
+                                 ^^^ duplicate key `x`
+                                          ^^^^^^ duplicate key `mark`
+                                                          ^^^^^^^^^^^ duplicate key `mark`
+"#,
+        );
+        assert!(tree
+            .errors()
+            .iter()
+            .all(|error| error.kind == SyntaxErrorKind::DuplicateKey));
+        // the first member wins for `get`
+        assert_eq!(
+            root(&tree).get("mark").and_then(|m| m.as_str()).as_deref(),
+            Some("bar")
+        );
+        // many keys: the set takes over from the list
+        let many: Vec<String> = (0..40)
+            .map(|index| format!("\"k{index}\": {index}"))
+            .collect();
+        let text = format!("{{{}, \"k39\": 0}}", many.join(", "));
+        let tree = parse(&text);
+        assert_eq!(tree.errors().len(), 1);
+        assert_eq!(tree.errors()[0].message, "duplicate key `k39`");
+    }
+
+    #[test]
+    fn comments_are_trivia_but_errors() {
+        let tree = check(
+            r#"
+{"a": 1, // the count
+         ^^^^^^^^^^^^ comments are not allowed in JSON
+ "b": /* two */ 2}
+      ^^^^^^^^^ comments are not allowed in JSON
+"#,
+        );
+        assert_eq!(number(root(&tree).get("b")), Some(2.0));
+    }
+
+    #[test]
+    fn an_unterminated_string_ends_at_the_end_of_its_line() {
+        let tree = check(
+            r#"
+{"a": "open,
+      ^^^^^^ unterminated string
+ "b": 2}
+ ^^^ expected `,` between members
+"#,
+        );
+        assert_eq!(
+            root(&tree).get("a").and_then(|a| a.as_str()).as_deref(),
+            Some("open,")
+        );
+        assert_eq!(number(root(&tree).get("b")), Some(2.0));
+    }
+
+    #[test]
+    fn nesting_beyond_the_bound_is_one_error_node() {
+        let depth = MAX_NESTING_DEPTH + 10;
+        let text = format!("{}{}", "[".repeat(depth), "]".repeat(depth));
+        let tree = parse(&text);
+        assert_eq!(tree.errors().len(), 1);
+        assert_eq!(tree.errors()[0].message, "nesting deeper than 256 levels");
+        assert_eq!(
+            tree.errors()[0].range,
+            TextRange::new(MAX_NESTING_DEPTH, MAX_NESTING_DEPTH + 1)
+        );
+        // the innermost array that fits holds one error node
+        let mut node = root(&tree);
+        for _ in 1..MAX_NESTING_DEPTH {
+            node = node.elements().next().expect("nested array");
+        }
+        assert_eq!(node.kind(), NodeKind::Array);
+        let children: Vec<_> = node.children().map(|child| child.kind()).collect();
+        assert_eq!(children, vec![NodeKind::Error]);
     }
 }
