@@ -91,14 +91,12 @@ fn json_test_suite_cases_are_accepted_and_rejected_as_the_suite_says() {
             .iter()
             .filter(|error| error.kind == SyntaxErrorKind::Grammar)
             .collect();
-        if tree
+        let has_duplicate_keys = tree
             .errors()
             .iter()
-            .any(|error| error.kind == SyntaxErrorKind::DuplicateKey)
-        {
-            if case.file_name.starts_with("y_") {
-                y_with_duplicate_keys.push(case.file_name.as_str());
-            }
+            .any(|error| error.kind == SyntaxErrorKind::DuplicateKey);
+        if has_duplicate_keys && case.file_name.starts_with("y_") {
+            y_with_duplicate_keys.push(case.file_name.as_str());
         }
 
         if case.file_name.starts_with("y_") {
