@@ -242,8 +242,8 @@ impl<'t> Lexer<'t> {
         let end = if self.bytes.get(start + 1) == Some(&b'/') {
             self.skip_while(start + 2, |b| b != b'\n' && b != b'\r')
         } else {
-            match memchr::memmem::find(&self.bytes[start + 2..], b"*/") {
-                Some(found) => start + 2 + found + 2,
+            match find_block_comment_end(self.bytes, start + 2) {
+                Some(end) => end,
                 None => {
                     self.error(
                         TextRange::new(start, self.bytes.len()),
@@ -305,6 +305,19 @@ impl<'t> Lexer<'t> {
         let end = end.max(start + self.char_at(start).len_utf8());
         self.push_token(TokenKind::Error, end);
     }
+}
+
+/// The offset just after the first `*/` at or after `from`.
+fn find_block_comment_end(bytes: &[u8], from: usize) -> Option<usize> {
+    let mut offset = from;
+    while let Some(found) = memchr::memchr(b'*', bytes.get(offset..)?) {
+        let star = offset + found;
+        if bytes.get(star + 1) == Some(&b'/') {
+            return Some(star + 2);
+        }
+        offset = star + 1;
+    }
+    None
 }
 
 fn starts_word(character: char) -> bool {
@@ -562,6 +575,18 @@ mod tests {
             ]
         );
         assert_eq!(kinds_and_texts("/"), vec![(Error, "/")]);
+    }
+
+    #[test]
+    fn block_comments_end_at_the_first_star_slash() {
+        use TokenKind::*;
+        assert_eq!(
+            kinds_and_texts("/* a * b **/1/***/"),
+            vec![(Comment, "/* a * b **/"), (Number, "1"), (Comment, "/***/")]
+        );
+        // `/*/` opens a comment that never closes
+        assert_eq!(kinds_and_texts("/*/ 1"), vec![(Comment, "/*/ 1")]);
+        assert_eq!(error_messages("/*/ 1")[0].0, "unterminated comment");
     }
 
     #[test]
