@@ -529,13 +529,19 @@ mod tests {
     #[test]
     fn short_and_long_hex_forms_agree() {
         assert_eq!(parse_hex_colour("#f80"), parse_hex_colour("#FF8800"));
-        assert_eq!(parse_hex_colour("#4682b4").map(Srgb8::to_hex), Ok("#4682B4".into()));
+        assert_eq!(
+            parse_hex_colour("#4682b4").map(Srgb8::to_hex),
+            Ok("#4682B4".into())
+        );
     }
 
     #[test]
     fn bad_hex_is_an_error_not_a_panic() {
         assert_eq!(parse_hex_colour("ff8800"), Err(HexColourError::MissingHash));
-        assert_eq!(parse_hex_colour("#"), Err(HexColourError::WrongLength { digits: 0 }));
+        assert_eq!(
+            parse_hex_colour("#"),
+            Err(HexColourError::WrongLength { digits: 0 })
+        );
         assert_eq!(
             parse_hex_colour("#ff88"),
             Err(HexColourError::WrongLength { digits: 4 })

@@ -311,7 +311,10 @@ mod tests {
         // a summarised point is still a position
         let mut point_y = context(Mark::Point, Channel::Y);
         point_y.binding_is_summarised = true;
-        assert_eq!(perceived_channel(&point_y), PerceivedChannel::PositionCommonScale);
+        assert_eq!(
+            perceived_channel(&point_y),
+            PerceivedChannel::PositionCommonScale
+        );
     }
 
     #[test]
@@ -319,6 +322,9 @@ mod tests {
         let mut bar_x = context(Mark::Bar, Channel::X);
         bar_x.binding_is_summarised = true;
         bar_x.value_axis = Some(Channel::Y);
-        assert_eq!(perceived_channel(&bar_x), PerceivedChannel::PositionCommonScale);
+        assert_eq!(
+            perceived_channel(&bar_x),
+            PerceivedChannel::PositionCommonScale
+        );
     }
 }
