@@ -6,6 +6,7 @@
 //! 2. [`analyze`] runs the rules over the model and the profiles the front end loaded for it.
 
 pub mod config;
+pub mod facts;
 pub mod rules;
 
 use std::collections::HashMap;
@@ -43,6 +44,7 @@ pub fn parse_document(text: &str) -> ParsedDocument {
         .collect();
     let (spec, model_diagnostics) = crate::spec::lower_document(&tree);
     diagnostics.extend(model_diagnostics);
+    diagnostics.extend(crate::spec::schema::check_schema(&tree));
     ParsedDocument {
         tree,
         spec,
