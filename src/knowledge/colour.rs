@@ -397,6 +397,11 @@ pub fn ciede2000_with_weights(first: Lab, second: Lab, weights: Ciede2000Weights
         .sqrt()
 }
 
+/// CIEDE2000 (reference weights) between two 8-bit colours, through CIELAB under D65.
+pub fn ciede2000_between(first: Srgb8, second: Srgb8) -> f64 {
+    ciede2000(first.to_lab(), second.to_lab())
+}
+
 /// The three dichromacies simulated with the severity-1.0 matrices.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum ColourVisionDeficiency {

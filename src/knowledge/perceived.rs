@@ -157,6 +157,12 @@ impl PerceivedChannel {
     }
 }
 
+impl std::fmt::Display for PerceivedChannel {
+    fn fmt(&self, formatter: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        formatter.write_str(self.description())
+    }
+}
+
 /// Everything [`perceived_channel`] needs to know about one binding.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct ChannelContext {
