@@ -318,7 +318,7 @@ impl<'t> Member<'t> {
 /// Unescape a JSON string literal as written (with its quotes, the closing one possibly missing).
 pub fn unescape_string_literal(literal: &str) -> Cow<'_, str> {
     let inner = literal.strip_prefix('"').unwrap_or(literal);
-    let inner = if inner.len() > 0 && inner.ends_with('"') && !ends_with_escaped_quote(inner) {
+    let inner = if !inner.is_empty() && inner.ends_with('"') && !ends_with_escaped_quote(inner) {
         &inner[..inner.len() - 1]
     } else {
         inner
