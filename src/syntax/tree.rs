@@ -81,6 +81,17 @@ struct NodeData {
 pub struct SyntaxError {
     pub range: TextRange,
     pub message: String,
+    pub kind: SyntaxErrorKind,
+}
+
+/// Whether an error breaks the JSON grammar, or is legal JSON that a chart spec still rejects.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum SyntaxErrorKind {
+    /// The text is not JSON (RFC 8259 grammar).
+    Grammar,
+    /// A key repeated in one object. RFC 8259 section 4 only says names SHOULD be unique, so the
+    /// text is valid JSON, but readers disagree on which value wins, so a spec must not do it.
+    DuplicateKey,
 }
 
 /// The result of parsing: never fails. Bad input sits in `Error` nodes and in `errors`.
@@ -490,17 +501,32 @@ impl TreeBuilder {
         // a node without tokens keeps the empty range where it was opened
     }
 
+    /// Report a grammar error.
     pub fn error(&mut self, range: TextRange, message: impl Into<String>) {
+        self.error_of_kind(SyntaxErrorKind::Grammar, range, message);
+    }
+
+    pub fn error_of_kind(
+        &mut self,
+        kind: SyntaxErrorKind,
+        range: TextRange,
+        message: impl Into<String>,
+    ) {
         self.errors.push(SyntaxError {
             range,
             message: message.into(),
+            kind,
         });
     }
 
+    /// Close all open nodes and return the tree; its errors are sorted by position (stable, so
+    /// errors at the same place keep the order they were reported in).
     pub fn finish(mut self) -> SyntaxTree {
         while !self.open.is_empty() {
             self.close_innermost();
         }
+        self.errors
+            .sort_by_key(|error| (error.range.start, error.range.end));
         let end = self.text.len();
         if let Some(document) = self.nodes.first_mut() {
             document.range = TextRange::new(0, end);
