@@ -1,5 +1,5 @@
 //! Benchmark: analysis time (parse, lower, schema, all rules) with data profiles cached, for a
-//! typical demo spec and for a generated 1 MB spec. Run with `cargo bench --bench analysis`.
+//! typical demo spec and for a generated 1 MB spec. Run with `cargo bench --bench analysis` (it lives under `tests/benches/` so that it is not also built as a test).
 //! Prints figures; asserts nothing about time.
 
 use std::path::{Path, PathBuf};
