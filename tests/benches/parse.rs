@@ -1,10 +1,6 @@
 //! Benchmark: parsing (and parsing + lowering) a ~1 MB chart spec, against
 //! `serde_json::from_str::<serde_json::Value>` on the same text. Run with
 //! `cargo bench --bench parse`; it prints figures and asserts nothing about speed.
-//!
-//! Cargo also finds this file as an integration test (an empty one: the test harness ignores
-//! `main`), hence the `dead_code` allowance under `cfg(test)`.
-#![cfg_attr(test, allow(dead_code))]
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
