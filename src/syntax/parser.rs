@@ -5,6 +5,23 @@
 //!
 //! Trivia (whitespace, comments) goes to the innermost node open when it is met: leading trivia
 //! is pushed before a node starts, so it belongs to the parent.
+//!
+//! Recovery, in short (the unit tests below show each case with its messages and ranges):
+//! - a missing `,` between members or elements is reported on the next item, which is parsed;
+//! - a key without `:` takes the following value (`"a" 1`), unless that is a string followed
+//!   by `:`, which starts the next member (`"a" "b": 1`);
+//! - a missing value (`"a": ,`) leaves a member without value; a key that is not a
+//!   double-quoted string (`mark:`, `'mark':`, `1:`) sits in an `Error` node in the key's place,
+//!   so the member still has its value (`Member::key` is `None`);
+//! - words (`tru`, `NaN`), single-quoted strings and stray characters are `Error` nodes where a
+//!   value stands; stray `:`/`,`/closers are `Error` nodes too;
+//! - a closer of the wrong kind closes the current container when an enclosing container of
+//!   its kind is open (`{"a": [1}` closes the array, then the object), otherwise it is taken as
+//!   the current container's closer (`[1}`);
+//! - containers still open at the end are reported at their opening bracket;
+//! - content after the top-level value is one `Error` node;
+//! - containers nested deeper than [`MAX_NESTING_DEPTH`] are one `Error` node each, skipped by
+//!   counting brackets, so recursion stays bounded whatever the input.
 
 use std::borrow::Cow;
 use std::collections::{HashSet, VecDeque};
