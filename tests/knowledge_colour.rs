@@ -242,6 +242,15 @@ fn severity_one_matrices_equal_the_published_table() {
             let sum: f64 = matrix_row.iter().sum();
             assert!((sum - 1.0).abs() <= 1e-6 + 1e-12, "{row:?}");
         }
+        // severity 0.0 is normal vision: the identity matrix (SOURCES.md section 3)
+        if row[1] == "0.0" {
+            assert_eq!(
+                values,
+                [1.0, 0.0, 0.0, 0.0, 1.0, 0.0, 0.0, 0.0, 1.0],
+                "{}",
+                row[0]
+            );
+        }
         if row[1] != "1.0" {
             continue;
         }

@@ -5,6 +5,7 @@
 //! 1. [`parse_document`] parses and lowers the text (syntax, schema and model diagnostics);
 //! 2. [`analyze`] runs the rules over the model and the profiles the front end loaded for it.
 
+pub mod channels;
 pub mod config;
 pub mod facts;
 pub mod rules;

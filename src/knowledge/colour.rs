@@ -397,6 +397,11 @@ pub fn ciede2000_with_weights(first: Lab, second: Lab, weights: Ciede2000Weights
         .sqrt()
 }
 
+/// CIEDE2000 (reference weights) between two 8-bit colours, through CIELAB under D65.
+pub fn ciede2000_between(first: Srgb8, second: Srgb8) -> f64 {
+    ciede2000(first.to_lab(), second.to_lab())
+}
+
 /// The three dichromacies simulated with the severity-1.0 matrices.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum ColourVisionDeficiency {
@@ -529,13 +534,19 @@ mod tests {
     #[test]
     fn short_and_long_hex_forms_agree() {
         assert_eq!(parse_hex_colour("#f80"), parse_hex_colour("#FF8800"));
-        assert_eq!(parse_hex_colour("#4682b4").map(Srgb8::to_hex), Ok("#4682B4".into()));
+        assert_eq!(
+            parse_hex_colour("#4682b4").map(Srgb8::to_hex),
+            Ok("#4682B4".into())
+        );
     }
 
     #[test]
     fn bad_hex_is_an_error_not_a_panic() {
         assert_eq!(parse_hex_colour("ff8800"), Err(HexColourError::MissingHash));
-        assert_eq!(parse_hex_colour("#"), Err(HexColourError::WrongLength { digits: 0 }));
+        assert_eq!(
+            parse_hex_colour("#"),
+            Err(HexColourError::WrongLength { digits: 0 })
+        );
         assert_eq!(
             parse_hex_colour("#ff88"),
             Err(HexColourError::WrongLength { digits: 4 })

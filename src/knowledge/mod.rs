@@ -38,18 +38,21 @@ pub mod citations {
 
     pub const BERTIN_1967: Citation = Citation {
         short: "Bertin (1967)",
-        full: "Bertin, J. (1967). Sémiologie graphique. Paris: Gauthier-Villars. English translation \
+        full:
+            "Bertin, J. (1967). Sémiologie graphique. Paris: Gauthier-Villars. English translation \
                (1983, 2010): Semiology of Graphics. Redlands: Esri Press.",
     };
     pub const CLEVELAND_MCGILL_1984: Citation = Citation {
         short: "Cleveland & McGill (1984)",
-        full: "Cleveland, W. S. & McGill, R. (1984). Graphical perception: theory, experimentation, \
+        full:
+            "Cleveland, W. S. & McGill, R. (1984). Graphical perception: theory, experimentation, \
                and application to the development of graphical methods. Journal of the American \
                Statistical Association 79(387), 531-554.",
     };
     pub const MACKINLAY_1986: Citation = Citation {
         short: "Mackinlay (1986)",
-        full: "Mackinlay, J. (1986). Automating the design of graphical presentations of relational \
+        full:
+            "Mackinlay, J. (1986). Automating the design of graphical presentations of relational \
                information. ACM Transactions on Graphics 5(2), 110-141.",
     };
     pub const MUNZNER_2014: Citation = Citation {
@@ -59,7 +62,8 @@ pub mod citations {
     };
     pub const STEVENS_1957: Citation = Citation {
         short: "Stevens (1957)",
-        full: "Stevens, S. S. (1957). On the psychophysical law. Psychological Review 64(3), 153-181.",
+        full:
+            "Stevens, S. S. (1957). On the psychophysical law. Psychological Review 64(3), 153-181.",
     };
     pub const STEVENS_1975: Citation = Citation {
         short: "Stevens (1975)",
@@ -95,7 +99,8 @@ pub mod citations {
     };
     pub const MACHADO_OLIVEIRA_FERNANDES_2009: Citation = Citation {
         short: "Machado, Oliveira & Fernandes (2009)",
-        full: "Machado, G. M., Oliveira, M. M. & Fernandes, L. A. F. (2009). A physiologically-based \
+        full:
+            "Machado, G. M., Oliveira, M. M. & Fernandes, L. A. F. (2009). A physiologically-based \
                model for simulation of color vision deficiency. IEEE Transactions on Visualization \
                and Computer Graphics 15(6), 1291-1298. doi:10.1109/TVCG.2009.113",
     };

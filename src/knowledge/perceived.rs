@@ -157,6 +157,12 @@ impl PerceivedChannel {
     }
 }
 
+impl std::fmt::Display for PerceivedChannel {
+    fn fmt(&self, formatter: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        formatter.write_str(self.description())
+    }
+}
+
 /// Everything [`perceived_channel`] needs to know about one binding.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct ChannelContext {
@@ -311,7 +317,10 @@ mod tests {
         // a summarised point is still a position
         let mut point_y = context(Mark::Point, Channel::Y);
         point_y.binding_is_summarised = true;
-        assert_eq!(perceived_channel(&point_y), PerceivedChannel::PositionCommonScale);
+        assert_eq!(
+            perceived_channel(&point_y),
+            PerceivedChannel::PositionCommonScale
+        );
     }
 
     #[test]
@@ -319,6 +328,9 @@ mod tests {
         let mut bar_x = context(Mark::Bar, Channel::X);
         bar_x.binding_is_summarised = true;
         bar_x.value_axis = Some(Channel::Y);
-        assert_eq!(perceived_channel(&bar_x), PerceivedChannel::PositionCommonScale);
+        assert_eq!(
+            perceived_channel(&bar_x),
+            PerceivedChannel::PositionCommonScale
+        );
     }
 }

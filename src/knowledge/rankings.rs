@@ -83,7 +83,11 @@ impl RankedList {
 
     /// Number of distinct levels.
     pub fn level_count(&self) -> u8 {
-        self.entries.iter().map(|entry| entry.level).max().unwrap_or(0)
+        self.entries
+            .iter()
+            .map(|entry| entry.level)
+            .max()
+            .unwrap_or(0)
     }
 }
 
@@ -180,7 +184,6 @@ const fn entry(level: u8, channel: PerceivedChannel, published_term: &'static st
     }
 }
 
-
 /// Mackinlay (1986), ranking of perceptual tasks for quantitative, ordinal and nominal data
 /// (from memory of the paper's figure). Mackinlay has a single "position": both of our
 /// position channels map to it and share level 1. His "density" (grey-scale density) is our
@@ -274,7 +277,11 @@ pub static CLEVELAND_MCGILL_1984: Ranking = Ranking {
         serves: &[RankedGroup::Quantitative],
         entries: &[
             entry(1, P::PositionCommonScale, "position along a common scale"),
-            entry(2, P::PositionUnalignedScale, "position along non-aligned scales"),
+            entry(
+                2,
+                P::PositionUnalignedScale,
+                "position along non-aligned scales",
+            ),
             entry(3, P::Length, "length"),
             entry(3, P::Tilt, "direction"),
             entry(3, P::Angle, "angle"),
@@ -345,13 +352,24 @@ mod tests {
                 assert_eq!(list.entries[0].level, 1, "{} {}", ranking.id, list.name);
                 for pair in list.entries.windows(2) {
                     let step = pair[1].level - pair[0].level;
-                    assert!(step <= 1, "{} {}: levels must not skip", ranking.id, list.name);
+                    assert!(
+                        step <= 1,
+                        "{} {}: levels must not skip",
+                        ranking.id,
+                        list.name
+                    );
                 }
                 let mut channels: Vec<PerceivedChannel> =
                     list.entries.iter().map(|e| e.channel).collect();
                 channels.sort_unstable();
                 channels.dedup();
-                assert_eq!(channels.len(), list.entries.len(), "{} {}", ranking.id, list.name);
+                assert_eq!(
+                    channels.len(),
+                    list.entries.len(),
+                    "{} {}",
+                    ranking.id,
+                    list.name
+                );
                 assert!(
                     list.entry(PerceivedChannel::Text).is_none(),
                     "text is never ranked"

@@ -119,8 +119,7 @@ pub fn flannery_compensated_radius(
     reference_value: f64,
     reference_radius: f64,
 ) -> Option<f64> {
-    if !(value > 0.0 && reference_value > 0.0 && value.is_finite() && reference_value.is_finite())
-    {
+    if !(value > 0.0 && reference_value > 0.0 && value.is_finite() && reference_value.is_finite()) {
         return None;
     }
     Some(reference_radius * (value / reference_value).powf(FLANNERY_RADIUS_EXPONENT))
@@ -161,7 +160,9 @@ pub fn lie_factor(size_of_effect_in_graphic: f64, size_of_effect_in_data: f64) -
 /// - lie factor = graphic effect / data effect.
 ///
 /// With `baseline = 0` it is exactly 1. Example: bars from 400 for 410 and 450 have lengths 10
-/// and 50: the graphic shows +400 %, the data +9.76 %, a lie factor of 41. `None` when
+/// and 50: the graphic shows +400 %, the data +9.76 %, a lie factor of 41. Like Tufte's effect
+/// size, the result depends on which value is `first` (from 450 down to 410 it is 9): rules
+/// should say which pair they compare. `None` when
 /// `first` equals the baseline or zero, or the two values are equal.
 pub fn truncated_baseline_lie_factor(baseline: f64, first: f64, second: f64) -> Option<f64> {
     let effect_in_graphic = relative_effect(first - baseline, second - baseline)?;
@@ -176,7 +177,11 @@ mod tests {
     #[test]
     fn every_row_has_a_positive_exponent_and_a_note() {
         for row in &STEVENS_EXPONENTS {
-            assert!(row.exponent > 0.0 && row.exponent.is_finite(), "{}", row.continuum);
+            assert!(
+                row.exponent > 0.0 && row.exponent.is_finite(),
+                "{}",
+                row.continuum
+            );
             assert!(row.note.contains("from memory"), "{}", row.continuum);
         }
     }

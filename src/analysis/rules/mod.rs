@@ -2,12 +2,29 @@
 //! Markdown file of the same name with the sections What it checks / Why it matters / Example /
 //! Instead / Source); `markwell explain ID` prints it.
 
+mod angle_for_comparison;
+mod area_perception;
+mod better_channel_free;
+mod capacity;
+mod connected_unordered;
+mod emphasis_order;
 mod kind_conflict;
 mod levels_mismatch;
+mod log_of_nonpositive;
+mod magnitude_of_interval;
 mod missing_source;
+mod negative_area;
+mod ordered_channel_for_categories;
+pub mod part_to_whole_invalid;
 mod sparse_column;
+mod stacked_comparison;
 mod summary_on_categorical;
+mod too_many_hues;
+mod too_many_shapes;
+mod too_many_slices;
+mod truncated_baseline;
 mod unknown_column;
+mod unordered_channel_for_order;
 
 use crate::analysis::facts::{layer_facts, LayerFacts};
 use crate::analysis::{AnalysisConfig, ParsedDocument};
@@ -138,6 +155,22 @@ pub fn registry() -> &'static [Rule] {
         kind_conflict::RULE,
         summary_on_categorical::RULE,
         sparse_column::RULE,
+        unordered_channel_for_order::RULE,
+        ordered_channel_for_categories::RULE,
+        connected_unordered::RULE,
+        part_to_whole_invalid::RULE,
+        magnitude_of_interval::RULE,
+        log_of_nonpositive::RULE,
+        negative_area::RULE,
+        truncated_baseline::RULE,
+        area_perception::RULE,
+        better_channel_free::RULE,
+        emphasis_order::RULE,
+        angle_for_comparison::RULE,
+        stacked_comparison::RULE,
+        too_many_hues::RULE,
+        too_many_shapes::RULE,
+        too_many_slices::RULE,
     ];
     RULES
 }
