@@ -1,0 +1,22 @@
+;;; markwell with Eglot (Emacs 28 with the elpa-eglot package, or Emacs 29+ built-in). -*- lexical-binding: t -*-
+;; Add to your init file. `*.chart.json' files open in `chartspec-mode' (a JSON mode), and
+;; `M-x eglot' (or the hook below) starts `markwell serve' for them.
+
+(require 'js)
+;; Emacs 29 has `js-json-mode'; Emacs 28 only `js-mode'
+(if (fboundp 'js-json-mode)
+    (define-derived-mode chartspec-mode js-json-mode "ChartSpec"
+      "Major mode for markwell chart specs (JSON).")
+  (define-derived-mode chartspec-mode js-mode "ChartSpec"
+    "Major mode for markwell chart specs (JSON)."))
+
+(add-to-list 'auto-mode-alist '("\\.chart\\.json\\'" . chartspec-mode))
+
+(with-eval-after-load 'eglot
+  ;; the language id sent in didOpen is derived from the mode name: "chartspec"
+  (add-to-list 'eglot-server-programs '(chartspec-mode . ("markwell" "serve")))
+  ;; settings for the `markwell' section of workspace/configuration
+  (setq-default eglot-workspace-configuration
+                '(:markwell (:rules (:sparse-column "warning")))))
+
+(add-hook 'chartspec-mode-hook #'eglot-ensure)
