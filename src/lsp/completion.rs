@@ -2,9 +2,9 @@
 //! the key being written, column names from the data profiles), as a pure function of the syntax
 //! tree, the model and the profiles. `to_lsp_item` converts at the edge.
 //!
-//! The keys and enum values follow the chart-spec format (keys per object from the format's
-//! description, enum values from `spec::model`'s keyword enums). FIXME(issue 5): read the keys
-//! from `schema/chart-spec.schema.json` once it is in main, so the two cannot drift apart.
+//! Keys, enum values and their descriptions come from the bundled JSON Schema
+//! (`schema/chart-spec.schema.json`, through `spec::schema`), so completion cannot drift from
+//! what the checker accepts.
 
 use tower_lsp::lsp_types as lsp;
 
@@ -13,10 +13,8 @@ use crate::data::DataContext;
 use crate::lsp::convert::to_lsp_range;
 use crate::lsp::features::{column_brief, profile_of, ColumnReference};
 use crate::positions::{LineIndex, PositionEncoding};
-use crate::spec::model::{
-    Arrange, AttributeKind, Channel, DataFormat, Mark, Purpose, ScaleType, Summary, ZeroMeaning,
-};
-use crate::syntax::{Node, NodeKind};
+use crate::spec::schema::{description_at_path, enum_values_at_path, keys_at_path, PathSegment};
+use crate::syntax::{Node, NodeKind, TokenKind};
 use crate::text_range::TextRange;
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -36,183 +34,63 @@ pub struct CompletionCandidate {
     pub insert_text: String,
 }
 
-/// A step of the path from the root to the object being completed.
-#[derive(Clone, Debug, PartialEq)]
-enum PathStep {
-    Key(String),
-    Element,
-}
-
-const TOP_LEVEL_KEYS: &[&str] = &[
-    "$schema",
-    "title",
-    "description",
-    "source",
-    "columns",
-    "purpose",
-    "emphasis",
-    "frame",
-    "mark",
-    "bind",
-    "arrange",
-    "style",
-    "layers",
-    "panels",
-];
-const SOURCE_KEYS: &[&str] = &["path", "rows", "format", "delimiter"];
-const COLUMN_DECLARATION_KEYS: &[&str] = &["kind", "levels", "zero", "unit", "label"];
-const FRAME_KEYS: &[&str] = &["width", "height", "background"];
-const LAYER_KEYS: &[&str] = &["mark", "bind", "arrange", "style", "source"];
-const BINDING_KEYS: &[&str] = &["column", "summary", "bins", "scale", "palette", "order"];
-const SCALE_KEYS: &[&str] = &["type", "domain", "zero", "reverse"];
-const STYLE_KEYS: &[&str] = &["color", "opacity", "radius", "stroke-width"];
-const PANELS_KEYS: &[&str] = &["by", "wrap"];
-const ORDER_VALUES: &[&str] = &["ascending", "descending", "data"];
-
-fn key(path: &[PathStep], index: usize) -> Option<&str> {
-    match path.get(index)? {
-        PathStep::Key(key) => Some(key),
-        PathStep::Element => None,
-    }
-}
-
 /// The path of a layer-level object: the root of a single-layer chart, or `layers[i]`.
-fn layer_relative(path: &[PathStep]) -> Option<&[PathStep]> {
-    if key(path, 0) == Some("layers") && path.get(1) == Some(&PathStep::Element) {
-        Some(&path[2..])
-    } else {
-        Some(path)
+fn layer_relative(path: &[PathSegment]) -> &[PathSegment] {
+    match path {
+        [PathSegment::Key(layers), PathSegment::Index(_), rest @ ..] if layers == "layers" => rest,
+        _ => path,
     }
 }
 
-/// Keys valid in the object at `path`.
-fn keys_for_object(path: &[PathStep]) -> Vec<String> {
-    let static_keys: &[&str] = match path {
-        [] => TOP_LEVEL_KEYS,
-        [PathStep::Key(source)] if source == "source" => SOURCE_KEYS,
-        [PathStep::Key(columns), PathStep::Key(_)] if columns == "columns" => {
-            COLUMN_DECLARATION_KEYS
+/// Whether the value at `path` names a data column.
+fn names_a_column(path: &[PathSegment]) -> bool {
+    let relative = layer_relative(path);
+    match relative {
+        // shorthand binding, or the `column` of a binding object
+        [PathSegment::Key(bind), PathSegment::Key(_)] => bind == "bind",
+        [PathSegment::Key(bind), PathSegment::Key(_), PathSegment::Key(field)] => {
+            bind == "bind" && field == "column"
         }
-        [PathStep::Key(frame)] if frame == "frame" => FRAME_KEYS,
-        [PathStep::Key(panels)] if panels == "panels" => PANELS_KEYS,
-        [PathStep::Key(layers), PathStep::Element] if layers == "layers" => LAYER_KEYS,
-        _ => {
-            let relative = layer_relative(path).unwrap_or(path);
-            match relative {
-                [PathStep::Key(bind)] if bind == "bind" => {
-                    return Channel::ALL
-                        .iter()
-                        .map(|c| c.as_str().to_string())
-                        .collect();
-                }
-                [PathStep::Key(bind), PathStep::Key(_)] if bind == "bind" => BINDING_KEYS,
-                [PathStep::Key(bind), PathStep::Key(_), PathStep::Key(scale)]
-                    if bind == "bind" && scale == "scale" =>
-                {
-                    SCALE_KEYS
-                }
-                [PathStep::Key(style)] if style == "style" => STYLE_KEYS,
-                [PathStep::Key(source)] if source == "source" => SOURCE_KEYS,
-                _ => &[],
-            }
-        }
-    };
-    static_keys.iter().map(|key| key.to_string()).collect()
-}
-
-/// What a value at `path` (ending in its key) may be: enum values, or `None` plus whether it
-/// names a column.
-fn values_for(path: &[PathStep]) -> (Vec<&'static str>, bool) {
-    let relative = layer_relative(path).unwrap_or(path);
-    let names = |all: &[&'static str]| all.to_vec();
-    let last = path.iter().rev().find_map(|step| match step {
-        PathStep::Key(key) => Some(key.as_str()),
-        PathStep::Element => None,
-    });
-    match (relative, last) {
-        ([PathStep::Key(mark)], _) if mark == "mark" => (
-            names(&Mark::ALL.iter().map(|m| m.as_str()).collect::<Vec<_>>()),
-            false,
-        ),
-        ([PathStep::Key(arrange)], _) if arrange == "arrange" => {
-            (Arrange::ALL.iter().map(|a| a.as_str()).collect(), false)
-        }
-        ([PathStep::Key(bind), PathStep::Key(_)], _) if bind == "bind" => (Vec::new(), true),
-        ([PathStep::Key(bind), PathStep::Key(_), PathStep::Key(field)], _) if bind == "bind" => {
-            match field.as_str() {
-                "column" => (Vec::new(), true),
-                "summary" => (Summary::ALL.iter().map(|s| s.as_str()).collect(), false),
-                "order" => (ORDER_VALUES.to_vec(), false),
-                _ => (Vec::new(), false),
-            }
-        }
-        (
-            [PathStep::Key(bind), PathStep::Key(_), PathStep::Key(scale), PathStep::Key(field)],
-            _,
-        ) if bind == "bind" && scale == "scale" && field == "type" => {
-            (ScaleType::ALL.iter().map(|s| s.as_str()).collect(), false)
-        }
-        ([PathStep::Key(source), PathStep::Key(field)], _)
-            if source == "source" && field == "format" =>
-        {
-            (DataFormat::ALL.iter().map(|f| f.as_str()).collect(), false)
-        }
-        _ => match (path, last) {
-            ([PathStep::Key(purpose)], _) if purpose == "purpose" => {
-                (Purpose::ALL.iter().map(|p| p.as_str()).collect(), false)
-            }
-            ([PathStep::Key(emphasis), PathStep::Element], _) if emphasis == "emphasis" => {
-                (Vec::new(), true)
-            }
-            ([PathStep::Key(panels), PathStep::Key(by)], _) if panels == "panels" && by == "by" => {
-                (Vec::new(), true)
-            }
-            ([PathStep::Key(columns), PathStep::Key(_), PathStep::Key(field)], _)
-                if columns == "columns" =>
-            {
-                match field.as_str() {
-                    "kind" => (
-                        AttributeKind::ALL.iter().map(|k| k.as_str()).collect(),
-                        false,
-                    ),
-                    "zero" => (
-                        [ZeroMeaning::Meaningful, ZeroMeaning::Arbitrary]
-                            .iter()
-                            .map(|z| z.as_str())
-                            .collect(),
-                        false,
-                    ),
-                    _ => (Vec::new(), false),
-                }
-            }
-            _ => (Vec::new(), false),
+        _ => match path {
+            [PathSegment::Key(emphasis), PathSegment::Index(_)] => emphasis == "emphasis",
+            [PathSegment::Key(panels), PathSegment::Key(by)] => panels == "panels" && by == "by",
+            _ => false,
         },
     }
 }
 
-/// The path from the root value to `object` (an object or array node).
-fn path_to(node: Node<'_>) -> Vec<PathStep> {
-    let mut steps = Vec::new();
+/// The path from the root value to `node`: keys of the members and indexes of the arrays on
+/// the way (the form the schema helpers take).
+pub fn json_path_of(node: Node<'_>) -> Vec<PathSegment> {
+    let mut segments = Vec::new();
     let mut current = node;
     while let Some(parent) = current.parent() {
         match parent.kind() {
             NodeKind::Member => {
-                let member_key = parent
+                let key_node = parent
                     .children()
                     .next()
-                    .filter(|child| child.kind() == NodeKind::String)
-                    .and_then(|child| child.as_str().map(|text| text.into_owned()));
-                if let Some(member_key) = member_key {
-                    steps.push(PathStep::Key(member_key));
+                    .filter(|child| child.kind() == NodeKind::String);
+                // the key itself is not part of its own path
+                if key_node != Some(current) {
+                    if let Some(key) = key_node.and_then(|key| key.as_str()) {
+                        segments.push(PathSegment::Key(key.into_owned()));
+                    }
                 }
             }
-            NodeKind::Array => steps.push(PathStep::Element),
+            NodeKind::Array => {
+                let index = parent
+                    .elements()
+                    .position(|element| element == current)
+                    .unwrap_or(0);
+                segments.push(PathSegment::Index(index));
+            }
             _ => {}
         }
         current = parent;
     }
-    steps.reverse();
-    steps
+    segments.reverse();
+    segments
 }
 
 /// Where the cursor is: completing a key of an object, or a value of a member / array element.
@@ -222,7 +100,7 @@ enum CursorContext<'t> {
         replace: Option<TextRange>,
     },
     Value {
-        path: Vec<PathStep>,
+        path: Vec<PathSegment>,
         replace: Option<TextRange>,
     },
 }
@@ -256,13 +134,13 @@ fn cursor_context(document: &ParsedDocument, offset: usize) -> Option<CursorCont
                         })
                     } else {
                         Some(CursorContext::Value {
-                            path: path_to(node),
+                            path: json_path_of(node),
                             replace: inside,
                         })
                     }
                 }
                 NodeKind::Array => Some(CursorContext::Value {
-                    path: path_to(node),
+                    path: json_path_of(node),
                     replace: inside,
                 }),
                 NodeKind::Object => Some(CursorContext::Key {
@@ -272,26 +150,28 @@ fn cursor_context(document: &ParsedDocument, offset: usize) -> Option<CursorCont
                 _ => None,
             }
         }
-        NodeKind::Object => Some(CursorContext::Key {
-            object: node,
-            replace: None,
-        }),
+        NodeKind::Object => Some(
+            value_after_colon(node, offset).unwrap_or(CursorContext::Key {
+                object: node,
+                replace: None,
+            }),
+        ),
         NodeKind::Member => {
             // after `"key":` with no value yet
-            let mut path = path_to(node);
+            let mut path = json_path_of(node);
             let member_key = node
                 .children()
                 .next()
                 .and_then(|key| key.as_str().map(|text| text.into_owned()))?;
-            path.push(PathStep::Key(member_key));
+            path.push(PathSegment::Key(member_key));
             Some(CursorContext::Value {
                 path,
                 replace: None,
             })
         }
         NodeKind::Array => {
-            let mut path = path_to(node);
-            path.push(PathStep::Element);
+            let mut path = json_path_of(node);
+            path.push(PathSegment::Index(node.elements().count()));
             Some(CursorContext::Value {
                 path,
                 replace: None,
@@ -300,6 +180,33 @@ fn cursor_context(document: &ParsedDocument, offset: usize) -> Option<CursorCont
         NodeKind::Document if tree.root_value().is_none() => None,
         _ => None,
     }
+}
+
+/// `"key": |` (only whitespace between the colon and the cursor, no value yet): the value of
+/// that member, not a new key.
+fn value_after_colon(object: Node<'_>, offset: usize) -> Option<CursorContext<'_>> {
+    let tree = object.tree();
+    let tokens = tree.tokens();
+    let before = tokens.partition_point(|token| token.range.end <= offset);
+    let previous = tokens[..before]
+        .iter()
+        .rev()
+        .find(|token| !token.kind.is_trivia())?;
+    if previous.kind != TokenKind::Colon {
+        return None;
+    }
+    let member = object
+        .members()
+        .find(|member| member.range().contains_range(previous.range))?;
+    if member.value().is_some() {
+        return None;
+    }
+    let mut path = json_path_of(object);
+    path.push(PathSegment::Key(member.key_text()?.into_owned()));
+    Some(CursorContext::Value {
+        path,
+        replace: None,
+    })
 }
 
 /// Candidates at `offset`.
@@ -318,24 +225,29 @@ pub fn complete_at(
                 .filter(|member| replace.is_none_or(|range| !member.range().contains_range(range)))
                 .filter_map(|member| member.key_text().map(|key| key.into_owned()))
                 .collect();
-            let path = path_to(object);
-            keys_for_object(&path)
+            let path = json_path_of(object);
+            keys_at_path(&path)
                 .into_iter()
-                .filter(|key| !present.contains(key))
-                .map(|key| CompletionCandidate {
-                    insert_text: match replace {
-                        Some(_) => key.clone(),
-                        None => format!("\"{key}\": "),
-                    },
-                    replace_range: replace.unwrap_or(TextRange::empty(offset)),
-                    label: key,
-                    detail: Some("key".to_string()),
-                    kind: CandidateKind::Key,
+                .filter(|key| !present.iter().any(|present| present == key))
+                .map(|key| {
+                    let mut key_path = path.clone();
+                    key_path.push(PathSegment::Key(key.to_string()));
+                    CompletionCandidate {
+                        insert_text: match replace {
+                            Some(_) => key.to_string(),
+                            None => format!("\"{key}\": "),
+                        },
+                        replace_range: replace.unwrap_or(TextRange::empty(offset)),
+                        label: key.to_string(),
+                        detail: description_at_path(&key_path).map(str::to_string),
+                        kind: CandidateKind::Key,
+                    }
                 })
                 .collect()
         }
         CursorContext::Value { path, replace } => {
-            let (values, names_column) = values_for(&path);
+            let values = enum_values_at_path(&path);
+            let names_column = names_a_column(&path);
             let replace_range = replace.unwrap_or(TextRange::empty(offset));
             let quote = |text: &str| match replace {
                 Some(_) => text.to_string(),
@@ -343,9 +255,9 @@ pub fn complete_at(
             };
             let mut out: Vec<CompletionCandidate> = values
                 .into_iter()
-                .map(|value| CompletionCandidate {
+                .map(|(value, description)| CompletionCandidate {
                     label: value.to_string(),
-                    detail: None,
+                    detail: description.map(str::to_string),
                     kind: CandidateKind::EnumValue,
                     replace_range,
                     insert_text: quote(value),
@@ -368,14 +280,14 @@ pub fn complete_at(
 fn column_candidates(
     document: &ParsedDocument,
     data: &DataContext,
-    path: &[PathStep],
+    path: &[PathSegment],
     replace_range: TextRange,
     quote: &dyn Fn(&str) -> String,
 ) -> Vec<CompletionCandidate> {
     let spec = &document.spec;
     // a binding inside `layers[i]` reads that layer's source
     let source = match path {
-        [PathStep::Key(layers), PathStep::Element, ..] if layers == "layers" => spec
+        [PathSegment::Key(layers), PathSegment::Index(_), ..] if layers == "layers" => spec
             .layers
             .iter()
             .find(|layer| layer.range.contains_range(replace_range))
@@ -429,5 +341,169 @@ pub fn to_lsp_item(
             new_text: candidate.insert_text,
         })),
         ..lsp::CompletionItem::default()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use std::path::PathBuf;
+    use std::sync::Arc;
+
+    use super::*;
+    use crate::analysis::parse_document;
+    use crate::data::{ColumnProfile, DataProfile, DistinctCount, SourceKey};
+    use crate::spec::model::{AttributeKind, DataFormat};
+
+    /// Completions at the `|` of `marked` (the marker is removed before parsing).
+    fn complete(marked: &str, data: &DataContext) -> (String, Vec<CompletionCandidate>) {
+        let offset = marked.find('|').expect("a cursor marker");
+        let text = marked.replacen('|', "", 1);
+        let document = parse_document(&text);
+        let candidates = complete_at(&document, data, offset);
+        (text, candidates)
+    }
+
+    fn labels(candidates: &[CompletionCandidate]) -> Vec<&str> {
+        candidates
+            .iter()
+            .map(|candidate| candidate.label.as_str())
+            .collect()
+    }
+
+    fn bakery_data() -> DataContext {
+        let column = |name: &str, index: usize, kind: AttributeKind| ColumnProfile {
+            name: name.to_string(),
+            index,
+            kind,
+            kind_evidence: String::new(),
+            zero: None,
+            rows: 4,
+            missing: 0,
+            distinct: DistinctCount {
+                value: 4,
+                exact: true,
+                relative_error: 0.0,
+            },
+            numeric: None,
+            numeric_share: 0.0,
+            non_numeric_examples: Vec::new(),
+            top_values: Vec::new(),
+            all_values: None,
+            samples: Vec::new(),
+            time_range: None,
+            header_range: None,
+        };
+        let profile = DataProfile {
+            path: Some(PathBuf::from("/bakery/loaves.csv")),
+            format: DataFormat::Csv,
+            rows: 4,
+            columns: vec![
+                column("branch", 0, AttributeKind::Categorical),
+                column("loaves", 1, AttributeKind::Quantitative),
+            ],
+            is_sample: false,
+            problems: Vec::new(),
+        };
+        DataContext {
+            entries: vec![(
+                SourceKey::Path("loaves.csv".to_string()),
+                Ok(Arc::new(profile)),
+            )],
+        }
+    }
+
+    #[test]
+    fn top_level_keys_leave_out_those_present() {
+        let (_, candidates) = complete("{ \"mark\": \"bar\", | }", &DataContext::default());
+        let offered = labels(&candidates);
+        assert!(
+            offered.contains(&"bind") && offered.contains(&"source"),
+            "{offered:?}"
+        );
+        assert!(
+            !offered.contains(&"mark"),
+            "`mark` is already there: {offered:?}"
+        );
+        let bind = candidates.iter().find(|c| c.label == "bind").expect("bind");
+        // outside quotes the key is inserted with its quotes and colon
+        assert_eq!(bind.insert_text, "\"bind\": ");
+        assert_eq!(bind.kind, CandidateKind::Key);
+        assert!(bind.detail.is_some(), "described by the schema");
+    }
+
+    #[test]
+    fn enum_values_inside_a_string_replace_its_content() {
+        let (text, candidates) = complete("{ \"mark\": \"ba|\" }", &DataContext::default());
+        let offered = labels(&candidates);
+        assert_eq!(
+            offered,
+            ["point", "line", "area", "bar", "arc", "tile", "text", "rule"]
+        );
+        let bar = candidates.iter().find(|c| c.label == "bar").expect("bar");
+        assert_eq!(&text[bar.replace_range.start..bar.replace_range.end], "ba");
+        assert_eq!(bar.insert_text, "bar");
+        assert_eq!(bar.kind, CandidateKind::EnumValue);
+    }
+
+    #[test]
+    fn channels_and_binding_keys_come_from_the_schema() {
+        let (_, candidates) =
+            complete("{ \"bind\": { \"x\": \"a\", | } }", &DataContext::default());
+        let offered = labels(&candidates);
+        assert!(
+            offered.contains(&"y") && offered.contains(&"hue"),
+            "{offered:?}"
+        );
+        assert!(!offered.contains(&"x"));
+        let (_, candidates) = complete(
+            "{ \"layers\": [ { \"bind\": { \"y\": { | } } } ] }",
+            &DataContext::default(),
+        );
+        let offered = labels(&candidates);
+        assert!(
+            offered.contains(&"column") && offered.contains(&"summary"),
+            "{offered:?}"
+        );
+    }
+
+    #[test]
+    fn column_names_come_from_the_data_profile() {
+        let data = bakery_data();
+        let spec = "{ \"source\": { \"path\": \"loaves.csv\" }, \"mark\": \"bar\", \"bind\": { \"x\": \"|\" } }";
+        let (_, candidates) = complete(spec, &data);
+        assert_eq!(labels(&candidates), ["branch", "loaves"]);
+        assert!(candidates.iter().all(|c| c.kind == CandidateKind::Column));
+        assert_eq!(
+            candidates[1].detail.as_deref(),
+            Some("quantitative, 4 distinct")
+        );
+        let emphasis = "{ \"source\": { \"path\": \"loaves.csv\" }, \"emphasis\": [\"|\"] }";
+        let (_, candidates) = complete(emphasis, &data);
+        assert_eq!(labels(&candidates), ["branch", "loaves"]);
+        // no data: no column names, and no crash
+        let (_, candidates) = complete(spec, &DataContext::default());
+        assert!(candidates.is_empty());
+    }
+
+    #[test]
+    fn broken_documents_do_not_panic() {
+        for marked in [
+            "|",
+            "{|",
+            "{ \"mark\": |",
+            "[|]",
+            "{ \"bind\": { \"x\": { \"column\": \"|",
+            "\"|",
+        ] {
+            let (_, candidates) = complete(marked, &bakery_data());
+            let _ = candidates;
+        }
+        let (_, after_colon) = complete("{ \"mark\": | }", &DataContext::default());
+        assert!(
+            labels(&after_colon).contains(&"bar"),
+            "{:?}",
+            labels(&after_colon)
+        );
+        assert_eq!(after_colon[0].insert_text, "\"point\"");
     }
 }

@@ -5,9 +5,16 @@
 
 use std::path::PathBuf;
 
+use crate::analysis::facts::layer_facts;
+use crate::analysis::rules::rule_by_id;
+use crate::analysis::ParsedDocument;
 use crate::data::{ColumnProfile, DataContext, SourceData};
 use crate::diagnostic::Diagnostic;
-use crate::spec::model::{ChartSpec, Source, SourceLocation, Spanned};
+use crate::knowledge::{perceived_channel, ChannelContext, ALL_RANKINGS, DEFAULT_RANKING_ID};
+use crate::lsp::completion::json_path_of;
+use crate::spec::model::{Channel, ChartSpec, Source, SourceLocation, Spanned};
+use crate::spec::schema::{description_at_path, PathSegment};
+use crate::syntax::NodeKind;
 use crate::text_range::TextRange;
 
 /// What kind of thing an outline entry is (mapped to an LSP `SymbolKind` at the edge).
@@ -382,20 +389,102 @@ pub struct HoverContent {
     pub markdown: String,
 }
 
-/// The hover at `offset`: the profile of a column named there, else the diagnostics covering it.
-pub fn hover_at(
+/// The first section of a rule's documentation ("What it checks"), without its heading.
+fn rule_explanation(docs: &str) -> Option<&str> {
+    let start = docs.find("## What it checks")? + "## What it checks".len();
+    let rest = &docs[start..];
+    let end = rest.find("\n## ").unwrap_or(rest.len());
+    Some(rest[..end].trim())
+}
+
+/// What the eye reads for a binding, and how each published ranking places that channel for
+/// the column's kind, the active ranking first.
+pub fn channel_markdown(
     spec: &ChartSpec,
+    data: &DataContext,
+    layer_index: usize,
+    channel: Channel,
+    active_ranking: Option<&str>,
+) -> Option<String> {
+    let facts = layer_facts(spec, data);
+    let layer = facts.get(layer_index)?;
+    let binding = layer.binding(channel)?;
+    let mut text = format!("**channel `{}`**", channel.as_str());
+    let Some(mark) = layer.mark() else {
+        text.push_str(": the layer has no mark, so what the eye reads is not known yet");
+        return Some(text);
+    };
+    let context = ChannelContext {
+        mark,
+        channel,
+        arrange: layer.layer.arrange.as_ref().map(|arrange| arrange.value),
+        in_panels: spec.panels.is_some(),
+        value_axis: layer.value_axis(),
+        binding_is_summarised: binding.binding.summary.is_some(),
+    };
+    let perceived = perceived_channel(&context);
+    text.push_str(&format!(
+        " on a `{}` mark is read as **{}**",
+        mark.as_str(),
+        perceived.description()
+    ));
+    let Some(kind) = binding.kind else {
+        text.push_str("\n\nthe column's kind is not known (no data profile or declaration)");
+        return Some(text);
+    };
+    text.push_str(&format!(
+        "; `{}` is {}\n\n| ranking | this channel | best channel for {} |\n|---|---|---|\n",
+        binding.display_name(),
+        kind.as_str(),
+        kind.as_str()
+    ));
+    let active = active_ranking.unwrap_or(DEFAULT_RANKING_ID);
+    let mut rankings = ALL_RANKINGS.to_vec();
+    rankings.sort_by_key(|ranking| ranking.id != active);
+    for ranking in rankings {
+        let place = match ranking.rank(kind, perceived) {
+            Some(rank) => format!(
+                "{} of {}{}",
+                rank.level,
+                rank.level_count,
+                if rank.shares_level { " (tied)" } else { "" }
+            ),
+            None => "not ranked".to_string(),
+        };
+        let best = ranking
+            .ordered_channels(kind)
+            .first()
+            .map_or_else(|| "-".to_string(), |best| best.description().to_string());
+        let marker = if ranking.id == active {
+            " (active)"
+        } else {
+            ""
+        };
+        text.push_str(&format!(
+            "| {}{marker} | {place} | {best} |\n",
+            ranking.citation.short
+        ));
+    }
+    Some(text)
+}
+
+/// The hover at `offset`: the profile of a column named there, the reading of a channel key,
+/// the schema's description of another key, and the diagnostics covering the offset.
+pub fn hover_at(
+    document: &ParsedDocument,
     data: &DataContext,
     diagnostics: &[Diagnostic],
     offset: usize,
+    active_ranking: Option<&str>,
 ) -> Option<HoverContent> {
-    let references = column_references(spec);
-    let reference = references
-        .iter()
-        .find(|reference| reference.range.contains_inclusive(offset));
+    let spec = &document.spec;
     let mut sections = Vec::new();
     let mut range = None;
-    if let Some(reference) = reference {
+    let references = column_references(spec);
+    if let Some(reference) = references
+        .iter()
+        .find(|reference| reference.range.contains_inclusive(offset))
+    {
         range = Some(reference.range);
         match profile_of(data, reference) {
             Some((profile, path)) => sections.push(column_markdown(profile, path)),
@@ -403,6 +492,36 @@ pub fn hover_at(
                 "**column `{}`**: no profile (the data could not be read, or has no such column)",
                 reference.name
             )),
+        }
+    }
+    let binding_key = spec.layers.iter().find_map(|layer| {
+        layer
+            .bindings
+            .iter()
+            .find(|binding| binding.key_range.contains_inclusive(offset))
+            .map(|binding| (layer.index, binding.channel, binding.key_range))
+    });
+    if let Some((layer_index, channel, key_range)) = binding_key {
+        if let Some(text) = channel_markdown(spec, data, layer_index, channel, active_ranking) {
+            range.get_or_insert(key_range);
+            sections.push(text);
+        }
+    } else if range.is_none() {
+        // another key: what the schema says about it
+        let node = document.tree.node_at_offset(offset);
+        let is_key = node.kind() == NodeKind::String
+            && node.parent().is_some_and(|parent| {
+                parent.kind() == NodeKind::Member && parent.children().next() == Some(node)
+            });
+        if is_key {
+            let mut path = json_path_of(node);
+            if let Some(key) = node.as_str() {
+                path.push(PathSegment::Key(key.into_owned()));
+            }
+            if let Some(description) = description_at_path(&path) {
+                range = Some(node.range());
+                sections.push(description.to_string());
+            }
         }
     }
     for diagnostic in diagnostics
@@ -416,6 +535,11 @@ pub fn hover_at(
             diagnostic.severity.as_str(),
             diagnostic.message
         );
+        if let Some(rule) = rule_by_id(diagnostic.rule) {
+            if let Some(explanation) = rule_explanation(rule.docs) {
+                section.push_str(&format!("\n\n{explanation}"));
+            }
+        }
         for fix in &diagnostic.fixes {
             section.push_str(&format!("\n- fix: {}", fix.title));
         }
@@ -489,4 +613,285 @@ pub fn data_paths(data: &DataContext) -> Vec<PathBuf> {
             Err(error) => error.path.clone(),
         })
         .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use std::sync::Arc;
+
+    use super::*;
+    use crate::analysis::parse_document;
+    use crate::data::{DataProfile, DistinctCount, NumericSummary, SourceKey};
+    use crate::spec::model::{AttributeKind, DataFormat};
+
+    /// An invented orchard spec; the data it reads is built by hand below.
+    const ORCHARD: &str = r##"{
+  "title": "Crates of apples per orchard row",
+  "source": { "path": "harvest.csv" },
+  "columns": { "grade": { "kind": "ordered", "levels": ["C", "B", "A"] } },
+  "frame": { "background": "#fff" },
+  "mark": "bar",
+  "bind": {
+    "x": "orchard",
+    "y": { "column": "crates", "summary": "sum" },
+    "hue": { "column": "grade", "palette": ["#d9e6f2", "#7fa7cf", "#1f4e79"] }
+  }
+}"##;
+
+    fn column(name: &str, index: usize, kind: AttributeKind) -> ColumnProfile {
+        ColumnProfile {
+            name: name.to_string(),
+            index,
+            kind,
+            kind_evidence: format!("test profile of `{name}`"),
+            zero: None,
+            rows: 6,
+            missing: 0,
+            distinct: DistinctCount {
+                value: 3,
+                exact: true,
+                relative_error: 0.0,
+            },
+            numeric: None,
+            numeric_share: 0.0,
+            non_numeric_examples: Vec::new(),
+            top_values: vec![("North".to_string(), 2)],
+            all_values: None,
+            samples: Vec::new(),
+            time_range: None,
+            header_range: None,
+        }
+    }
+
+    fn harvest_data() -> DataContext {
+        let mut crates = column("crates", 1, AttributeKind::Quantitative);
+        crates.numeric = Some(NumericSummary {
+            count: 6,
+            min: 12.0,
+            max: 48.5,
+            mean: 30.0,
+            histogram: vec![1, 2, 3],
+        });
+        // "orchard,crates,grade": `crates` is bytes 8..14 of the header line
+        crates.header_range = Some((8, 14));
+        let profile = DataProfile {
+            path: Some(PathBuf::from("/orchards/harvest.csv")),
+            format: DataFormat::Csv,
+            rows: 6,
+            columns: vec![
+                column("orchard", 0, AttributeKind::Categorical),
+                crates,
+                column("grade", 2, AttributeKind::Ordered),
+            ],
+            is_sample: false,
+            problems: Vec::new(),
+        };
+        DataContext {
+            entries: vec![(
+                SourceKey::Path("harvest.csv".to_string()),
+                Ok(Arc::new(profile)),
+            )],
+        }
+    }
+
+    fn offset_of(needle: &str) -> usize {
+        ORCHARD
+            .find(needle)
+            .unwrap_or_else(|| panic!("`{needle}` in the fixture"))
+    }
+
+    #[test]
+    fn outline_lists_title_source_columns_and_the_layer_with_its_bindings() {
+        let document = parse_document(ORCHARD);
+        let outline = document_outline(&document.spec);
+        let names: Vec<&str> = outline.iter().map(|entry| entry.name.as_str()).collect();
+        assert_eq!(names, ["title", "source", "grade", "frame", "chart"]);
+        let chart = &outline[4];
+        assert_eq!(chart.detail.as_deref(), Some("bar"));
+        let bindings: Vec<(&str, Option<&str>)> = chart
+            .children
+            .iter()
+            .map(|child| (child.name.as_str(), child.detail.as_deref()))
+            .collect();
+        assert_eq!(
+            bindings,
+            [
+                ("x", Some("orchard")),
+                ("y", Some("sum(crates)")),
+                ("hue", Some("grade"))
+            ]
+        );
+        // LSP 3.17 DocumentSymbol: selectionRange must be contained in range
+        for entry in outline.iter().chain(chart.children.iter()) {
+            assert!(
+                entry.range.contains_range(entry.selection_range),
+                "{entry:?}"
+            );
+        }
+    }
+
+    #[test]
+    fn hex_colours_parse_in_all_four_css_forms() {
+        // CSS Color Module Level 4, section 5.2 "The RGB hexadecimal notations"
+        let short = parse_hex_colour("#fff").expect("#rgb");
+        assert_eq!(
+            (short.red, short.green, short.blue, short.alpha),
+            (1.0, 1.0, 1.0, 1.0)
+        );
+        let with_alpha = parse_hex_colour("#0000ff80").expect("#rrggbbaa");
+        assert_eq!(with_alpha.blue, 1.0);
+        assert!((with_alpha.alpha - 128.0 / 255.0).abs() < 1e-6);
+        assert!(parse_hex_colour("#f0f8").is_some());
+        assert_eq!(
+            parse_hex_colour("#1f4e79").map(Rgba::to_hex).as_deref(),
+            Some("#1f4e79")
+        );
+        for bad in ["fff", "#ff", "#ggg", "#12345", "#1f4e79 "] {
+            assert_eq!(parse_hex_colour(bad), None, "{bad}");
+        }
+    }
+
+    #[test]
+    fn document_colours_cover_palettes_and_the_frame_background() {
+        let document = parse_document(ORCHARD);
+        let colours = document_colours(&document.spec);
+        let texts: Vec<&str> = colours
+            .iter()
+            .map(|occurrence| &ORCHARD[occurrence.range.start..occurrence.range.end])
+            .collect();
+        assert_eq!(texts, ["#fff", "#d9e6f2", "#7fa7cf", "#1f4e79"]);
+    }
+
+    #[test]
+    fn hover_on_a_column_shows_its_profile() {
+        let document = parse_document(ORCHARD);
+        let data = harvest_data();
+        let offset = offset_of("\"crates\"") + 2;
+        let hover = hover_at(&document, &data, &[], offset, None).expect("a hover");
+        assert!(
+            hover.markdown.contains("**column `crates`**: quantitative"),
+            "{}",
+            hover.markdown
+        );
+        assert!(
+            hover.markdown.contains("from 12 to 48.5"),
+            "{}",
+            hover.markdown
+        );
+        assert!(
+            hover.markdown.contains("`harvest.csv`"),
+            "{}",
+            hover.markdown
+        );
+        assert_eq!(&ORCHARD[hover.range.start..hover.range.end], "\"crates\"");
+    }
+
+    #[test]
+    fn hover_on_a_channel_key_ranks_the_perceived_channel_in_every_ranking() {
+        let document = parse_document(ORCHARD);
+        let data = harvest_data();
+        let offset = offset_of("\"y\"") + 1;
+        let hover = hover_at(&document, &data, &[], offset, None).expect("a hover");
+        // a bar on its value axis is read by length (Cleveland & McGill 1984)
+        assert!(hover.markdown.contains("length"), "{}", hover.markdown);
+        for ranking in ALL_RANKINGS {
+            assert!(
+                hover.markdown.contains(ranking.citation.short),
+                "{}",
+                hover.markdown
+            );
+        }
+        // the default ranking comes first and is marked active
+        let first_row = hover
+            .markdown
+            .lines()
+            .find(|line| line.starts_with("| ") && !line.starts_with("| ranking"))
+            .unwrap_or_default();
+        assert!(first_row.contains("(active)"), "{first_row}");
+    }
+
+    #[test]
+    fn hover_on_another_key_shows_the_schema_description() {
+        let document = parse_document(ORCHARD);
+        let hover = hover_at(
+            &document,
+            &DataContext::default(),
+            &[],
+            offset_of("\"mark\"") + 1,
+            None,
+        )
+        .expect("a hover");
+        assert_eq!(
+            Some(hover.markdown.as_str()),
+            description_at_path(&[PathSegment::Key("mark".to_string())])
+        );
+    }
+
+    #[test]
+    fn hover_on_a_diagnostic_explains_the_rule() {
+        let text = "{ \"mark\": \"bar\", \"colour\": 1 }";
+        let document = parse_document(text);
+        let offset = text.find("colour").unwrap_or(0);
+        let hover = hover_at(
+            &document,
+            &DataContext::default(),
+            &document.diagnostics,
+            offset,
+            None,
+        )
+        .expect("a hover");
+        assert!(
+            hover.markdown.contains("**unknown-key** (error)"),
+            "{}",
+            hover.markdown
+        );
+        let docs = rule_by_id("unknown-key")
+            .map(|rule| rule.docs)
+            .unwrap_or_default();
+        let explanation = rule_explanation(docs).expect("a What it checks section");
+        assert!(hover.markdown.contains(explanation), "{}", hover.markdown);
+    }
+
+    #[test]
+    fn inlay_hints_follow_column_references_with_kind_and_range() {
+        let document = parse_document(ORCHARD);
+        let data = harvest_data();
+        let hints = inlay_hints(&document.spec, &data, TextRange::new(0, ORCHARD.len()));
+        let rendered: Vec<(String, &str)> = hints
+            .iter()
+            .map(|hint| {
+                (
+                    ORCHARD[..hint.offset].chars().rev().take(8).collect(),
+                    hint.label.as_str(),
+                )
+            })
+            .collect();
+        assert_eq!(hints.len(), 3, "{rendered:?}");
+        assert_eq!(hints[0].label, "categorical, 3 distinct");
+        assert_eq!(hints[1].label, "quantitative 12..48.5");
+        assert_eq!(
+            hints[1].offset,
+            offset_of("\"crates\"") + "\"crates\"".len()
+        );
+        // the declaration key `grade` gets no hint, its use in `hue` does
+        assert_eq!(
+            hints[2].offset,
+            ORCHARD.rfind("\"grade\"").unwrap_or(0) + "\"grade\"".len()
+        );
+    }
+
+    #[test]
+    fn definition_of_a_column_is_its_header_cell() {
+        let document = parse_document(ORCHARD);
+        let data = harvest_data();
+        let target =
+            definition_at(&document.spec, &data, offset_of("\"crates\"") + 1).expect("a target");
+        assert_eq!(target.path, PathBuf::from("/orchards/harvest.csv"));
+        assert_eq!(target.byte_range, (8, 14));
+        // no header range known → no definition
+        assert_eq!(
+            definition_at(&document.spec, &data, offset_of("\"orchard\"") + 1),
+            None
+        );
+    }
 }

@@ -22,6 +22,7 @@ use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types as lsp;
 use tower_lsp::{Client, LanguageServer};
 
+use crate::analysis::config::{parse_project_config, ProjectConfig, CONFIG_FILE_NAME};
 use crate::analysis::{analyze, parse_document, AnalysisConfig};
 use crate::data::{DataContext, ProfileCache, ResolveOptions};
 use crate::lsp::completion;
@@ -38,6 +39,39 @@ const PROGRESS_AFTER: Duration = Duration::from_millis(500);
 
 /// Glob of the data files watched for changes.
 const DATA_FILE_GLOB: &str = "**/*.{csv,tsv,json,ndjson,jsonl}";
+/// Glob of the project configuration.
+const CONFIG_FILE_GLOB: &str = "**/markwell.toml";
+/// A `markwell.toml` larger than this is not read.
+const MAX_CONFIG_BYTES: u64 = 1024 * 1024;
+
+/// Read `markwell.toml` at the workspace root; a missing file is the default configuration,
+/// problems are logged (the server keeps going with what could be read).
+fn load_project_config(root: Option<&Path>) -> ProjectConfig {
+    let Some(root) = root else {
+        return ProjectConfig::default();
+    };
+    let path = root.join(CONFIG_FILE_NAME);
+    let too_big = std::fs::metadata(&path).is_ok_and(|meta| meta.len() > MAX_CONFIG_BYTES);
+    if too_big {
+        log::error(&format!("{} is larger than 1 MiB: ignored", path.display()));
+        return ProjectConfig::default();
+    }
+    let Ok(text) = std::fs::read_to_string(&path) else {
+        return ProjectConfig::default();
+    };
+    match parse_project_config(&text) {
+        Ok((config, warnings)) => {
+            for warning in warnings {
+                log::info(&format!("{}: {warning}", path.display()));
+            }
+            config
+        }
+        Err(error) => {
+            log::error(&format!("{}: {error}", path.display()));
+            ProjectConfig::default()
+        }
+    }
+}
 
 /// What was negotiated with the client at `initialize`.
 #[derive(Clone, Debug, Default)]
@@ -49,6 +83,8 @@ struct Session {
     supports_watched_files_registration: bool,
     /// The configuration from files (`markwell.toml`), before editor settings.
     file_config: AnalysisConfig,
+    /// `[data] allow-outside-workspace` of `markwell.toml`.
+    allow_outside_workspace: bool,
     editor_settings: EditorSettings,
     config: Arc<AnalysisConfig>,
 }
@@ -197,7 +233,7 @@ impl Backend {
             resolve: ResolveOptions {
                 spec_dir,
                 workspace_root: session.workspace_root.clone(),
-                allow_outside_workspace: false,
+                allow_outside_workspace: session.allow_outside_workspace,
             },
             config: session.config.clone(),
         }
@@ -312,10 +348,13 @@ impl Backend {
             return;
         }
         let options = lsp::DidChangeWatchedFilesRegistrationOptions {
-            watchers: vec![lsp::FileSystemWatcher {
-                glob_pattern: lsp::GlobPattern::String(DATA_FILE_GLOB.to_string()),
-                kind: None,
-            }],
+            watchers: [DATA_FILE_GLOB, CONFIG_FILE_GLOB]
+                .into_iter()
+                .map(|glob| lsp::FileSystemWatcher {
+                    glob_pattern: lsp::GlobPattern::String(glob.to_string()),
+                    kind: None,
+                })
+                .collect(),
         };
         let registration = lsp::Registration {
             id: "markwell-data-files".to_string(),
@@ -559,6 +598,9 @@ impl LanguageServer for Backend {
                 .and_then(|workspace| workspace.did_change_watched_files.as_ref())
                 .and_then(|watched| watched.dynamic_registration)
                 .unwrap_or(false);
+            let project = load_project_config(session.workspace_root.as_deref());
+            session.file_config = project.analysis;
+            session.allow_outside_workspace = project.allow_outside_workspace;
             session.config = Arc::new(merge_settings(
                 &session.file_config,
                 &session.editor_settings,
@@ -668,6 +710,26 @@ impl LanguageServer for Backend {
         for path in &changed {
             self.state.cache.invalidate(path);
         }
+        let config_changed = changed.iter().any(|path| {
+            path.file_name()
+                .is_some_and(|name| name == CONFIG_FILE_NAME)
+        });
+        if config_changed {
+            let _ = guarded("workspace/didChangeWatchedFiles", || {
+                {
+                    let mut session = lock(&self.state.session);
+                    let project = load_project_config(session.workspace_root.as_deref());
+                    session.file_config = project.analysis;
+                    session.allow_outside_workspace = project.allow_outside_workspace;
+                    session.config = Arc::new(merge_settings(
+                        &session.file_config,
+                        &session.editor_settings,
+                    ));
+                }
+                self.reanalyse_all_with(|_| true);
+            });
+            return;
+        }
         let _ = guarded("workspace/didChangeWatchedFiles", || {
             self.reanalyse_all_with(|record| {
                 record
@@ -685,14 +747,16 @@ impl LanguageServer for Backend {
             return Ok(None);
         };
         let encoding = self.encoding();
+        let active_ranking = lock(&self.state.session).config.ranking.clone();
         guarded("textDocument/hover", || {
             let index = &outcome.index;
             let offset = index.offset_of_position(from_lsp_position(position), encoding);
             let content = features::hover_at(
-                &outcome.parsed.spec,
+                &outcome.parsed,
                 &outcome.data,
                 &outcome.diagnostics,
                 offset,
+                active_ranking.as_deref(),
             )?;
             Some(lsp::Hover {
                 contents: lsp::HoverContents::Markup(lsp::MarkupContent {
