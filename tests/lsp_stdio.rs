@@ -668,3 +668,46 @@ fn shutdown_and_exit_with_null_params_are_accepted() {
     client.send(&json!({"jsonrpc": "2.0", "method": "exit", "params": null}));
     assert_eq!(client.wait_exit().code(), Some(0));
 }
+
+#[test]
+fn markwell_toml_at_the_workspace_root_sets_rule_severities() {
+    let workspace = Workspace::new();
+    std::fs::write(
+        workspace.path("markwell.toml"),
+        "[rules]\nunknown-key = \"hint\"\n",
+    )
+    .expect("write markwell.toml");
+    let uri = workspace.uri("delays.chart.json");
+    let mut client = start();
+    client.initialize(json!({}), Some(&workspace.root_uri()));
+    client.open(&uri, FERRY_SPEC_WITH_TYPO, 1);
+    let diagnostics = client.wait_for_publish(&uri, 1);
+    // LSP DiagnosticSeverity: 4 = Hint
+    assert_eq!(find_code(&diagnostics, "unknown-key")["severity"], 4);
+    assert!(client.finish().success());
+}
+
+#[test]
+fn hover_on_a_channel_key_shows_the_perceived_channel_and_rankings() {
+    let text = r#"{
+  "columns": { "loaves": { "kind": "quantitative" } },
+  "mark": "bar",
+  "bind": { "x": "branch", "y": "loaves" }
+}
+"#;
+    let uri = "untitled:bakery.chart.json";
+    let mut client = start();
+    client.initialize(json!({}), None);
+    client.open(uri, text, 1);
+    client.wait_for_publish(uri, 1);
+    let key = range_of(text, "\"y\"");
+    let hover = client.request_result(
+        "textDocument/hover",
+        json!({"textDocument": {"uri": uri}, "position": key["start"]}),
+    );
+    let markdown = hover["contents"]["value"].as_str().expect("markdown");
+    assert!(markdown.contains("read as **length**"), "{markdown}");
+    assert!(markdown.contains("Cleveland & McGill (1984)"), "{markdown}");
+    assert_eq!(hover["range"], key);
+    assert!(client.finish().success());
+}

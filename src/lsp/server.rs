@@ -142,7 +142,10 @@ fn panic_message(payload: &(dyn std::any::Any + Send)) -> String {
 
 /// Run a handler body; a panic becomes a logged `InternalError` response.
 fn guarded<T>(what: &str, body: impl FnOnce() -> T) -> jsonrpc::Result<T> {
-    catch_unwind(AssertUnwindSafe(body)).map_err(|payload| {
+    let started = std::time::Instant::now();
+    let outcome = catch_unwind(AssertUnwindSafe(body));
+    log::debug(&format!("{what}: {:?}", started.elapsed()));
+    outcome.map_err(|payload| {
         let message = panic_message(payload.as_ref());
         log::error(&format!("panic while handling {what}: {message}"));
         jsonrpc::Error {
