@@ -711,3 +711,29 @@ fn hover_on_a_channel_key_shows_the_perceived_channel_and_rankings() {
     assert_eq!(hover["range"], key);
     assert!(client.finish().success());
 }
+
+#[test]
+fn close_clears_and_reopen_with_the_same_version_is_analysed_afresh() {
+    let uri = "untitled:reopen.chart.json";
+    let mut client = start();
+    client.initialize(json!({}), None);
+    client.open(uri, FERRY_SPEC_WITH_TYPO, 1);
+    assert!(codes(&client.wait_for_publish(uri, 1)).contains(&"unknown-key".to_string()));
+    client.notify(
+        "textDocument/didClose",
+        json!({"textDocument": {"uri": uri}}),
+    );
+    // closing clears what the editor shows (a publish without version, no diagnostics)
+    let cleared = client.wait_for("diagnostics cleared on close", |m| {
+        m["method"] == "textDocument/publishDiagnostics" && m["params"]["uri"] == uri
+    });
+    assert_eq!(cleared["params"]["diagnostics"], json!([]));
+    // a client may reuse version numbers after a reopen: the new text is what counts
+    let fixed = FERRY_SPEC_WITH_TYPO.replace("\"colour\"", "\"color\"");
+    client.open(uri, &fixed, 1);
+    assert!(!codes(&client.wait_for_publish(uri, 1)).contains(&"unknown-key".to_string()));
+    // versions going backwards are still applied in order
+    client.change_full(uri, 0, FERRY_SPEC_WITH_TYPO);
+    assert!(codes(&client.wait_for_publish(uri, 0)).contains(&"unknown-key".to_string()));
+    assert!(client.finish().success());
+}

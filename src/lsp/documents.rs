@@ -7,6 +7,7 @@
 //! materialised once (O(n)) because the parser wants a `&str`; the rope keeps the edit itself
 //! O(log n).
 
+use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::Arc;
 
 use ropey::Rope;
@@ -15,6 +16,14 @@ use crate::analysis::ParsedDocument;
 use crate::data::DataContext;
 use crate::diagnostic::Diagnostic;
 use crate::positions::{LineIndex, LinePosition, PositionEncoding};
+
+/// A process-wide counter: every text state of every document gets its own generation, so a
+/// result is matched to the exact text it was computed from even when a client reuses version
+/// numbers (or closes and reopens a document).
+pub fn next_generation() -> u64 {
+    static COUNTER: AtomicU64 = AtomicU64::new(1);
+    COUNTER.fetch_add(1, Ordering::Relaxed)
+}
 
 /// One change of `textDocument/didChange`, with LSP types already stripped.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -27,7 +36,10 @@ pub struct TextChange {
 /// The result of analysing one version of a document.
 #[derive(Debug)]
 pub struct AnalysisOutcome {
+    /// The client's version of the analysed text (for publishing).
     pub version: i32,
+    /// The generation of the analysed text (for matching results to texts).
+    pub generation: u64,
     pub index: Arc<LineIndex>,
     pub parsed: Arc<ParsedDocument>,
     pub data: Arc<DataContext>,
@@ -37,6 +49,7 @@ pub struct AnalysisOutcome {
 #[derive(Debug)]
 pub struct OpenDocument {
     pub version: i32,
+    pub generation: u64,
     pub language_id: String,
     rope: Rope,
     index: Arc<LineIndex>,
@@ -48,6 +61,7 @@ impl OpenDocument {
     pub fn new(text: &str, version: i32, language_id: String) -> OpenDocument {
         OpenDocument {
             version,
+            generation: next_generation(),
             language_id,
             rope: Rope::from_str(text),
             index: Arc::new(LineIndex::new(text)),
@@ -87,13 +101,14 @@ impl OpenDocument {
             self.index = Arc::new(LineIndex::from_rope(&self.rope));
         }
         self.version = version;
+        self.generation = next_generation();
     }
 
     /// The latest analysis if it is of the current version.
     pub fn current_analysis(&self) -> Option<Arc<AnalysisOutcome>> {
         self.latest
             .as_ref()
-            .filter(|outcome| outcome.version == self.version)
+            .filter(|outcome| outcome.generation == self.generation)
             .cloned()
     }
 }

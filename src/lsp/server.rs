@@ -27,7 +27,7 @@ use crate::analysis::{analyze, parse_document, AnalysisConfig};
 use crate::data::{DataContext, ProfileCache, ResolveOptions};
 use crate::lsp::completion;
 use crate::lsp::convert::{self, from_lsp_position, to_lsp_range};
-use crate::lsp::documents::{AnalysisOutcome, OpenDocument, TextChange};
+use crate::lsp::documents::{next_generation, AnalysisOutcome, OpenDocument, TextChange};
 use crate::lsp::features;
 use crate::lsp::log;
 use crate::lsp::settings::{merge_settings, parse_editor_settings, EditorSettings};
@@ -92,7 +92,8 @@ struct Session {
 #[derive(Debug)]
 struct DocumentRecord {
     document: OpenDocument,
-    analysis_running: bool,
+    /// Id of the analysis loop of this document, when one runs.
+    analysis_loop: Option<u64>,
     /// The diagnostics last published, to avoid republishing an unchanged set.
     published: Option<Vec<lsp::Diagnostic>>,
     /// Data files read by the latest analysis.
@@ -118,6 +119,7 @@ pub struct Backend {
 /// An immutable view of one document version, sent to the analysis.
 struct Snapshot {
     version: i32,
+    generation: u64,
     index: Arc<LineIndex>,
     resolve: ResolveOptions,
     config: Arc<AnalysisConfig>,
@@ -169,6 +171,7 @@ fn analyse_snapshot(
     let diagnostics = analyze(&parsed, &data, &snapshot.config);
     AnalysisOutcome {
         version: snapshot.version,
+        generation: snapshot.generation,
         index: snapshot.index.clone(),
         parsed: Arc::new(parsed),
         data,
@@ -232,6 +235,7 @@ impl Backend {
             .unwrap_or_default();
         Snapshot {
             version: record.document.version,
+            generation: record.document.generation,
             index: record.document.index(),
             resolve: ResolveOptions {
                 spec_dir,
@@ -242,21 +246,23 @@ impl Backend {
         }
     }
 
-    /// Start the analysis loop of `uri` unless one is running (it will pick up the new version).
+    /// Start the analysis loop of `uri` unless one is running (it will pick up the new text).
     fn schedule_analysis(&self, uri: lsp::Url) {
-        {
+        let loop_id = {
             let mut documents = lock(&self.state.documents);
             let Some(record) = documents.get_mut(&uri) else {
                 return;
             };
-            if record.analysis_running {
+            if record.analysis_loop.is_some() {
                 return;
             }
-            record.analysis_running = true;
-        }
+            let loop_id = next_generation();
+            record.analysis_loop = Some(loop_id);
+            loop_id
+        };
         let state = self.state.clone();
         tokio::spawn(async move {
-            analysis_loop(state, uri).await;
+            analysis_loop(state, uri, loop_id).await;
         });
     }
 
@@ -375,18 +381,31 @@ impl Backend {
     }
 }
 
-/// Analyse `uri` until the analysed version is the current one, publishing each result that is
-/// still current. Only one loop per document runs at a time.
-async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url) {
+/// The record of `uri` if loop `loop_id` still owns its analysis (a close, or a close and
+/// reopen, ends the loop).
+fn owned_record<'m>(
+    documents: &'m mut HashMap<lsp::Url, DocumentRecord>,
+    uri: &lsp::Url,
+    loop_id: u64,
+) -> Option<&'m mut DocumentRecord> {
+    documents
+        .get_mut(uri)
+        .filter(|record| record.analysis_loop == Some(loop_id))
+}
+
+/// Analyse `uri` until the analysed text is the current one, publishing each result that is
+/// still current. Only one loop per document runs at a time (the one whose id the record holds).
+async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
     loop {
         let snapshot = {
-            let documents = lock(&state.documents);
-            let Some(record) = documents.get(&uri) else {
-                return; // closed
+            let mut documents = lock(&state.documents);
+            let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
+                return;
             };
             Backend::snapshot_of(&state, &uri, record)
         };
         let version = snapshot.version;
+        let generation = snapshot.generation;
         let cache = state.cache.clone();
         let mut task = tokio::task::spawn_blocking(move || {
             catch_unwind(AssertUnwindSafe(|| {
@@ -406,20 +425,17 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url) {
         };
         let outcome = match joined {
             Ok(Ok(outcome)) => Arc::new(outcome),
-            Ok(Err(payload)) => {
+            failed => {
+                let reason = match failed {
+                    Ok(Err(payload)) => format!("panic: {}", panic_message(payload.as_ref())),
+                    Err(join_error) => join_error.to_string(),
+                    Ok(Ok(_)) => String::new(),
+                };
                 log::error(&format!(
-                    "panic in the analysis of {uri} (version {version}): {}",
-                    panic_message(payload.as_ref())
+                    "the analysis of {uri} (version {version}) failed: {reason}"
                 ));
-                if let Some(record) = lock(&state.documents).get_mut(&uri) {
-                    record.analysis_running = false;
-                }
-                return;
-            }
-            Err(join_error) => {
-                log::error(&format!("analysis task of {uri} failed: {join_error}"));
-                if let Some(record) = lock(&state.documents).get_mut(&uri) {
-                    record.analysis_running = false;
+                if let Some(record) = owned_record(&mut lock(&state.documents), &uri, loop_id) {
+                    record.analysis_loop = None;
                 }
                 return;
             }
@@ -427,11 +443,11 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url) {
         let encoding = lock(&state.session).encoding;
         let to_publish = {
             let mut documents = lock(&state.documents);
-            let Some(record) = documents.get_mut(&uri) else {
+            let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
                 return;
             };
-            if record.document.version != version {
-                continue; // stale: analyse the newer version
+            if record.document.generation != generation {
+                continue; // stale: analyse the newer text
             }
             record.data_paths = features::data_paths(&outcome.data);
             let diagnostics: Vec<lsp::Diagnostic> = outcome
@@ -449,6 +465,7 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url) {
                 Some(diagnostics)
             }
         };
+        // still the loop's turn: no other loop publishes for this document meanwhile
         if let Some(diagnostics) = to_publish {
             state
                 .client
@@ -456,11 +473,11 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url) {
                 .await;
         }
         let mut documents = lock(&state.documents);
-        let Some(record) = documents.get_mut(&uri) else {
+        let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
             return;
         };
-        if record.document.version == version {
-            record.analysis_running = false;
+        if record.document.generation == generation {
+            record.analysis_loop = None;
             return;
         }
     }
@@ -639,7 +656,7 @@ impl LanguageServer for Backend {
         let opened = guarded("textDocument/didOpen", || {
             let record = DocumentRecord {
                 document: OpenDocument::new(&item.text, item.version, item.language_id.clone()),
-                analysis_running: false,
+                analysis_loop: None,
                 published: None,
                 data_paths: Vec::new(),
             };
