@@ -326,7 +326,7 @@ const INTERVAL_UNIT_WORDS: &[&str] = &[
     "centigrade",
 ];
 
-const RATIO_UNIT_WORDS: &[&str] = &["mm", "cm", "km", "kg", "mg", "ml", "kelvin", "count"];
+const RATIO_UNIT_WORDS: &[&str] = &["mm", "cm", "km", "g", "kg", "mg", "ml", "kelvin", "count"];
 
 /// What the numeric values of a column look like, for [`zero_meaning_hint`].
 #[derive(Clone, Copy, Debug, Default)]
