@@ -85,10 +85,7 @@ fn rule_6_quoted_fields_hold_line_breaks_quotes_and_commas() {
         records(b"\"aaa\",\"b\r\nbb\",\"ccc\"\r\nzzz,yyy,xxx", b','),
         strings(&[&["aaa", "b\r\nbb", "ccc"], &["zzz", "yyy", "xxx"]])
     );
-    assert_eq!(
-        records(b"\"a,b\",c\n", b','),
-        strings(&[&["a,b", "c"]])
-    );
+    assert_eq!(records(b"\"a,b\",c\n", b','), strings(&[&["a,b", "c"]]));
 }
 
 #[test]
@@ -154,10 +151,18 @@ fn byte_order_mark_is_not_part_of_the_first_name() {
 
 #[test]
 fn tsv_semicolon_and_declared_delimiters() {
-    let tsv = profile_text("ferries.tsv", b"route\tminutes\nnorth\t35\n", ReadOptions::default());
+    let tsv = profile_text(
+        "ferries.tsv",
+        b"route\tminutes\nnorth\t35\n",
+        ReadOptions::default(),
+    );
     assert_eq!(tsv.format, DataFormat::Tsv);
     assert_eq!(tsv.columns.len(), 2);
-    let semicolon = profile_text("loaves.csv", b"loaf;grams\nrye;800\n", ReadOptions::default());
+    let semicolon = profile_text(
+        "loaves.csv",
+        b"loaf;grams\nrye;800\n",
+        ReadOptions::default(),
+    );
     assert_eq!(semicolon.columns[1].name, "grams");
     let piped = profile_text(
         "loaves.txt",
@@ -172,7 +177,8 @@ fn tsv_semicolon_and_declared_delimiters() {
 
 #[test]
 fn ragged_rows_are_problems_with_line_and_offset_and_the_rest_is_profiled() {
-    let content = b"boat,seats,port\nalba,40,north\n\"long\nname\",12\nbrig,30,south,extra\nskiff,8,east\n";
+    let content =
+        b"boat,seats,port\nalba,40,north\n\"long\nname\",12\nbrig,30,south,extra\nskiff,8,east\n";
     let profile = profile_text("boats.csv", content, ReadOptions::default());
     assert_eq!(profile.rows, 4);
     assert_eq!(profile.problems.len(), 2);
@@ -187,7 +193,13 @@ fn ragged_rows_are_problems_with_line_and_offset_and_the_rest_is_profiled() {
     );
     let port = profile.column("port").map(|c| c.missing);
     assert_eq!(port, Some(1));
-    assert_eq!(profile.column("seats").and_then(|c| c.numeric.as_ref()).map(|n| n.count), Some(4));
+    assert_eq!(
+        profile
+            .column("seats")
+            .and_then(|c| c.numeric.as_ref())
+            .map(|n| n.count),
+        Some(4)
+    );
 }
 
 /// A file over the parallel threshold whose rows hold quoted line breaks, so that the cut
@@ -215,17 +227,24 @@ fn two_thread_scan_with_quoted_line_breaks_matches_the_truth() {
     }
     // one ragged row at the very end, to check line numbers across the cut
     writeln!(content, "\"tail\",1").ok();
-    file.write_all(&content).unwrap_or_else(|error| panic!("write: {error}"));
+    file.write_all(&content)
+        .unwrap_or_else(|error| panic!("write: {error}"));
     drop(file);
-    assert!(content.len() > 12 << 20, "the file must be big enough for two threads");
+    assert!(
+        content.len() > 12 << 20,
+        "the file must be big enough for two threads"
+    );
 
-    let profile = match ProfileCache::new().full_profile(&path, &ReadOptions::default(), &|_| true) {
+    let profile = match ProfileCache::new().full_profile(&path, &ReadOptions::default(), &|_| true)
+    {
         Ok(profile) => profile,
         Err(error) => panic!("{error}"),
     };
     assert_eq!(profile.rows, row_count + 1);
     let weight = profile.column("weight").and_then(|c| c.numeric.clone());
-    let Some(weight) = weight else { panic!("no weights") };
+    let Some(weight) = weight else {
+        panic!("no weights")
+    };
     assert_eq!(weight.count, row_count + 1);
     let expected_mean = (expected_sum + 1) as f64 / (row_count + 1) as f64;
     assert!((weight.mean - expected_mean).abs() < 1e-9);

@@ -56,7 +56,13 @@ fn iris_rows_columns_and_kinds() {
     let names: Vec<&str> = profile.columns.iter().map(|c| c.name.as_str()).collect();
     assert_eq!(
         names,
-        ["sepal_length", "sepal_width", "petal_length", "petal_width", "species"]
+        [
+            "sepal_length",
+            "sepal_width",
+            "petal_length",
+            "petal_width",
+            "species"
+        ]
     );
     // Iris: the four measurements are numeric, species is categorical (SOURCES.md)
     for (name, ..) in IRIS_NUMERIC {
@@ -106,7 +112,11 @@ fn iris_numeric_summaries_match_the_published_statistics() {
         assert_eq!(numeric.min, min, "{name} min");
         assert_eq!(numeric.max, max, "{name} max");
         assert_close(numeric.mean, mean, 1e-6, name);
-        assert_eq!(numeric.histogram.iter().sum::<u64>(), 150, "{name} histogram");
+        assert_eq!(
+            numeric.histogram.iter().sum::<u64>(),
+            150,
+            "{name} histogram"
+        );
     }
 }
 
@@ -144,12 +154,20 @@ fn penguins_rows_missing_and_kinds() {
     }
     let total_missing: u64 = profile.columns.iter().map(|c| c.missing).sum();
     assert_eq!(total_missing, 19); // Penguins: 19 `NA` cells in all (SOURCES.md)
-    // Penguins: species, island, sex are categorical; the rest numeric (SOURCES.md)
+                                   // Penguins: species, island, sex are categorical; the rest numeric (SOURCES.md)
     for name in ["species", "island", "sex"] {
-        assert_eq!(column(&profile, name).kind, AttributeKind::Categorical, "{name}");
+        assert_eq!(
+            column(&profile, name).kind,
+            AttributeKind::Categorical,
+            "{name}"
+        );
     }
     for (name, ..) in PENGUIN_NUMERIC {
-        assert_eq!(column(&profile, name).kind, AttributeKind::Quantitative, "{name}");
+        assert_eq!(
+            column(&profile, name).kind,
+            AttributeKind::Quantitative,
+            "{name}"
+        );
     }
 }
 
@@ -243,7 +261,10 @@ fn penguins_zero_meaning_from_names_and_values() {
         column(&profile, "bill_length_mm").zero,
         Some(ZeroMeaning::Meaningful)
     );
-    assert_eq!(column(&profile, "body_mass_g").zero, Some(ZeroMeaning::Meaningful));
+    assert_eq!(
+        column(&profile, "body_mass_g").zero,
+        Some(ZeroMeaning::Meaningful)
+    );
     assert_eq!(column(&profile, "species").zero, None);
 }
 
