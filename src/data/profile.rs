@@ -4,8 +4,9 @@
 //!
 //! Memory is bounded whatever the file size: distinct values are kept exactly (with counts) up
 //! to [`EXACT_DISTINCT_CAP`] values or [`EXACT_DISTINCT_BYTES_CAP`] bytes of text per column;
-//! past that the column switches to a HyperLogLog estimate and the kept values only keep
-//! counting (so top values are then the most frequent among the values seen before the switch).
+//! past that the column switches to a HyperLogLog estimate, keeps only the
+//! [`KEPT_AFTER_SWITCH`] most frequent values so far, and only those keep counting (so top
+//! values of such a column are the most frequent among those seen before the switch).
 
 use std::collections::HashMap;
 use std::path::PathBuf;
@@ -26,6 +27,8 @@ use crate::spec::model::{AttributeKind, DataFormat, ZeroMeaning};
 pub const EXACT_DISTINCT_CAP: usize = 100_000;
 /// Bytes of distinct text kept per column before switching to an estimate.
 pub const EXACT_DISTINCT_BYTES_CAP: usize = 4 << 20;
+/// Values that keep their counts after the switch to an estimate (for the top values).
+pub const KEPT_AFTER_SWITCH: usize = 1024;
 /// `all_values` is filled when a column has at most this many distinct values.
 pub const ALL_VALUES_CAP: usize = 256;
 pub const TOP_VALUE_COUNT: usize = 10;
@@ -87,6 +90,43 @@ impl DistinctTracker {
             sketch.add_hash(entry.hash);
         }
         self.estimate = Some(sketch);
+        self.keep_only_most_frequent();
+    }
+
+    /// After the switch to an estimate, keep counting only the most frequent values seen so
+    /// far: a small table stays in the processor's cache and bounds memory.
+    fn keep_only_most_frequent(&mut self) {
+        let mut numbers: Vec<NumberEntry> = self.numbers.iter().copied().collect();
+        numbers.sort_unstable_by(|a, b| b.count.cmp(&a.count));
+        numbers.truncate(KEPT_AFTER_SWITCH);
+        let mut number_table = HashTable::with_capacity(numbers.len());
+        for entry in numbers {
+            number_table.insert_unique(hash_number_bits(entry.bits), entry, |entry| {
+                hash_number_bits(entry.bits)
+            });
+        }
+        self.numbers = number_table;
+
+        let mut texts: Vec<TextEntry> = self.texts.iter().copied().collect();
+        texts.sort_unstable_by(|a, b| b.count.cmp(&a.count));
+        texts.truncate(KEPT_AFTER_SWITCH);
+        let mut arena = Vec::new();
+        let mut text_table = HashTable::with_capacity(texts.len());
+        for entry in texts {
+            let text = DistinctTracker::text_of(&self.text_arena, &entry);
+            let offset = arena.len() as u32;
+            arena.extend_from_slice(text);
+            text_table.insert_unique(
+                entry.hash,
+                TextEntry {
+                    offset,
+                    ..entry
+                },
+                |entry| entry.hash,
+            );
+        }
+        self.texts = text_table;
+        self.text_arena = arena;
     }
 
     fn add_number_count(&mut self, value: f64, count: u64) {
@@ -179,22 +219,76 @@ impl DistinctTracker {
         }
     }
 
-    /// Every kept value as (display text, count, number if numeric).
-    fn kept_values(&self) -> Vec<(String, u64, Option<f64>)> {
+    /// Every kept value as a reference with its count.
+    fn kept_references(&self) -> Vec<(KeptValue<'_>, u64)> {
         let mut values = Vec::with_capacity(self.exact_len());
         for entry in self.numbers.iter() {
-            let number = f64::from_bits(entry.bits);
-            values.push((format_number(number), entry.count, Some(number)));
+            values.push((KeptValue::Number(f64::from_bits(entry.bits)), entry.count));
         }
         for entry in self.texts.iter() {
             let text = DistinctTracker::text_of(&self.text_arena, entry);
-            values.push((
-                String::from_utf8_lossy(text).into_owned(),
-                entry.count,
-                None,
-            ));
+            values.push((KeptValue::Text(text), entry.count));
         }
         values
+    }
+
+    /// The `limit` most frequent kept values, most frequent first, ties in value order.
+    fn most_frequent(&self, limit: usize) -> Vec<(String, u64)> {
+        let mut values = self.kept_references();
+        let by_frequency = |a: &(KeptValue<'_>, u64), b: &(KeptValue<'_>, u64)| {
+            b.1.cmp(&a.1).then_with(|| a.0.cmp_value(&b.0))
+        };
+        if values.len() > limit && limit > 0 {
+            values.select_nth_unstable_by(limit - 1, by_frequency);
+            values.truncate(limit);
+        }
+        values.sort_unstable_by(by_frequency);
+        values
+            .iter()
+            .take(limit)
+            .map(|(value, count)| (value.display(), *count))
+            .collect()
+    }
+
+    /// Every value with its count in value order, when exact and at most `cap` values.
+    fn every_value(&self, cap: usize) -> Option<Vec<(String, u64)>> {
+        if self.estimate.is_some() || self.exact_len() > cap {
+            return None;
+        }
+        let mut values = self.kept_references();
+        values.sort_unstable_by(|a, b| a.0.cmp_value(&b.0));
+        Some(
+            values
+                .iter()
+                .map(|(value, count)| (value.display(), *count))
+                .collect(),
+        )
+    }
+}
+
+/// A kept distinct value, borrowed from the tracker.
+#[derive(Clone, Copy, Debug)]
+enum KeptValue<'a> {
+    Number(f64),
+    Text(&'a [u8]),
+}
+
+impl KeptValue<'_> {
+    /// Numbers first in numeric order, then text in byte order.
+    fn cmp_value(&self, other: &KeptValue<'_>) -> std::cmp::Ordering {
+        match (self, other) {
+            (KeptValue::Number(x), KeptValue::Number(y)) => x.total_cmp(y),
+            (KeptValue::Number(_), KeptValue::Text(_)) => std::cmp::Ordering::Less,
+            (KeptValue::Text(_), KeptValue::Number(_)) => std::cmp::Ordering::Greater,
+            (KeptValue::Text(a), KeptValue::Text(b)) => a.cmp(b),
+        }
+    }
+
+    fn display(&self) -> String {
+        match self {
+            KeptValue::Number(number) => format_number(*number),
+            KeptValue::Text(text) => String::from_utf8_lossy(text).into_owned(),
+        }
     }
 }
 
@@ -366,20 +460,17 @@ impl ColumnAccumulator {
             self.time_count as f64 / present as f64
         };
         let distinct = self.distinct.distinct_count();
-        let mut kept = self.distinct.kept_values();
         let numeric = (self.numeric_count > 0).then(|| {
             let histogram = if self.distinct.estimate.is_none() {
                 let mut bins = vec![0u64; HISTOGRAM_BIN_COUNT];
-                for (_, count, number) in &kept {
-                    if let Some(number) = number {
-                        let bin = equal_width_bin(
-                            *number,
-                            self.numeric_min,
-                            self.numeric_max,
-                            HISTOGRAM_BIN_COUNT,
-                        );
-                        bins[bin] += count;
-                    }
+                for entry in self.distinct.numbers.iter() {
+                    let bin = equal_width_bin(
+                        f64::from_bits(entry.bits),
+                        self.numeric_min,
+                        self.numeric_max,
+                        HISTOGRAM_BIN_COUNT,
+                    );
+                    bins[bin] += entry.count;
                 }
                 bins
             } else {
@@ -394,21 +485,8 @@ impl ColumnAccumulator {
                 histogram,
             }
         });
-
-        // most frequent first; ties by value order
-        let mut by_frequency: Vec<&(String, u64, Option<f64>)> = kept.iter().collect();
-        by_frequency.sort_by(|a, b| b.1.cmp(&a.1).then_with(|| compare_value_tuples(a, b)));
-        let top_values: Vec<(String, u64)> = by_frequency
-            .iter()
-            .take(TOP_VALUE_COUNT)
-            .map(|(text, count, _)| (text.clone(), *count))
-            .collect();
-        kept.sort_by(compare_value_tuples);
-        let all_values = (distinct.exact && kept.len() <= ALL_VALUES_CAP).then(|| {
-            kept.iter()
-                .map(|(text, count, _)| (text.clone(), *count))
-                .collect::<Vec<_>>()
-        });
+        let top_values = self.distinct.most_frequent(TOP_VALUE_COUNT);
+        let all_values = self.distinct.every_value(ALL_VALUES_CAP);
 
         let (kind, kind_evidence) =
             self.decide_kind(present, numeric_share, time_share, &all_values);
@@ -522,19 +600,6 @@ impl ColumnAccumulator {
             evidence = format!("all {present} values are text");
         }
         (AttributeKind::Categorical, evidence)
-    }
-}
-
-/// Numbers first in numeric order, then text in byte order.
-fn compare_value_tuples(
-    a: &(String, u64, Option<f64>),
-    b: &(String, u64, Option<f64>),
-) -> std::cmp::Ordering {
-    match (a.2, b.2) {
-        (Some(x), Some(y)) => x.total_cmp(&y),
-        (Some(_), None) => std::cmp::Ordering::Less,
-        (None, Some(_)) => std::cmp::Ordering::Greater,
-        (None, None) => a.0.cmp(&b.0),
     }
 }
 
