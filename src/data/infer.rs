@@ -28,6 +28,11 @@ const MISSING_TOKENS: &[&str] = &[
 
 /// The cell with ASCII spaces (and tabs, CR) trimmed from both ends.
 pub fn trim_cell(cell: &str) -> &str {
+    let bytes = cell.as_bytes();
+    let is_space = |byte: &u8| *byte == b' ' || *byte == b'\t' || *byte == b'\r';
+    if !bytes.first().is_some_and(is_space) && !bytes.last().is_some_and(is_space) {
+        return cell;
+    }
     cell.trim_matches(|character: char| character == ' ' || character == '\t' || character == '\r')
 }
 
@@ -36,11 +41,56 @@ pub fn is_missing_token(trimmed: &str) -> bool {
     trimmed.is_empty() || (trimmed.len() <= 4 && MISSING_TOKENS.contains(&trimmed))
 }
 
+/// Exact powers of ten as `f64` (every one up to 10^22 is exact in binary64).
+const EXACT_POWERS_OF_TEN: [f64; 16] = [
+    1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+];
+
+/// Plain decimals (`-12.345`, at most 15 digits, no exponent) without the general parser:
+/// the digits as an integer below 2^53 divided by an exact power of ten is correctly rounded
+/// (W. D. Clinger 1990, "How to read floating point numbers accurately", the fast path; from
+/// memory). `None` when the text is not of that simple form.
+fn parse_plain_decimal(bytes: &[u8]) -> Option<f64> {
+    let (negative, digits) = match bytes.first()? {
+        b'-' => (true, &bytes[1..]),
+        b'+' => (false, &bytes[1..]),
+        _ => (false, bytes),
+    };
+    let mut mantissa: u64 = 0;
+    let mut digit_count = 0usize;
+    let mut fraction_digits = 0usize;
+    let mut seen_point = false;
+    for &byte in digits {
+        match byte {
+            b'0'..=b'9' => {
+                mantissa = mantissa * 10 + u64::from(byte - b'0');
+                digit_count += 1;
+                if seen_point {
+                    fraction_digits += 1;
+                }
+                if digit_count > 15 {
+                    return None;
+                }
+            }
+            b'.' if !seen_point => seen_point = true,
+            _ => return None,
+        }
+    }
+    if digit_count == 0 {
+        return None;
+    }
+    let magnitude = mantissa as f64 / EXACT_POWERS_OF_TEN[fraction_digits];
+    Some(if negative { -magnitude } else { magnitude })
+}
+
 /// The number a trimmed cell holds, if it is one.
 pub fn parse_number(trimmed: &str) -> Option<f64> {
     let first = *trimmed.as_bytes().first()?;
     if !(first.is_ascii_digit() || first == b'-' || first == b'+' || first == b'.') {
         return None;
+    }
+    if let Some(value) = parse_plain_decimal(trimmed.as_bytes()) {
+        return Some(value);
     }
     let value: f64 = trimmed.parse().ok()?;
     if value.is_finite() {
@@ -412,6 +462,38 @@ mod tests {
         assert_eq!(parse_number("1e999"), None);
         assert_eq!(parse_number("12abc"), None);
         assert_eq!(parse_number("2024-03-05"), None);
+        assert_eq!(parse_number("-"), None);
+        assert_eq!(parse_number("."), None);
+        assert_eq!(parse_number("1.2.3"), None);
+    }
+
+    #[test]
+    fn the_plain_decimal_path_agrees_with_the_general_parser() {
+        for text in [
+            "0",
+            "-0",
+            "42",
+            "39.1",
+            "0.1",
+            "5.843333",
+            "-273.15",
+            "123456789012345",
+            "0.00000000000001",
+            "99999.99999",
+            "+7.5",
+            ".5",
+            "5.",
+        ] {
+            let general: f64 = text.parse().unwrap_or(f64::NAN);
+            assert_eq!(
+                parse_plain_decimal(text.as_bytes()),
+                Some(general),
+                "{text}"
+            );
+        }
+        // more than 15 digits goes to the general parser
+        assert_eq!(parse_plain_decimal(b"1234567890123456"), None);
+        assert_eq!(parse_number("1234567890123456"), Some(1234567890123456.0));
     }
 
     #[test]

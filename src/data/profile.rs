@@ -116,14 +116,9 @@ impl DistinctTracker {
             let text = DistinctTracker::text_of(&self.text_arena, &entry);
             let offset = arena.len() as u32;
             arena.extend_from_slice(text);
-            text_table.insert_unique(
-                entry.hash,
-                TextEntry {
-                    offset,
-                    ..entry
-                },
-                |entry| entry.hash,
-            );
+            text_table.insert_unique(entry.hash, TextEntry { offset, ..entry }, |entry| {
+                entry.hash
+            });
         }
         self.texts = text_table;
         self.text_arena = arena;

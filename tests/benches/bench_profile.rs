@@ -35,15 +35,26 @@ impl SplitMix64 {
 }
 
 const PORTS: [&str; 12] = [
-    "Harwick", "Lowmere", "Saltby", "Orrin", "Kessock", "Brae", "Tollan", "Ferrow", "Dunmore",
-    "Ashpoint", "Gullhaven", "Pennock",
+    "Harwick",
+    "Lowmere",
+    "Saltby",
+    "Orrin",
+    "Kessock",
+    "Brae",
+    "Tollan",
+    "Ferrow",
+    "Dunmore",
+    "Ashpoint",
+    "Gullhaven",
+    "Pennock",
 ];
 const LOADS: [&str; 3] = ["light", "medium", "heavy"];
 
 fn generate(path: &Path, target_bytes: u64) -> std::io::Result<()> {
     let temporary = path.with_extension("partial");
     let mut out = BufWriter::with_capacity(1 << 20, File::create(&temporary)?);
-    let header = "trip_id,sailed_on,departed_at,port,vessel,load,passengers,fare_eur,sea_temp_degc,remark\n";
+    let header =
+        "trip_id,sailed_on,departed_at,port,vessel,load,passengers,fare_eur,sea_temp_degc,remark\n";
     out.write_all(header.as_bytes())?;
     let mut written = header.len() as u64;
     let mut random = SplitMix64(20261201);
@@ -96,6 +107,22 @@ fn generate(path: &Path, target_bytes: u64) -> std::io::Result<()> {
     std::fs::rename(&temporary, path)
 }
 
+/// CPU seconds (user + system) this process has used, from /proc/self/stat (fields 14 and 15,
+/// in clock ticks of 1/100 s on Linux).
+fn cpu_seconds() -> f64 {
+    let Ok(stat) = std::fs::read_to_string("/proc/self/stat") else {
+        return f64::NAN;
+    };
+    // the command name may hold spaces: fields are counted after the closing parenthesis
+    let after_name = stat.rsplit_once(')').map_or("", |(_, rest)| rest);
+    let fields: Vec<&str> = after_name.split_whitespace().collect();
+    let ticks = |index: usize| fields.get(index).and_then(|f| f.parse::<f64>().ok());
+    match (ticks(11), ticks(12)) {
+        (Some(user), Some(system)) => (user + system) / 100.0,
+        _ => f64::NAN,
+    }
+}
+
 fn peak_resident_kib() -> Option<u64> {
     let status = std::fs::read_to_string("/proc/self/status").ok()?;
     let line = status.lines().find(|line| line.starts_with("VmHWM:"))?;
@@ -107,7 +134,11 @@ fn bench_file(target_bytes: u64) -> Option<PathBuf> {
     std::fs::create_dir_all(&folder).ok()?;
     let path = folder.join(format!("ferry-trips-{target_bytes}.csv"));
     if !path.is_file() {
-        println!("generating {} ({} MiB) ...", path.display(), target_bytes >> 20);
+        println!(
+            "generating {} ({} MiB) ...",
+            path.display(),
+            target_bytes >> 20
+        );
         let started = Instant::now();
         if let Err(error) = generate(&path, target_bytes) {
             println!("could not generate the benchmark file: {error}");
@@ -121,11 +152,13 @@ fn bench_file(target_bytes: u64) -> Option<PathBuf> {
 struct LibraryFigures {
     name: String,
     seconds: f64,
+    cpu_seconds: f64,
     peak_mib: f64,
 }
 
 fn run_reference_library(path: &Path) -> Option<LibraryFigures> {
-    let script = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/benches/bench_profile_polars.py");
+    let script =
+        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/benches/bench_profile_polars.py");
     let output = Command::new("python3").arg(&script).arg(path).output();
     let output = match output {
         Ok(output) => output,
@@ -138,6 +171,7 @@ fn run_reference_library(path: &Path) -> Option<LibraryFigures> {
     let mut figures = LibraryFigures {
         name: String::new(),
         seconds: f64::NAN,
+        cpu_seconds: f64::NAN,
         peak_mib: f64::NAN,
     };
     for line in stdout.lines() {
@@ -150,6 +184,9 @@ fn run_reference_library(path: &Path) -> Option<LibraryFigures> {
         }
         if let Some(rest) = line.strip_prefix("seconds ") {
             figures.seconds = rest.trim().parse().unwrap_or(f64::NAN);
+        }
+        if let Some(rest) = line.strip_prefix("cpu_seconds ") {
+            figures.cpu_seconds = rest.trim().parse().unwrap_or(f64::NAN);
         }
         if let Some(rest) = line.strip_prefix("peak_rss_mib ") {
             figures.peak_mib = rest.trim().parse().unwrap_or(f64::NAN);
@@ -207,8 +244,10 @@ fn main() {
     }
 
     let started = Instant::now();
+    let cpu_before = cpu_seconds();
     let full = cache.full_profile(&path, &read, &|_| true);
     let seconds = started.elapsed().as_secs_f64();
+    let cpu = cpu_seconds() - cpu_before;
     let peak_mib = peak_resident_kib().map_or(f64::NAN, |kib| kib as f64 / 1024.0);
     match &full {
         Ok(profile) => {
@@ -234,21 +273,24 @@ fn main() {
     let reference = run_reference_library(&path);
     println!();
     println!("file: {} ({megabytes:.0} MB)", path.display());
-    println!("{:<22} {:>10} {:>10} {:>14}", "", "seconds", "MB/s", "peak RSS MiB");
     println!(
-        "{:<22} {:>10.2} {:>10.0} {:>14.1}",
-        "markwell",
-        seconds,
-        megabytes / seconds,
-        peak_mib
+        "{:<16} {:>9} {:>9} {:>12} {:>16} {:>13}",
+        "", "seconds", "MB/s", "CPU seconds", "MB per CPU-sec", "peak RSS MiB"
     );
-    if let Some(reference) = reference {
+    let row = |name: &str, wall: f64, cpu: f64, peak: f64| {
         println!(
-            "{:<22} {:>10.2} {:>10.0} {:>14.1}",
-            reference.name,
+            "{name:<16} {wall:>9.2} {:>9.0} {cpu:>12.2} {:>16.0} {peak:>13.1}",
+            megabytes / wall,
+            megabytes / cpu
+        );
+    };
+    row("markwell", seconds, cpu, peak_mib);
+    if let Some(reference) = reference {
+        row(
+            &reference.name,
             reference.seconds,
-            megabytes / reference.seconds,
-            reference.peak_mib
+            reference.cpu_seconds,
+            reference.peak_mib,
         );
     } else {
         println!("(install the reference library with: python3 -m pip install polars)");

@@ -1,6 +1,6 @@
 """Reference figures for tests/benches/bench_profile.rs: load a CSV with polars (all cores), then per
-column count nulls, distinct values, min and max. Prints `library`, `seconds` and
-`peak_rss_mib` lines; prints `MISSING ...` when polars is not installed.
+column count nulls, distinct values, min and max. Prints `library`, `seconds`,
+`cpu_seconds` and `peak_rss_mib` lines; prints `MISSING ...` when polars is not installed.
 
 Install: python3 -m pip install polars
 """
@@ -21,6 +21,7 @@ def main() -> int:
         return 0
     path = sys.argv[1]
     started = time.perf_counter()
+    usage_before = resource.getrusage(resource.RUSAGE_SELF)
     frame = pl.read_csv(path, null_values=["NA", ""], try_parse_dates=True)
     summaries = []
     for name in frame.columns:
@@ -29,6 +30,10 @@ def main() -> int:
             (name, column.null_count(), column.n_unique(), column.min(), column.max())
         )
     seconds = time.perf_counter() - started
+    usage_after = resource.getrusage(resource.RUSAGE_SELF)
+    cpu_seconds = (usage_after.ru_utime + usage_after.ru_stime) - (
+        usage_before.ru_utime + usage_before.ru_stime
+    )
     # ru_maxrss is in KiB on Linux
     peak_kib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     for name, nulls, distinct, low, high in summaries:
@@ -36,6 +41,7 @@ def main() -> int:
     print(f"library polars {pl.__version__}")
     print(f"rows {frame.height}")
     print(f"seconds {seconds:.3f}")
+    print(f"cpu_seconds {cpu_seconds:.3f}")
     print(f"peak_rss_mib {peak_kib / 1024:.1f}")
     return 0
 
