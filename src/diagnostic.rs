@@ -161,7 +161,7 @@ mod tests {
         let text = "{\"a\": 1, \"b\": 2}";
         let edits = vec![
             TextEdit {
-                range: TextRange::new(13, 14),
+                range: TextRange::new(14, 15),
                 new_text: "20".into(),
             },
             TextEdit {

@@ -1,8 +1,23 @@
-//! Analysis configuration: rule severities and the active channel ranking.
+//! Analysis configuration: rule severities and the active channel ranking, and the reader of
+//! `markwell.toml` (a pure function of its text; front ends find and read the file).
+//!
+//! ```toml
+//! ranking = "mackinlay-1986"      # active channel ranking
+//!
+//! [rules]                         # rule id = "error" | "warning" | "info" | "hint" | "off"
+//! truncated-baseline = "error"
+//! too-many-hues = "off"
+//!
+//! [data]
+//! allow-outside-workspace = false # may `source.path` leave the workspace folder?
+//! ```
 
 use std::collections::HashMap;
 
 use crate::diagnostic::Severity;
+
+/// File name of the project configuration at the workspace root.
+pub const CONFIG_FILE_NAME: &str = "markwell.toml";
 
 /// What the user configured (from `markwell.toml`, the command line or the editor).
 #[derive(Clone, Debug, Default, PartialEq)]
@@ -20,5 +35,107 @@ impl AnalysisConfig {
             Some(setting) => *setting,
             None => Some(default),
         }
+    }
+
+    /// Overlay `other` on `self` (later settings win).
+    pub fn merge(&mut self, other: &AnalysisConfig) {
+        for (rule, severity) in &other.severity_overrides {
+            self.severity_overrides.insert(rule.clone(), *severity);
+        }
+        if other.ranking.is_some() {
+            self.ranking = other.ranking.clone();
+        }
+    }
+}
+
+/// Parse a severity setting: a severity name or `off`.
+pub fn parse_severity_setting(text: &str) -> Result<Option<Severity>, String> {
+    if text == "off" {
+        return Ok(None);
+    }
+    Severity::parse(text).map(Some).ok_or_else(|| {
+        format!("`{text}` is not a severity; use `error`, `warning`, `info`, `hint` or `off`")
+    })
+}
+
+/// Everything `markwell.toml` sets.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct ProjectConfig {
+    pub analysis: AnalysisConfig,
+    pub allow_outside_workspace: bool,
+}
+
+/// Read `markwell.toml` text. Problems that still leave a usable configuration come back as
+/// warnings; a file that is not TOML at all is an error.
+pub fn parse_project_config(text: &str) -> Result<(ProjectConfig, Vec<String>), String> {
+    let table: toml::Table = text
+        .parse()
+        .map_err(|error: toml::de::Error| format!("not valid TOML: {}", error.message()))?;
+    let mut config = ProjectConfig::default();
+    let mut warnings = Vec::new();
+    for (key, value) in &table {
+        match (key.as_str(), value) {
+            ("ranking", toml::Value::String(id)) => config.analysis.ranking = Some(id.clone()),
+            ("rules", toml::Value::Table(rules)) => {
+                for (rule, setting) in rules {
+                    match setting.as_str().map(parse_severity_setting) {
+                        Some(Ok(severity)) => {
+                            config
+                                .analysis
+                                .severity_overrides
+                                .insert(rule.clone(), severity);
+                        }
+                        Some(Err(message)) => warnings.push(format!("rules.{rule}: {message}")),
+                        None => warnings.push(format!("rules.{rule}: expected a string")),
+                    }
+                }
+            }
+            ("data", toml::Value::Table(data)) => {
+                for (data_key, data_value) in data {
+                    match (data_key.as_str(), data_value) {
+                        ("allow-outside-workspace", toml::Value::Boolean(allow)) => {
+                            config.allow_outside_workspace = *allow
+                        }
+                        _ => warnings.push(format!("data.{data_key}: unknown setting")),
+                    }
+                }
+            }
+            _ => warnings.push(format!("`{key}`: unknown setting or wrong type")),
+        }
+    }
+    Ok((config, warnings))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn reads_ranking_rules_and_data_settings() {
+        let text = "ranking = \"munzner-2014\"\n[rules]\ntoo-many-hues = \"off\"\ntruncated-baseline = \"error\"\n[data]\nallow-outside-workspace = true\n";
+        let (config, warnings) = parse_project_config(text).unwrap_or_default();
+        assert!(warnings.is_empty(), "{warnings:?}");
+        assert_eq!(config.analysis.ranking.as_deref(), Some("munzner-2014"));
+        assert_eq!(
+            config
+                .analysis
+                .severity_for("too-many-hues", Severity::Warning),
+            None
+        );
+        assert_eq!(
+            config
+                .analysis
+                .severity_for("truncated-baseline", Severity::Warning),
+            Some(Severity::Error)
+        );
+        assert!(config.allow_outside_workspace);
+    }
+
+    #[test]
+    fn bad_settings_are_warnings_and_bad_toml_an_error() {
+        let (_, warnings) =
+            parse_project_config("[rules]\nx = \"loud\"\ncolour = 1\n").unwrap_or_default();
+        assert_eq!(warnings.len(), 2, "{warnings:?}");
+        assert!(parse_project_config("[rules").is_err());
     }
 }

@@ -5,7 +5,9 @@
 //! 1. [`parse_document`] parses and lowers the text (syntax, schema and model diagnostics);
 //! 2. [`analyze`] runs the rules over the model and the profiles the front end loaded for it.
 
+pub mod channels;
 pub mod config;
+pub mod facts;
 pub mod rules;
 
 use std::collections::HashMap;
@@ -43,6 +45,7 @@ pub fn parse_document(text: &str) -> ParsedDocument {
         .collect();
     let (spec, model_diagnostics) = crate::spec::lower_document(&tree);
     diagnostics.extend(model_diagnostics);
+    diagnostics.extend(crate::spec::schema::check_schema(&tree));
     ParsedDocument {
         tree,
         spec,

@@ -1,12 +1,363 @@
-//! Lowering: syntax tree → `ChartSpec`. PLACEHOLDER: filled in next.
+//! Lowering: syntax tree → [`ChartSpec`]. Lenient by design: what has the wrong type or is
+//! missing is left out here, because the schema check (see `schema.rs`) reports it with a precise
+//! range and a suggestion. Lowering reports only what the schema cannot say well (for example a
+//! spec with both `layers` and a top-level `mark`).
 
-use crate::diagnostic::Diagnostic;
-use crate::spec::model::ChartSpec;
-use crate::syntax::SyntaxTree;
+use crate::diagnostic::{Diagnostic, Severity};
+use crate::spec::model::*;
+use crate::syntax::{Node, NodeKind, SyntaxTree};
+use crate::text_range::TextRange;
+
+/// Rule id of structural problems found while lowering.
+pub const SPEC_STRUCTURE: &str = "spec-structure";
 
 /// Lower a parsed document into the model. Never fails: what cannot be read is left out and
-/// reported in the returned diagnostics.
+/// reported in the returned diagnostics (or by the schema check).
 pub fn lower_document(tree: &SyntaxTree) -> (ChartSpec, Vec<Diagnostic>) {
-    let _ = tree;
-    (ChartSpec::default(), Vec::new())
+    let mut diagnostics = Vec::new();
+    let Some(root) = tree
+        .root_value()
+        .filter(|node| node.kind() == NodeKind::Object)
+    else {
+        return (ChartSpec::default(), diagnostics);
+    };
+    let mut spec = ChartSpec {
+        range: root.range(),
+        title: root.get("title").and_then(lower_string),
+        description: root.get("description").and_then(lower_string),
+        source: root.get("source").and_then(lower_source),
+        columns: root.get("columns").map(lower_columns).unwrap_or_default(),
+        purpose: root
+            .get("purpose")
+            .and_then(|node| lower_keyword(node, Purpose::parse)),
+        emphasis: Vec::new(),
+        emphasis_range: None,
+        frame: root.get("frame").map(lower_frame).unwrap_or_default(),
+        layers: Vec::new(),
+        uses_layers_key: false,
+        panels: root.get("panels").and_then(lower_panels),
+    };
+    if let Some(emphasis) = root.get("emphasis") {
+        spec.emphasis_range = Some(emphasis.range());
+        spec.emphasis = lower_string_array(emphasis);
+    }
+
+    let layers_member = root.member("layers");
+    let top_level_mark = root.member("mark");
+    let top_level_bind = root.member("bind");
+    if let Some(layers_member) = layers_member {
+        spec.uses_layers_key = true;
+        if let Some(layers) = layers_member.value() {
+            spec.layers = layers
+                .elements()
+                .filter(|node| node.kind() == NodeKind::Object)
+                .enumerate()
+                .map(|(index, node)| lower_layer(index, node, node))
+                .collect();
+        }
+        for conflicting in [top_level_mark, top_level_bind, root.member("arrange")]
+            .into_iter()
+            .flatten()
+        {
+            let key = conflicting.key_text().unwrap_or_default();
+            diagnostics.push(Diagnostic::new(
+                SPEC_STRUCTURE,
+                Severity::Error,
+                conflicting.key_range().unwrap_or(conflicting.range()),
+                format!(
+                    "top-level `{key}` cannot be used together with `layers`; move it into a layer"
+                ),
+            ));
+        }
+    } else if top_level_mark.is_some() || top_level_bind.is_some() {
+        spec.layers.push(lower_layer(0, root, root));
+        if top_level_mark.is_none() {
+            let range = top_level_bind
+                .and_then(|member| member.key_range())
+                .unwrap_or(root.range());
+            diagnostics.push(Diagnostic::new(
+                SPEC_STRUCTURE,
+                Severity::Error,
+                range,
+                "the chart binds channels but has no `mark`",
+            ));
+        }
+    } else {
+        diagnostics.push(Diagnostic::new(
+            SPEC_STRUCTURE,
+            Severity::Error,
+            opening_brace_range(root),
+            "the chart draws nothing: add a `mark` and `bind`, or `layers`",
+        ));
+    }
+    (spec, diagnostics)
+}
+
+/// The range of an object's opening brace (a short place to point at for whole-object problems).
+fn opening_brace_range(node: Node<'_>) -> TextRange {
+    let start = node.range().start;
+    TextRange::new(start, (start + 1).min(node.range().end))
+}
+
+fn lower_string(node: Node<'_>) -> Option<Spanned<String>> {
+    node.as_str()
+        .map(|text| Spanned::new(text.into_owned(), node.range()))
+}
+
+fn lower_number(node: Node<'_>) -> Option<Spanned<f64>> {
+    node.as_f64().map(|value| Spanned::new(value, node.range()))
+}
+
+fn lower_bool(node: Node<'_>) -> Option<Spanned<bool>> {
+    node.as_bool()
+        .map(|value| Spanned::new(value, node.range()))
+}
+
+fn lower_count(node: Node<'_>) -> Option<Spanned<u32>> {
+    let value = node.as_f64()?;
+    if value.fract() != 0.0 || !(0.0..=u32::MAX as f64).contains(&value) {
+        return None;
+    }
+    Some(Spanned::new(value as u32, node.range()))
+}
+
+fn lower_keyword<T>(node: Node<'_>, parse: fn(&str) -> Option<T>) -> Option<Spanned<T>> {
+    let text = node.as_str()?;
+    parse(&text).map(|value| Spanned::new(value, node.range()))
+}
+
+fn lower_string_array(node: Node<'_>) -> Vec<Spanned<String>> {
+    node.elements().filter_map(lower_string).collect()
+}
+
+fn lower_source(node: Node<'_>) -> Option<Source> {
+    if node.kind() != NodeKind::Object {
+        return None;
+    }
+    let location = if let Some(path) = node.get("path").and_then(lower_string) {
+        SourceLocation::Path(path)
+    } else if let Some(rows) = node
+        .get("rows")
+        .filter(|rows| rows.kind() == NodeKind::Array)
+    {
+        SourceLocation::Rows {
+            rows: rows.elements().filter_map(lower_inline_row).collect(),
+            range: rows.range(),
+        }
+    } else {
+        SourceLocation::Missing
+    };
+    let delimiter = node.get("delimiter").and_then(|value| {
+        let text = value.as_str()?;
+        let mut chars = text.chars();
+        let first = chars.next()?;
+        chars
+            .next()
+            .is_none()
+            .then(|| Spanned::new(first, value.range()))
+    });
+    Some(Source {
+        range: node.range(),
+        location,
+        format: node
+            .get("format")
+            .and_then(|value| lower_keyword(value, DataFormat::parse)),
+        delimiter,
+    })
+}
+
+fn lower_inline_row(node: Node<'_>) -> Option<InlineRow> {
+    if node.kind() != NodeKind::Object {
+        return None;
+    }
+    Some(
+        node.members()
+            .filter_map(|member| {
+                let key = member.key_text()?.into_owned();
+                let value = member.value()?;
+                let scalar = match value.kind() {
+                    NodeKind::Null => InlineValue::Null,
+                    NodeKind::True => InlineValue::Bool(true),
+                    NodeKind::False => InlineValue::Bool(false),
+                    NodeKind::Number => InlineValue::Number(value.as_f64()?),
+                    NodeKind::String => InlineValue::Text(value.as_str()?.into_owned()),
+                    // nested values are not columns: written as their JSON text
+                    _ => InlineValue::Text(value.text().to_string()),
+                };
+                Some((key, scalar))
+            })
+            .collect(),
+    )
+}
+
+fn lower_columns(node: Node<'_>) -> Vec<ColumnDeclaration> {
+    node.members()
+        .filter_map(|member| {
+            let key = member.key()?;
+            let name = Spanned::new(key.as_str()?.into_owned(), key.range());
+            let value = member
+                .value()
+                .filter(|value| value.kind() == NodeKind::Object)?;
+            Some(ColumnDeclaration {
+                name,
+                range: value.range(),
+                kind: value
+                    .get("kind")
+                    .and_then(|kind| lower_keyword(kind, AttributeKind::parse)),
+                levels: value.get("levels").and_then(|levels| {
+                    (levels.kind() == NodeKind::Array)
+                        .then(|| Spanned::new(lower_string_array(levels), levels.range()))
+                }),
+                zero: value
+                    .get("zero")
+                    .and_then(|zero| lower_keyword(zero, ZeroMeaning::parse)),
+                unit: value.get("unit").and_then(lower_string),
+                label: value.get("label").and_then(lower_string),
+            })
+        })
+        .collect()
+}
+
+fn lower_frame(node: Node<'_>) -> Frame {
+    Frame {
+        range: Some(node.range()),
+        width: node.get("width").and_then(lower_number),
+        height: node.get("height").and_then(lower_number),
+        background: node.get("background").and_then(lower_string),
+    }
+}
+
+fn lower_panels(node: Node<'_>) -> Option<Panels> {
+    (node.kind() == NodeKind::Object).then(|| Panels {
+        range: node.range(),
+        by: node.get("by").and_then(lower_string),
+        wrap: node.get("wrap").and_then(lower_count),
+    })
+}
+
+/// Lower a layer. `node` holds `mark`, `bind`, ...; for a single-layer chart it is the root.
+fn lower_layer(index: usize, node: Node<'_>, range_node: Node<'_>) -> Layer {
+    let bind = node
+        .get("bind")
+        .filter(|bind| bind.kind() == NodeKind::Object);
+    Layer {
+        index,
+        range: range_node.range(),
+        mark: node
+            .get("mark")
+            .and_then(|mark| lower_keyword(mark, Mark::parse)),
+        bind_range: bind.map(|bind| bind.range()),
+        bindings: bind.map(lower_bindings).unwrap_or_default(),
+        arrange: node
+            .get("arrange")
+            .and_then(|arrange| lower_keyword(arrange, Arrange::parse)),
+        style: node.get("style").map(lower_style).unwrap_or_default(),
+        source: node.get("source").and_then(lower_source),
+    }
+}
+
+fn lower_style(node: Node<'_>) -> Style {
+    Style {
+        range: Some(node.range()),
+        color: node.get("color").and_then(lower_string),
+        opacity: node.get("opacity").and_then(lower_number),
+        radius: node.get("radius").and_then(lower_number),
+        stroke_width: node.get("stroke-width").and_then(lower_number),
+    }
+}
+
+fn lower_bindings(bind: Node<'_>) -> Vec<Binding> {
+    let mut bindings: Vec<Binding> = Vec::new();
+    for member in bind.members() {
+        let Some(channel) = member.key_text().and_then(|key| Channel::parse(&key)) else {
+            continue;
+        };
+        // a duplicate key is a syntax error already; the first one counts
+        if bindings.iter().any(|binding| binding.channel == channel) {
+            continue;
+        }
+        let Some(value) = member.value() else {
+            continue;
+        };
+        let key_range = member.key_range().unwrap_or(member.range());
+        let mut binding = Binding {
+            channel,
+            key_range,
+            member_range: member.range(),
+            value_range: value.range(),
+            shorthand: false,
+            column: None,
+            summary: None,
+            bins: None,
+            scale: None,
+            palette: None,
+            order: None,
+        };
+        match value.kind() {
+            NodeKind::String => {
+                binding.shorthand = true;
+                binding.column = lower_string(value).filter(|column| !column.value.is_empty());
+            }
+            NodeKind::Object => {
+                binding.column = value
+                    .get("column")
+                    .and_then(lower_string)
+                    .filter(|column| !column.value.is_empty());
+                binding.summary = value
+                    .get("summary")
+                    .and_then(|summary| lower_keyword(summary, Summary::parse));
+                binding.bins = value.get("bins").and_then(lower_count);
+                binding.scale = value.get("scale").and_then(lower_scale);
+                binding.palette = value.get("palette").and_then(|palette| {
+                    (palette.kind() == NodeKind::Array)
+                        .then(|| Spanned::new(lower_string_array(palette), palette.range()))
+                });
+                binding.order = value.get("order").and_then(lower_order);
+            }
+            _ => continue,
+        }
+        bindings.push(binding);
+    }
+    bindings
+}
+
+fn lower_scale(node: Node<'_>) -> Option<Scale> {
+    if node.kind() != NodeKind::Object {
+        return None;
+    }
+    let domain = node.get("domain").and_then(|domain| {
+        let bounds: Vec<f64> = domain
+            .elements()
+            .filter_map(|bound| bound.as_f64())
+            .collect();
+        match bounds.as_slice() {
+            [low, high] if domain.elements().count() == 2 => {
+                Some(Spanned::new((*low, *high), domain.range()))
+            }
+            _ => None,
+        }
+    });
+    Some(Scale {
+        range: node.range(),
+        scale_type: node
+            .get("type")
+            .and_then(|scale_type| lower_keyword(scale_type, ScaleType::parse)),
+        domain,
+        zero: node.get("zero").and_then(lower_bool),
+        reverse: node.get("reverse").and_then(lower_bool),
+    })
+}
+
+fn lower_order(node: Node<'_>) -> Option<Spanned<SortOrder>> {
+    let order = match node.kind() {
+        NodeKind::String => match node.as_str()?.as_ref() {
+            "ascending" => SortOrder::Ascending,
+            "descending" => SortOrder::Descending,
+            "data" => SortOrder::Data,
+            _ => return None,
+        },
+        NodeKind::Array => SortOrder::Explicit(lower_string_array(node)),
+        _ => return None,
+    };
+    Some(Spanned::new(order, node.range()))
 }

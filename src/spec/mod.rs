@@ -2,6 +2,8 @@
 
 pub mod lower;
 pub mod model;
+pub mod schema;
+pub mod suggest;
 
 pub use lower::lower_document;
 pub use model::*;

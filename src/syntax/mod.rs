@@ -6,4 +6,6 @@ mod parser;
 pub mod tree;
 
 pub use parser::{parse, MAX_NESTING_DEPTH};
-pub use tree::{Member, Node, NodeId, NodeKind, SyntaxError, SyntaxTree, Token, TokenKind};
+pub use tree::{
+    Member, Node, NodeId, NodeKind, SyntaxError, SyntaxErrorKind, SyntaxTree, Token, TokenKind,
+};

@@ -81,6 +81,17 @@ struct NodeData {
 pub struct SyntaxError {
     pub range: TextRange,
     pub message: String,
+    pub kind: SyntaxErrorKind,
+}
+
+/// Whether an error breaks the JSON grammar, or is legal JSON that a chart spec still rejects.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum SyntaxErrorKind {
+    /// The text is not JSON (RFC 8259 grammar).
+    Grammar,
+    /// A key repeated in one object. RFC 8259 section 4 only says names SHOULD be unique, so the
+    /// text is valid JSON, but readers disagree on which value wins, so a spec must not do it.
+    DuplicateKey,
 }
 
 /// The result of parsing: never fails. Bad input sits in `Error` nodes and in `errors`.
@@ -318,7 +329,7 @@ impl<'t> Member<'t> {
 /// Unescape a JSON string literal as written (with its quotes, the closing one possibly missing).
 pub fn unescape_string_literal(literal: &str) -> Cow<'_, str> {
     let inner = literal.strip_prefix('"').unwrap_or(literal);
-    let inner = if inner.len() > 0 && inner.ends_with('"') && !ends_with_escaped_quote(inner) {
+    let inner = if !inner.is_empty() && inner.ends_with('"') && !ends_with_escaped_quote(inner) {
         &inner[..inner.len() - 1]
     } else {
         inner
@@ -406,6 +417,9 @@ pub struct TreeBuilder {
     /// Open nodes: (id, length of `pending_children` when opened).
     open: Vec<(NodeId, usize)>,
     pending_children: Vec<NodeId>,
+    /// Index of the last non-trivia token pushed: the last own token of every node that
+    /// closes while it is inside, found without scanning back over trailing trivia.
+    last_significant_token: Option<usize>,
 }
 
 impl TreeBuilder {
@@ -419,6 +433,7 @@ impl TreeBuilder {
             errors: Vec::new(),
             open: Vec::new(),
             pending_children: Vec::new(),
+            last_significant_token: None,
         };
         builder.start_node(NodeKind::Document);
         builder
@@ -456,6 +471,9 @@ impl TreeBuilder {
             self.tokens.last().map_or(0, |token| token.range.end),
             "tokens must cover the input without gaps"
         );
+        if !kind.is_trivia() {
+            self.last_significant_token = Some(self.tokens.len());
+        }
         self.tokens.push(Token { kind, range });
     }
 
@@ -477,9 +495,16 @@ impl TreeBuilder {
         let children_end = self.children.len() as u32;
         let tokens_start = self.nodes[id.0 as usize].tokens_start as usize;
         let tokens_end = self.tokens.len();
-        let own = &self.tokens[tokens_start..tokens_end];
-        let first = own.iter().find(|token| !token.kind.is_trivia());
-        let last = own.iter().rev().find(|token| !token.kind.is_trivia());
+        let last = self
+            .last_significant_token
+            .filter(|&index| index >= tokens_start)
+            .map(|index| self.tokens[index]);
+        // nodes open right before their first significant token, so this scan is short
+        let first = last.and_then(|_| {
+            self.tokens[tokens_start..tokens_end]
+                .iter()
+                .find(|token| !token.kind.is_trivia())
+        });
         let data = &mut self.nodes[id.0 as usize];
         data.children_start = children_start;
         data.children_end = children_end;
@@ -490,17 +515,32 @@ impl TreeBuilder {
         // a node without tokens keeps the empty range where it was opened
     }
 
+    /// Report a grammar error.
     pub fn error(&mut self, range: TextRange, message: impl Into<String>) {
+        self.error_of_kind(SyntaxErrorKind::Grammar, range, message);
+    }
+
+    pub fn error_of_kind(
+        &mut self,
+        kind: SyntaxErrorKind,
+        range: TextRange,
+        message: impl Into<String>,
+    ) {
         self.errors.push(SyntaxError {
             range,
             message: message.into(),
+            kind,
         });
     }
 
+    /// Close all open nodes and return the tree; its errors are sorted by position (stable, so
+    /// errors at the same place keep the order they were reported in).
     pub fn finish(mut self) -> SyntaxTree {
         while !self.open.is_empty() {
             self.close_innermost();
         }
+        self.errors
+            .sort_by_key(|error| (error.range.start, error.range.end));
         let end = self.text.len();
         if let Some(document) = self.nodes.first_mut() {
             document.range = TextRange::new(0, end);

@@ -1,18 +1,201 @@
-//! The rule registry. Each rule lives in its own file with its documentation beside it.
+//! The rule registry. Each rule lives in its own file with its documentation beside it (a
+//! Markdown file of the same name with the sections What it checks / Why it matters / Example /
+//! Instead / Source); `markwell explain ID` prints it.
 
+mod angle_for_comparison;
+mod area_perception;
+mod better_channel_free;
+mod capacity;
+mod connected_unordered;
+mod emphasis_order;
+mod kind_conflict;
+mod levels_mismatch;
+mod log_of_nonpositive;
+mod magnitude_of_interval;
+mod missing_source;
+mod negative_area;
+mod ordered_channel_for_categories;
+pub mod part_to_whole_invalid;
+mod sparse_column;
+mod stacked_comparison;
+mod summary_on_categorical;
+mod too_many_hues;
+mod too_many_shapes;
+mod too_many_slices;
+mod truncated_baseline;
+mod unknown_column;
+mod unordered_channel_for_order;
+
+use crate::analysis::facts::{layer_facts, LayerFacts};
 use crate::analysis::{AnalysisConfig, ParsedDocument};
 use crate::data::DataContext;
-use crate::diagnostic::Diagnostic;
+use crate::diagnostic::{Diagnostic, Severity};
+use crate::spec::model::ChartSpec;
 
-/// Id of syntax errors (not a rule of the registry: parsing reports them).
+/// Id of syntax errors (reported by the parser).
 pub const SYNTAX_ERROR: &str = "syntax-error";
 
-/// Run every registered rule.
+/// Everything a rule may look at.
+pub struct RuleContext<'a> {
+    pub document: &'a ParsedDocument,
+    pub data: &'a DataContext,
+    pub config: &'a AnalysisConfig,
+    /// Per-layer facts (sources, profiles, effective kinds), computed once.
+    pub layers: Vec<LayerFacts<'a>>,
+}
+
+impl<'a> RuleContext<'a> {
+    pub fn new(
+        document: &'a ParsedDocument,
+        data: &'a DataContext,
+        config: &'a AnalysisConfig,
+    ) -> RuleContext<'a> {
+        RuleContext {
+            document,
+            data,
+            config,
+            layers: layer_facts(&document.spec, data),
+        }
+    }
+
+    pub fn spec(&self) -> &'a ChartSpec {
+        &self.document.spec
+    }
+
+    /// The text of the document.
+    pub fn text(&self) -> &'a str {
+        self.document.tree.text()
+    }
+}
+
+/// Where a rule's findings come from.
+#[derive(Clone, Copy)]
+pub enum RuleCheck {
+    /// Found while parsing, lowering or checking the schema (not run by the registry).
+    Document,
+    /// Run over the model and the data.
+    Semantic(fn(&RuleContext<'_>) -> Vec<Diagnostic>),
+}
+
+/// A registered rule.
+pub struct Rule {
+    /// Stable kebab-case id.
+    pub id: &'static str,
+    pub default_severity: Severity,
+    /// Catalogue section (`document`, `data`, `expressiveness`, ...).
+    pub group: &'static str,
+    /// One line for `markwell rules`.
+    pub summary: &'static str,
+    pub has_fix: bool,
+    /// The Markdown documentation.
+    pub docs: &'static str,
+    pub check: RuleCheck,
+}
+
+/// The sections every rule's documentation must have, in order.
+pub const DOC_SECTIONS: [&str; 5] = [
+    "## What it checks",
+    "## Why it matters",
+    "## Example",
+    "## Instead",
+    "## Source",
+];
+
+/// All rules, in catalogue order.
+pub fn registry() -> &'static [Rule] {
+    static RULES: &[Rule] = &[
+        Rule {
+            id: SYNTAX_ERROR,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "JSON that does not parse",
+            has_fix: false,
+            docs: include_str!("syntax-error.md"),
+            check: RuleCheck::Document,
+        },
+        Rule {
+            id: crate::spec::schema::UNKNOWN_KEY,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "a key the format does not have",
+            has_fix: true,
+            docs: include_str!("unknown-key.md"),
+            check: RuleCheck::Document,
+        },
+        Rule {
+            id: crate::spec::schema::INVALID_VALUE,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "a value outside the allowed set",
+            has_fix: true,
+            docs: include_str!("invalid-value.md"),
+            check: RuleCheck::Document,
+        },
+        Rule {
+            id: crate::spec::schema::SCHEMA_MISMATCH,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "a value of the wrong type or a missing required key",
+            has_fix: false,
+            docs: include_str!("schema-mismatch.md"),
+            check: RuleCheck::Document,
+        },
+        Rule {
+            id: crate::spec::lower::SPEC_STRUCTURE,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "a chart that draws nothing or mixes layers with a top-level mark",
+            has_fix: false,
+            docs: include_str!("spec-structure.md"),
+            check: RuleCheck::Document,
+        },
+        missing_source::RULE,
+        unknown_column::RULE,
+        levels_mismatch::RULE,
+        kind_conflict::RULE,
+        summary_on_categorical::RULE,
+        sparse_column::RULE,
+        unordered_channel_for_order::RULE,
+        ordered_channel_for_categories::RULE,
+        connected_unordered::RULE,
+        part_to_whole_invalid::RULE,
+        magnitude_of_interval::RULE,
+        log_of_nonpositive::RULE,
+        negative_area::RULE,
+        truncated_baseline::RULE,
+        area_perception::RULE,
+        better_channel_free::RULE,
+        emphasis_order::RULE,
+        angle_for_comparison::RULE,
+        stacked_comparison::RULE,
+        too_many_hues::RULE,
+        too_many_shapes::RULE,
+        too_many_slices::RULE,
+    ];
+    RULES
+}
+
+pub fn rule_by_id(id: &str) -> Option<&'static Rule> {
+    registry().iter().find(|rule| rule.id == id)
+}
+
+/// Run every registered semantic rule.
 pub fn run_all(
     document: &ParsedDocument,
     data: &DataContext,
     config: &AnalysisConfig,
 ) -> Vec<Diagnostic> {
-    let _ = (document, data, config);
-    Vec::new()
+    let context = RuleContext::new(document, data, config);
+    let mut diagnostics = Vec::new();
+    for rule in registry() {
+        if let RuleCheck::Semantic(check) = rule.check {
+            if config
+                .severity_for(rule.id, rule.default_severity)
+                .is_some()
+            {
+                diagnostics.extend(check(&context));
+            }
+        }
+    }
+    diagnostics
 }

@@ -1,0 +1,222 @@
+//! Channel helpers the rules share: what the eye reads for a binding (through
+//! `knowledge::perceived`), the active ranking, which channels a mark can draw, which are free,
+//! and the edits that move or swap bindings.
+
+use crate::analysis::facts::{BindingFacts, LayerFacts};
+use crate::analysis::AnalysisConfig;
+use crate::diagnostic::{Fix, TextEdit};
+use crate::knowledge::perceived::{perceived_channel, ChannelContext, PerceivedChannel};
+use crate::knowledge::rankings::{ranking_by_id, Ranking, DEFAULT_RANKING_ID, MACKINLAY_1986};
+use crate::spec::model::{AttributeKind, Channel, ChartSpec, Mark};
+use crate::spec::schema::json_string;
+
+/// The ranking the configuration selects (an unknown id falls back to the default; the
+/// configuration loader reports it).
+pub fn active_ranking(config: &AnalysisConfig) -> &'static Ranking {
+    config
+        .ranking
+        .as_deref()
+        .and_then(ranking_by_id)
+        .or_else(|| ranking_by_id(DEFAULT_RANKING_ID))
+        .unwrap_or(&MACKINLAY_1986)
+}
+
+/// The context `knowledge::perceived` needs for a binding of a layer.
+pub fn channel_context(
+    spec: &ChartSpec,
+    layer: &LayerFacts<'_>,
+    channel: Channel,
+    summarised: bool,
+) -> Option<ChannelContext> {
+    Some(ChannelContext {
+        mark: layer.mark()?,
+        channel,
+        arrange: layer.layer.arrange.as_ref().map(|arrange| arrange.value),
+        in_panels: spec.panels.is_some(),
+        value_axis: layer.value_axis(),
+        binding_is_summarised: summarised,
+    })
+}
+
+/// What the eye reads for a binding.
+pub fn perceived_for(
+    spec: &ChartSpec,
+    layer: &LayerFacts<'_>,
+    facts: &BindingFacts<'_>,
+) -> Option<PerceivedChannel> {
+    let context = channel_context(
+        spec,
+        layer,
+        facts.binding.channel,
+        facts.binding.summary.is_some(),
+    )?;
+    Some(perceived_channel(&context))
+}
+
+/// The channels each mark can draw. A convention of the chart-spec format (no source): a bar
+/// has no shape, an arc has no x and y of its own, a point has no angle.
+pub fn channels_for_mark(mark: Mark) -> &'static [Channel] {
+    use Channel::*;
+    match mark {
+        Mark::Point => &[X, Y, Hue, Luminance, Saturation, Area, Shape, Tilt, Label],
+        Mark::Line => &[X, Y, Hue, Luminance, Saturation, Texture, Label],
+        Mark::Area | Mark::Bar | Mark::Tile | Mark::Rule => {
+            &[X, Y, Hue, Luminance, Saturation, Texture, Label]
+        }
+        Mark::Arc => &[Angle, Hue, Luminance, Saturation, Texture, Label],
+        Mark::Text => &[X, Y, Hue, Luminance, Saturation, Area, Tilt, Label],
+    }
+}
+
+/// Channels of the layer's mark that no binding uses.
+pub fn free_channels(layer: &LayerFacts<'_>) -> Vec<Channel> {
+    let Some(mark) = layer.mark() else {
+        return Vec::new();
+    };
+    channels_for_mark(mark)
+        .iter()
+        .copied()
+        .filter(|channel| layer.binding(*channel).is_none())
+        .collect()
+}
+
+/// The perceived channel a binding would have on `channel` instead, everything else equal.
+/// Moving to a position channel makes that axis the value axis when the values are magnitudes.
+pub fn perceived_if_moved(
+    spec: &ChartSpec,
+    layer: &LayerFacts<'_>,
+    facts: &BindingFacts<'_>,
+    channel: Channel,
+) -> Option<PerceivedChannel> {
+    let mut context = channel_context(spec, layer, channel, facts.binding.summary.is_some())?;
+    if channel.is_position() && context.value_axis.is_none() && facts.is_magnitude() {
+        context.value_axis = Some(channel);
+    }
+    Some(perceived_channel(&context))
+}
+
+/// A fix that renames a binding's key to `channel` (the value stays as written).
+pub fn move_binding_fix(facts: &BindingFacts<'_>, channel: Channel) -> Fix {
+    Fix::quick(
+        format!(
+            "move `{}` from `{}` to `{}`",
+            facts.display_name(),
+            facts.binding.channel.as_str(),
+            channel.as_str()
+        ),
+        vec![TextEdit {
+            range: facts.binding.key_range,
+            new_text: json_string(channel.as_str()),
+        }],
+    )
+}
+
+/// A fix that swaps the channels of two bindings (by swapping their keys).
+pub fn swap_bindings_fix(first: &BindingFacts<'_>, second: &BindingFacts<'_>) -> Fix {
+    let mut edits = vec![
+        TextEdit {
+            range: first.binding.key_range,
+            new_text: json_string(second.binding.channel.as_str()),
+        },
+        TextEdit {
+            range: second.binding.key_range,
+            new_text: json_string(first.binding.channel.as_str()),
+        },
+    ];
+    edits.sort_by_key(|edit| edit.range.start);
+    Fix::quick(
+        format!(
+            "swap `{}` and `{}` between `{}` and `{}`",
+            first.display_name(),
+            second.display_name(),
+            first.binding.channel.as_str(),
+            second.binding.channel.as_str()
+        ),
+        edits,
+    )
+}
+
+/// "quantitative" / "ordered" / ... with an article for messages.
+pub fn kind_phrase(kind: AttributeKind) -> &'static str {
+    match kind {
+        AttributeKind::Categorical => "a categorical",
+        AttributeKind::Ordered => "an ordered",
+        AttributeKind::Quantitative => "a quantitative",
+        AttributeKind::Time => "a time",
+    }
+}
+
+/// "1st", "2nd", "3rd", ...
+pub fn ordinal(number: u8) -> String {
+    let suffix = match (number % 10, number % 100) {
+        (1, 11) | (2, 12) | (3, 13) => "th",
+        (1, _) => "st",
+        (2, _) => "nd",
+        (3, _) => "rd",
+        _ => "th",
+    };
+    format!("{number}{suffix}")
+}
+
+/// A fix that redraws an arc layer as bars: the mark becomes `bar`, the `angle` binding moves
+/// to `y` and the binding that splits the slices (the first categorical colour, texture or
+/// label binding) moves to `x`, when those channels are free.
+pub fn arc_to_bar_fix(layer: &LayerFacts<'_>) -> Option<Fix> {
+    let mark = layer.layer.mark.as_ref()?;
+    let mut edits = vec![TextEdit {
+        range: mark.range,
+        new_text: json_string(Mark::Bar.as_str()),
+    }];
+    if let (Some(angle), None) = (layer.binding(Channel::Angle), layer.binding(Channel::Y)) {
+        edits.push(TextEdit {
+            range: angle.binding.key_range,
+            new_text: json_string(Channel::Y.as_str()),
+        });
+    }
+    if layer.binding(Channel::X).is_none() {
+        let splitter = [
+            Channel::Hue,
+            Channel::Texture,
+            Channel::Luminance,
+            Channel::Saturation,
+            Channel::Label,
+        ]
+        .into_iter()
+        .filter_map(|channel| layer.binding(channel))
+        .find(|facts| facts.kind == Some(AttributeKind::Categorical) || facts.kind.is_none());
+        if let Some(splitter) = splitter {
+            edits.push(TextEdit {
+                range: splitter.binding.key_range,
+                new_text: json_string(Channel::X.as_str()),
+            });
+        }
+    }
+    edits.sort_by_key(|edit| edit.range.start);
+    Some(Fix::quick("draw bars instead of arc slices", edits))
+}
+
+/// A fix that sets a stacked layer's `arrange` to side by side (bars) or overlap (areas).
+pub fn unstack_fix(layer: &LayerFacts<'_>) -> Option<Fix> {
+    let arrange = layer.layer.arrange.as_ref()?;
+    let replacement = match layer.mark()? {
+        Mark::Area => crate::spec::model::Arrange::Overlap,
+        _ => crate::spec::model::Arrange::SideBySide,
+    };
+    Some(Fix::quick(
+        format!("arrange the series `{}`", replacement.as_str()),
+        vec![TextEdit {
+            range: arrange.range,
+            new_text: json_string(replacement.as_str()),
+        }],
+    ))
+}
+
+/// The binding whose values a layer's marks are sized by: `angle` for arcs, the value axis for
+/// bars and areas.
+pub fn magnitude_binding<'l, 'a>(layer: &'l LayerFacts<'a>) -> Option<&'l BindingFacts<'a>> {
+    match layer.mark()? {
+        Mark::Arc => layer.binding(Channel::Angle),
+        Mark::Bar | Mark::Area => layer.binding(layer.value_axis()?),
+        _ => None,
+    }
+}

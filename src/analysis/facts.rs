@@ -1,0 +1,154 @@
+//! Facts the rules share, computed once per analysis: for each layer its source and profile, and
+//! for each binding the column's declaration, profile and the kind of the values it encodes.
+
+use crate::data::{ColumnProfile, DataContext, DataProfile};
+use crate::spec::model::*;
+
+/// Where a binding's effective kind came from.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum KindOrigin {
+    /// `columns.NAME.kind` in the spec.
+    Declared,
+    /// A `summary` produces numbers.
+    Summary,
+    /// `bins` turn numbers into ordered intervals.
+    Bins,
+    /// Inferred from the data profile.
+    Data,
+}
+
+#[derive(Debug)]
+pub struct BindingFacts<'a> {
+    pub binding: &'a Binding,
+    pub declaration: Option<&'a ColumnDeclaration>,
+    /// The column's profile, when the data was read and has the column.
+    pub profile: Option<&'a ColumnProfile>,
+    /// The kind of the values drawn on the channel, when it can be told.
+    pub kind: Option<AttributeKind>,
+    pub kind_origin: Option<KindOrigin>,
+    /// The kind of the column itself (declared, else inferred), before summaries and bins.
+    pub column_kind: Option<AttributeKind>,
+    /// Whether zero is meaningful for the column (declared, else inferred).
+    pub zero: Option<ZeroMeaning>,
+}
+
+impl BindingFacts<'_> {
+    pub fn column_name(&self) -> Option<&str> {
+        self.binding
+            .column
+            .as_ref()
+            .map(|column| column.value.as_str())
+    }
+
+    /// A name for messages: the column, or `count` for a bare count.
+    pub fn display_name(&self) -> String {
+        match (self.column_name(), self.binding.summary.as_ref()) {
+            (Some(column), Some(summary)) => format!("{}({column})", summary.value.as_str()),
+            (Some(column), None) => column.to_string(),
+            (None, Some(summary)) => summary.value.as_str().to_string(),
+            (None, None) => self.binding.channel.as_str().to_string(),
+        }
+    }
+
+    /// Values are numbers with a magnitude (quantitative, or a summary).
+    pub fn is_magnitude(&self) -> bool {
+        self.kind == Some(AttributeKind::Quantitative)
+    }
+}
+
+#[derive(Debug)]
+pub struct LayerFacts<'a> {
+    pub layer: &'a Layer,
+    pub source: Option<&'a Source>,
+    /// The profile of the layer's data, when it was read.
+    pub data: Option<&'a DataProfile>,
+    pub bindings: Vec<BindingFacts<'a>>,
+}
+
+impl<'a> LayerFacts<'a> {
+    pub fn binding(&self, channel: Channel) -> Option<&BindingFacts<'a>> {
+        self.bindings
+            .iter()
+            .find(|facts| facts.binding.channel == channel)
+    }
+
+    pub fn mark(&self) -> Option<Mark> {
+        self.layer.mark.as_ref().map(|mark| mark.value)
+    }
+
+    /// The position channel that carries the value (the magnitude) of bars, areas and lines: the
+    /// one with quantitative values; `y` when both or neither can be told.
+    pub fn value_axis(&self) -> Option<Channel> {
+        let x = self.binding(Channel::X);
+        let y = self.binding(Channel::Y);
+        match (x.map(|f| f.is_magnitude()), y.map(|f| f.is_magnitude())) {
+            (Some(true), Some(false)) | (Some(true), None) => Some(Channel::X),
+            (_, Some(_)) => Some(Channel::Y),
+            (Some(false), None) => None,
+            (None, None) => None,
+        }
+    }
+}
+
+/// Compute the facts of every layer.
+pub fn layer_facts<'a>(spec: &'a ChartSpec, data: &'a DataContext) -> Vec<LayerFacts<'a>> {
+    spec.layers
+        .iter()
+        .map(|layer| {
+            let source = spec.source_for_layer(layer);
+            let profile = source
+                .and_then(|source| data.for_source(source))
+                .and_then(|result| result.as_ref().ok())
+                .map(|profile| profile.as_ref());
+            let bindings = layer
+                .bindings
+                .iter()
+                .map(|binding| binding_facts(spec, profile, binding))
+                .collect();
+            LayerFacts {
+                layer,
+                source,
+                data: profile,
+                bindings,
+            }
+        })
+        .collect()
+}
+
+fn binding_facts<'a>(
+    spec: &'a ChartSpec,
+    data: Option<&'a DataProfile>,
+    binding: &'a Binding,
+) -> BindingFacts<'a> {
+    let name = binding.column.as_ref().map(|column| column.value.as_str());
+    let declaration = name.and_then(|name| spec.column_declaration(name));
+    let profile = name.and_then(|name| data.and_then(|data| data.column(name)));
+    let declared_kind = declaration
+        .and_then(|d| d.kind.as_ref())
+        .map(|kind| kind.value);
+    let column_kind = declared_kind.or(profile.map(|profile| profile.kind));
+    let (kind, kind_origin) = if binding.summary.is_some() {
+        (Some(AttributeKind::Quantitative), Some(KindOrigin::Summary))
+    } else if binding.bins.is_some() {
+        (Some(AttributeKind::Ordered), Some(KindOrigin::Bins))
+    } else if let Some(kind) = declared_kind {
+        (Some(kind), Some(KindOrigin::Declared))
+    } else if let Some(profile) = profile {
+        (Some(profile.kind), Some(KindOrigin::Data))
+    } else {
+        (None, None)
+    };
+    let zero = declaration
+        .and_then(|d| d.zero.as_ref())
+        .map(|zero| zero.value)
+        .or(profile.and_then(|profile| profile.zero));
+    BindingFacts {
+        binding,
+        declaration,
+        profile,
+        kind,
+        kind_origin,
+        column_kind,
+        zero,
+    }
+}

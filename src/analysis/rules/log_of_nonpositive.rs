@@ -1,0 +1,72 @@
+//! `log-of-nonpositive`: a log scale over data with zero or negative values. Documentation:
+//! `log-of-nonpositive.md`.
+
+use crate::analysis::rules::part_to_whole_invalid::format_number;
+use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
+use crate::diagnostic::{Diagnostic, Fix, Severity, TextEdit};
+use crate::spec::model::ScaleType;
+use crate::spec::schema::json_string;
+
+pub const ID: &str = "log-of-nonpositive";
+
+pub const RULE: Rule = Rule {
+    id: ID,
+    default_severity: Severity::Error,
+    group: "expressiveness",
+    summary: "a log scale over data with zero or negative values",
+    has_fix: true,
+    docs: include_str!("log-of-nonpositive.md"),
+    check: RuleCheck::Semantic(check),
+};
+
+fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
+    let mut diagnostics = Vec::new();
+    for layer in &context.layers {
+        for facts in &layer.bindings {
+            let Some(scale_type) = facts
+                .binding
+                .scale
+                .as_ref()
+                .and_then(|scale| scale.scale_type.as_ref())
+                .filter(|scale_type| scale_type.value == ScaleType::Log)
+            else {
+                continue;
+            };
+            // counts are at least 1; other summaries keep the sign of the values
+            if facts
+                .binding
+                .summary
+                .as_ref()
+                .is_some_and(|summary| summary.value.is_counting())
+            {
+                continue;
+            }
+            let Some(numbers) = facts.profile.and_then(|profile| profile.numeric.as_ref()) else {
+                continue;
+            };
+            if numbers.min > 0.0 {
+                continue;
+            }
+            diagnostics.push(
+                Diagnostic::new(
+                    ID,
+                    Severity::Error,
+                    scale_type.range,
+                    format!(
+                        "`{}` goes down to {}, and a log scale has no place for zero or negative values: those marks vanish",
+                        facts.display_name(),
+                        format_number(numbers.min)
+                    ),
+                )
+                .with_fix(Fix::quick(
+                    "use a linear scale",
+                    vec![TextEdit {
+                        range: scale_type.range,
+                        new_text: json_string(ScaleType::Linear.as_str()),
+                    }],
+                )),
+            );
+        }
+    }
+    diagnostics
+}

@@ -1,0 +1,289 @@
+//! `markwell check`: find spec files, load their data, analyse, print, choose the exit code.
+
+use std::path::{Path, PathBuf};
+
+use crate::analysis::config::{
+    parse_project_config, parse_severity_setting, ProjectConfig, CONFIG_FILE_NAME,
+};
+use crate::analysis::{analyze, parse_document};
+use crate::data::{ProfileCache, ResolveOptions};
+use crate::diagnostic::{Diagnostic, Severity};
+
+use super::render::{render_human, render_json, CheckedFile};
+use super::{DenyLevel, OutputFormat, EXIT_CLEAN, EXIT_FINDINGS, EXIT_TROUBLE};
+
+/// Spec files larger than this are refused with a clear error rather than read.
+pub const MAX_SPEC_BYTES: u64 = 64 * 1024 * 1024;
+
+/// Suffix of chart-spec files when searching folders.
+pub const SPEC_SUFFIX: &str = ".chart.json";
+
+#[derive(clap::Args, Debug)]
+pub struct CheckArgs {
+    /// Spec files, or folders searched (recursively) for `*.chart.json`. Default: `.`.
+    pub paths: Vec<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = OutputFormat::Human)]
+    pub format: OutputFormat,
+    /// `--deny warnings`: warnings fail the run too.
+    #[arg(long, value_enum)]
+    pub deny: Option<DenyLevel>,
+    /// Override a rule's severity: `RULE=error|warning|info|hint|off` (repeatable).
+    #[arg(long = "severity", value_name = "RULE=LEVEL")]
+    pub severities: Vec<String>,
+    /// Active channel ranking (see `markwell rules`).
+    #[arg(long)]
+    pub ranking: Option<String>,
+    /// Workspace root: data paths may not leave it. Default: the nearest folder above the spec
+    /// with `markwell.toml` or `.git`, else the current folder.
+    #[arg(long)]
+    pub workspace: Option<PathBuf>,
+    /// Allow `source.path` to point outside the workspace.
+    #[arg(long)]
+    pub allow_outside_workspace: bool,
+    /// Configuration file (default: `markwell.toml` at the workspace root).
+    #[arg(long)]
+    pub config: Option<PathBuf>,
+}
+
+pub fn run(args: &CheckArgs) -> u8 {
+    let mut trouble = false;
+    let mut command_line_config = crate::analysis::AnalysisConfig::default();
+    for setting in &args.severities {
+        let Some((rule, level)) = setting.split_once('=') else {
+            eprintln!("markwell: `--severity {setting}`: expected RULE=LEVEL");
+            return EXIT_TROUBLE;
+        };
+        if crate::analysis::rules::rule_by_id(rule).is_none() {
+            eprintln!("markwell: `--severity {setting}`: no rule `{rule}`");
+            return EXIT_TROUBLE;
+        }
+        match parse_severity_setting(level) {
+            Ok(severity) => {
+                command_line_config
+                    .severity_overrides
+                    .insert(rule.to_string(), severity);
+            }
+            Err(message) => {
+                eprintln!("markwell: `--severity {setting}`: {message}");
+                return EXIT_TROUBLE;
+            }
+        }
+    }
+    command_line_config.ranking = args.ranking.clone();
+
+    let mut files = Vec::new();
+    for path in super::paths_or_current(&args.paths) {
+        match collect_spec_files(&path, &mut files) {
+            Ok(()) => {}
+            Err(message) => {
+                eprintln!("markwell: {message}");
+                trouble = true;
+            }
+        }
+    }
+
+    let cache = ProfileCache::new();
+    let mut checked = Vec::new();
+    for path in files {
+        let text = match read_spec_text(&path) {
+            Ok(text) => text,
+            Err(message) => {
+                eprintln!("markwell: {}: {message}", path.display());
+                trouble = true;
+                continue;
+            }
+        };
+        let workspace_root = args
+            .workspace
+            .clone()
+            .unwrap_or_else(|| find_workspace_root(&path));
+        let project = match load_project_config(args.config.as_deref(), &workspace_root) {
+            Ok(project) => project,
+            Err(message) => {
+                eprintln!("markwell: {message}");
+                return EXIT_TROUBLE;
+            }
+        };
+        let mut config = project.analysis.clone();
+        config.merge(&command_line_config);
+        let document = parse_document(&text.text);
+        let spec_dir = path
+            .parent()
+            .map(Path::to_path_buf)
+            .unwrap_or_else(|| PathBuf::from("."));
+        let options = ResolveOptions {
+            spec_dir,
+            workspace_root: Some(workspace_root),
+            allow_outside_workspace: args.allow_outside_workspace
+                || project.allow_outside_workspace,
+        };
+        let data = cache.load_for_spec(&document.spec, &options);
+        let mut diagnostics = text.encoding_diagnostics;
+        diagnostics.extend(analyze(&document, &data, &config));
+        checked.push(CheckedFile {
+            path,
+            text: text.text,
+            diagnostics,
+        });
+    }
+
+    match args.format {
+        OutputFormat::Human => print!("{}", render_human(&checked)),
+        OutputFormat::Json => println!("{}", render_json(&checked)),
+        OutputFormat::Sarif => println!("{}", super::sarif::render_sarif(&checked)),
+    }
+
+    let fails = |diagnostic: &Diagnostic| {
+        diagnostic.severity == Severity::Error
+            || (args.deny == Some(DenyLevel::Warnings) && diagnostic.severity == Severity::Warning)
+    };
+    if trouble {
+        EXIT_TROUBLE
+    } else if checked
+        .iter()
+        .any(|file| file.diagnostics.iter().any(fails))
+    {
+        EXIT_FINDINGS
+    } else {
+        EXIT_CLEAN
+    }
+}
+
+/// A spec's text, with invalid UTF-8 replaced by U+FFFD and reported.
+pub struct SpecText {
+    pub text: String,
+    pub encoding_diagnostics: Vec<Diagnostic>,
+}
+
+pub fn read_spec_text(path: &Path) -> Result<SpecText, String> {
+    let metadata = std::fs::metadata(path).map_err(|error| describe_io_error(&error))?;
+    if metadata.is_dir() {
+        return Err("is a folder, not a spec file".to_string());
+    }
+    if metadata.len() > MAX_SPEC_BYTES {
+        return Err(format!(
+            "is {} MiB; specs larger than {} MiB are not read",
+            metadata.len() / (1024 * 1024),
+            MAX_SPEC_BYTES / (1024 * 1024)
+        ));
+    }
+    let bytes = std::fs::read(path).map_err(|error| describe_io_error(&error))?;
+    Ok(spec_text_from_bytes(bytes))
+}
+
+/// Decode spec bytes: invalid UTF-8 becomes U+FFFD, with a syntax error at the first bad byte.
+pub fn spec_text_from_bytes(bytes: Vec<u8>) -> SpecText {
+    match String::from_utf8(bytes) {
+        Ok(text) => SpecText {
+            text,
+            encoding_diagnostics: Vec::new(),
+        },
+        Err(error) => {
+            let valid_up_to = error.utf8_error().valid_up_to();
+            let text = String::from_utf8_lossy(error.as_bytes()).into_owned();
+            // the replacement character sits at `valid_up_to` in the decoded text too
+            let end = text[valid_up_to..]
+                .chars()
+                .next()
+                .map_or(valid_up_to, |c| valid_up_to + c.len_utf8());
+            let diagnostic = Diagnostic::new(
+                crate::analysis::rules::SYNTAX_ERROR,
+                Severity::Error,
+                crate::TextRange::new(valid_up_to, end),
+                format!("the file is not valid UTF-8 (first bad byte at offset {valid_up_to})"),
+            );
+            SpecText {
+                text,
+                encoding_diagnostics: vec![diagnostic],
+            }
+        }
+    }
+}
+
+fn describe_io_error(error: &std::io::Error) -> String {
+    match error.kind() {
+        std::io::ErrorKind::NotFound => "no such file or folder".to_string(),
+        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
+        _ => error.to_string(),
+    }
+}
+
+/// Add `path` (a file) or the `*.chart.json` files below it (a folder) to `files`, sorted.
+/// Hidden folders and symbolic links to folders are not entered.
+pub fn collect_spec_files(path: &Path, files: &mut Vec<PathBuf>) -> Result<(), String> {
+    let metadata = std::fs::metadata(path)
+        .map_err(|error| format!("{}: {}", path.display(), describe_io_error(&error)))?;
+    if metadata.is_file() {
+        files.push(path.to_path_buf());
+        return Ok(());
+    }
+    let mut found = Vec::new();
+    let mut pending = vec![path.to_path_buf()];
+    while let Some(folder) = pending.pop() {
+        let entries = std::fs::read_dir(&folder)
+            .map_err(|error| format!("{}: {}", folder.display(), describe_io_error(&error)))?;
+        for entry in entries.flatten() {
+            let name = entry.file_name();
+            let name = name.to_string_lossy();
+            let Ok(file_type) = entry.file_type() else {
+                continue;
+            };
+            if file_type.is_dir() {
+                if !name.starts_with('.') && name != "target" && name != "node_modules" {
+                    pending.push(entry.path());
+                }
+            } else if name.ends_with(SPEC_SUFFIX) && !file_type.is_dir() {
+                let entry_path = entry.path();
+                if entry_path.is_file() {
+                    found.push(entry_path);
+                }
+            }
+        }
+    }
+    found.sort();
+    files.extend(found);
+    Ok(())
+}
+
+/// The nearest folder at or above the spec's folder that holds `markwell.toml` or `.git`; else
+/// the current folder when the spec is inside it; else the spec's folder.
+pub fn find_workspace_root(spec_path: &Path) -> PathBuf {
+    let absolute = std::fs::canonicalize(spec_path).unwrap_or_else(|_| spec_path.to_path_buf());
+    let spec_dir = absolute
+        .parent()
+        .map(Path::to_path_buf)
+        .unwrap_or_else(|| PathBuf::from("."));
+    for ancestor in spec_dir.ancestors() {
+        if ancestor.join(CONFIG_FILE_NAME).is_file() || ancestor.join(".git").exists() {
+            return ancestor.to_path_buf();
+        }
+    }
+    match std::env::current_dir().and_then(std::fs::canonicalize) {
+        Ok(current) if absolute.starts_with(&current) => current,
+        _ => spec_dir,
+    }
+}
+
+fn load_project_config(
+    explicit: Option<&Path>,
+    workspace_root: &Path,
+) -> Result<ProjectConfig, String> {
+    let (path, required) = match explicit {
+        Some(path) => (path.to_path_buf(), true),
+        None => (workspace_root.join(CONFIG_FILE_NAME), false),
+    };
+    let text = match std::fs::read_to_string(&path) {
+        Ok(text) => text,
+        Err(error) if !required && error.kind() == std::io::ErrorKind::NotFound => {
+            return Ok(ProjectConfig::default())
+        }
+        Err(error) => return Err(format!("{}: {}", path.display(), describe_io_error(&error))),
+    };
+    let (config, warnings) =
+        parse_project_config(&text).map_err(|message| format!("{}: {message}", path.display()))?;
+    for warning in warnings {
+        eprintln!("markwell: {}: {warning}", path.display());
+    }
+    Ok(config)
+}

@@ -1,0 +1,230 @@
+//! End-to-end tests of the `markwell` command line: exit codes, output formats, bad paths.
+
+use std::path::PathBuf;
+use std::process::{Command, Output};
+
+use serde_json::Value;
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn markwell(args: &[&str], dir: &std::path::Path) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_markwell"))
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .args(args)
+        .output()
+        .expect("markwell runs")
+}
+
+fn write(dir: &std::path::Path, name: &str, text: &str) -> PathBuf {
+    let path = dir.join(name);
+    std::fs::write(&path, text).expect("write fixture");
+    path
+}
+
+#[test]
+fn clean_spec_exits_zero_and_says_so() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    write(
+        dir.path(),
+        "loaves.csv",
+        "branch,loaves\nQuayside,120\nHilltop,95\n",
+    );
+    write(
+        dir.path(),
+        "loaves.chart.json",
+        r#"{ "source": { "path": "loaves.csv" }, "mark": "bar", "bind": { "x": "branch", "y": "loaves" } }"#,
+    );
+    let output = markwell(&["check", "."], dir.path());
+    let stdout = String::from_utf8_lossy(&output.stdout);
+    assert_eq!(output.status.code(), Some(0), "{stdout}");
+    assert!(stdout.contains("1 spec checked (1 clean)"), "{stdout}");
+}
+
+#[test]
+fn misspelled_key_is_an_error_at_its_exact_place_with_the_closest_key_as_fix() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    write(dir.path(), "loaves.csv", "branch,loaves\nQuayside,120\n");
+    write(
+        dir.path(),
+        "typo.chart.json",
+        "{\n  \"source\": { \"path\": \"loaves.csv\" },\n  \"mark\": \"bar\",\n  \"bnid\": { \"x\": \"branch\" }\n}\n",
+    );
+    let output = markwell(
+        &["check", "--format", "json", "typo.chart.json"],
+        dir.path(),
+    );
+    assert_eq!(output.status.code(), Some(1));
+    let report: Value = serde_json::from_slice(&output.stdout).expect("JSON report");
+    let diagnostics = report["files"][0]["diagnostics"]
+        .as_array()
+        .expect("diagnostics");
+    let unknown = diagnostics
+        .iter()
+        .find(|d| d["rule"] == "unknown-key")
+        .expect("unknown-key reported");
+    // `"bnid"` sits on line 4, columns 3 to 9 (1-based, the quotes included)
+    assert_eq!(unknown["start"]["line"], 4);
+    assert_eq!(unknown["start"]["column"], 3);
+    assert_eq!(unknown["end"]["column"], 9);
+    assert_eq!(unknown["fixes"][0]["edits"][0]["new_text"], "\"bind\"");
+    assert!(unknown["message"]
+        .as_str()
+        .unwrap_or("")
+        .contains("did you mean `bind`"));
+
+    let human = markwell(&["check", "typo.chart.json"], dir.path());
+    let text = String::from_utf8_lossy(&human.stdout);
+    assert!(text.contains("typo.chart.json:4:3"), "{text}");
+    assert!(text.contains("unknown-key"), "{text}");
+    assert!(text.contains("^^^^^^"), "caret under the key: {text}");
+    assert!(text.contains("rename to `bind`"), "{text}");
+}
+
+#[test]
+fn missing_data_file_is_an_error_on_the_path() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    write(
+        dir.path(),
+        "gone.chart.json",
+        r#"{ "source": { "path": "nowhere.csv" }, "mark": "bar", "bind": { "x": "a", "y": "b" } }"#,
+    );
+    let output = markwell(
+        &["check", "--format", "json", "gone.chart.json"],
+        dir.path(),
+    );
+    assert_eq!(output.status.code(), Some(1));
+    let report: Value = serde_json::from_slice(&output.stdout).expect("JSON report");
+    let rules: Vec<&str> = report["files"][0]["diagnostics"]
+        .as_array()
+        .expect("diagnostics")
+        .iter()
+        .filter_map(|d| d["rule"].as_str())
+        .collect();
+    assert!(rules.contains(&"missing-source"), "{rules:?}");
+}
+
+#[test]
+fn usage_and_io_problems_exit_two() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let missing = markwell(&["check", "no-such-folder"], dir.path());
+    assert_eq!(missing.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&missing.stderr).contains("no such file or folder"));
+    let bad_flag = markwell(&["check", "--format", "xml"], dir.path());
+    assert_eq!(bad_flag.status.code(), Some(2));
+    let bad_severity = markwell(
+        &["check", "--severity", "unknown-key=loud", "."],
+        dir.path(),
+    );
+    assert_eq!(bad_severity.status.code(), Some(2));
+    let unknown_rule = markwell(&["explain", "no-such-rule"], dir.path());
+    assert_eq!(unknown_rule.status.code(), Some(2));
+}
+
+#[test]
+fn deny_warnings_and_severity_overrides_change_the_exit_code() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    write(
+        dir.path(),
+        "trips.csv",
+        "pier,notes\nNorth,\nSouth,\nEast,late\n",
+    );
+    write(
+        dir.path(),
+        "sparse.chart.json",
+        r#"{ "source": { "path": "trips.csv" }, "mark": "point", "bind": { "x": "pier", "shape": "notes" } }"#,
+    );
+    let plain = markwell(&["check", "sparse.chart.json"], dir.path());
+    assert_eq!(
+        plain.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&plain.stdout)
+    );
+    let denied = markwell(
+        &["check", "--deny", "warnings", "sparse.chart.json"],
+        dir.path(),
+    );
+    assert_eq!(denied.status.code(), Some(1));
+    let off = markwell(
+        &[
+            "check",
+            "--deny",
+            "warnings",
+            "--severity",
+            "sparse-column=off",
+            "sparse.chart.json",
+        ],
+        dir.path(),
+    );
+    assert_eq!(
+        off.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&off.stdout)
+    );
+}
+
+#[test]
+fn configuration_file_sets_severities() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    write(
+        dir.path(),
+        "markwell.toml",
+        "[rules]\nmissing-source = \"warning\"\n",
+    );
+    write(
+        dir.path(),
+        "gone.chart.json",
+        r#"{ "source": { "path": "nowhere.csv" }, "mark": "bar", "bind": { "x": "a", "y": "b" } }"#,
+    );
+    let output = markwell(&["check", "gone.chart.json"], dir.path());
+    assert_eq!(
+        output.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&output.stdout)
+    );
+}
+
+#[test]
+fn invalid_utf8_and_huge_and_folder_inputs_are_handled() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    std::fs::write(
+        dir.path().join("bad.chart.json"),
+        b"{ \"title\": \"caf\xe9\" }",
+    )
+    .expect("write");
+    let output = markwell(&["check", "--format", "json", "bad.chart.json"], dir.path());
+    assert_eq!(output.status.code(), Some(1));
+    let report: Value = serde_json::from_slice(&output.stdout).expect("JSON report");
+    let messages: Vec<&str> = report["files"][0]["diagnostics"]
+        .as_array()
+        .expect("diagnostics")
+        .iter()
+        .filter_map(|d| d["message"].as_str())
+        .collect();
+    assert!(
+        messages.iter().any(|m| m.contains("not valid UTF-8")),
+        "{messages:?}"
+    );
+
+    // a folder named like a spec is searched, not read
+    std::fs::create_dir(dir.path().join("odd.chart.json")).expect("mkdir");
+    let folder = markwell(&["check", "odd.chart.json"], dir.path());
+    assert_eq!(folder.status.code(), Some(0));
+}
+
+#[test]
+fn rules_and_explain_print_the_registry_and_docs() {
+    let rules = markwell(&["rules"], &root());
+    let text = String::from_utf8_lossy(&rules.stdout);
+    assert!(text.contains("unknown-column"), "{text}");
+    let explain = markwell(&["explain", "unknown-column"], &root());
+    let docs = String::from_utf8_lossy(&explain.stdout);
+    for section in ["## What it checks", "## Why it matters", "## Source"] {
+        assert!(docs.contains(section), "{docs}");
+    }
+}
