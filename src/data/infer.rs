@@ -387,7 +387,8 @@ pub struct NumericShape {
 }
 
 /// Whether zero is meaningful, when the name or the values tell, with the reason in words.
-/// - a temperature unit in Celsius or Fahrenheit (`degC`, `°F`, `celsius`, ...) → arbitrary:
+/// - a temperature unit in Celsius or Fahrenheit (`degC`, `°F`, `celsius`, or a name with
+///   `temp` ending in `_c` / `_f`) → arbitrary:
 ///   those scales put zero at a convention (interval scale; Stevens 1946, "On the theory of
 ///   scales of measurement", Science 103);
 /// - a name with the word `year` (or `yr`) over integers all within 1000..=2999 → arbitrary
@@ -416,6 +417,20 @@ pub fn zero_meaning_hint(
             ZeroMeaning::Arbitrary,
             format!("the name carries the unit `{word}`, a temperature scale whose zero is a convention"),
         ));
+    }
+    let names_a_temperature = words
+        .iter()
+        .any(|word| word == "temp" || word == "temperature");
+    if names_a_temperature {
+        if let Some(unit @ ("c" | "f")) = words.last().map(String::as_str) {
+            return Some((
+                ZeroMeaning::Arbitrary,
+                format!(
+                    "a temperature in degrees `{}`, a scale whose zero is a convention",
+                    unit.to_uppercase()
+                ),
+            ));
+        }
     }
     let numeric = numeric?;
     let names_a_year = words

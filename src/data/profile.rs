@@ -97,7 +97,7 @@ impl DistinctTracker {
     /// far: a small table stays in the processor's cache and bounds memory.
     fn keep_only_most_frequent(&mut self) {
         let mut numbers: Vec<NumberEntry> = self.numbers.iter().copied().collect();
-        numbers.sort_unstable_by(|a, b| b.count.cmp(&a.count));
+        numbers.sort_unstable_by_key(|entry| std::cmp::Reverse(entry.count));
         numbers.truncate(KEPT_AFTER_SWITCH);
         let mut number_table = HashTable::with_capacity(numbers.len());
         for entry in numbers {
@@ -108,7 +108,7 @@ impl DistinctTracker {
         self.numbers = number_table;
 
         let mut texts: Vec<TextEntry> = self.texts.iter().copied().collect();
-        texts.sort_unstable_by(|a, b| b.count.cmp(&a.count));
+        texts.sort_unstable_by_key(|entry| std::cmp::Reverse(entry.count));
         texts.truncate(KEPT_AFTER_SWITCH);
         let mut arena = Vec::new();
         let mut text_table = HashTable::with_capacity(texts.len());
@@ -456,21 +456,26 @@ impl ColumnAccumulator {
         };
         let distinct = self.distinct.distinct_count();
         let numeric = (self.numeric_count > 0).then(|| {
+            let bin_count = histogram_bin_count(
+                self.numeric_min,
+                self.numeric_max,
+                self.integer_texts == self.numeric_count,
+            );
             let histogram = if self.distinct.estimate.is_none() {
-                let mut bins = vec![0u64; HISTOGRAM_BIN_COUNT];
+                let mut bins = vec![0u64; bin_count];
                 for entry in self.distinct.numbers.iter() {
                     let bin = equal_width_bin(
                         f64::from_bits(entry.bits),
                         self.numeric_min,
                         self.numeric_max,
-                        HISTOGRAM_BIN_COUNT,
+                        bin_count,
                     );
                     bins[bin] += entry.count;
                 }
                 bins
             } else {
                 self.histogram
-                    .rebin(self.numeric_min, self.numeric_max, HISTOGRAM_BIN_COUNT)
+                    .rebin(self.numeric_min, self.numeric_max, bin_count)
             };
             NumericSummary {
                 count: self.numeric_count,
@@ -595,6 +600,17 @@ impl ColumnAccumulator {
             evidence = format!("all {present} values are text");
         }
         (AttributeKind::Categorical, evidence)
+    }
+}
+
+/// Bins for a histogram from `min` to `max`: [`HISTOGRAM_BIN_COUNT`], or one per integer when
+/// all values are integers spanning fewer (years 2007-2009 get three bins, not ten).
+pub fn histogram_bin_count(min: f64, max: f64, all_integers: bool) -> usize {
+    let span = max - min;
+    if all_integers && span >= 0.0 && span < HISTOGRAM_BIN_COUNT as f64 {
+        span as usize + 1
+    } else {
+        HISTOGRAM_BIN_COUNT
     }
 }
 

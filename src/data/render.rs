@@ -189,8 +189,17 @@ pub fn render_profile_text(profile: &DataProfile) -> String {
         let bins = numeric.histogram.len();
         let width = (numeric.max - numeric.min) / bins as f64;
         let largest = numeric.histogram.iter().copied().max().unwrap_or(0);
+        // one bin per integer (see `profile::histogram_bin_count`): label each by its value
+        let one_per_integer =
+            numeric.min.fract() == 0.0 && (numeric.max - numeric.min + 1.0) == bins as f64;
         let labels: Vec<String> = (0..bins)
-            .map(|bin| format_short_number(numeric.min + width * bin as f64))
+            .map(|bin| {
+                if one_per_integer {
+                    format_short_number(numeric.min + bin as f64)
+                } else {
+                    format_short_number(numeric.min + width * bin as f64)
+                }
+            })
             .collect();
         let label_width = labels
             .iter()
