@@ -304,15 +304,21 @@ impl<R: Read> RecordReader<R> {
                     }
                 }
                 // lenient: anything between the closing quote and the delimiter is kept
+                // (a CR right before the line break belongs to the line break)
                 match memchr2(delimiter, b'\n', &data[position..]) {
                     Some(found) => {
-                        self.scratch
-                            .extend_from_slice(&data[position..position + found]);
+                        let mut extra = &data[position..position + found];
+                        if data[position + found] == b'\n' {
+                            extra = extra.strip_suffix(b"\r").unwrap_or(extra);
+                        }
+                        self.scratch.extend_from_slice(extra);
                         position += found;
                     }
                     None if !at_eof => return ParseOutcome::NeedMore,
                     None => {
-                        self.scratch.extend_from_slice(&data[position..]);
+                        let extra = &data[position..];
+                        self.scratch
+                            .extend_from_slice(extra.strip_suffix(b"\r").unwrap_or(extra));
                         position = data.len();
                     }
                 }
@@ -357,22 +363,13 @@ impl<R: Read> RecordReader<R> {
                 }
             }
         }
-        // a CR before the record's LF belongs to the line break, not to the last cell
+        // a CR before the record's LF belongs to the line break, not to an unquoted last cell
         if let Some(last) = self.fields.last_mut() {
-            match &mut last.scratch {
-                Some((start, end))
-                    if *end > *start && self.scratch.get(*end - 1) == Some(&b'\r') =>
-                {
-                    *end -= 1;
-                }
-                Some(_) => {}
-                None => {
-                    if last.raw_end > last.raw_start
-                        && self.buffer.get(last.raw_end - 1) == Some(&b'\r')
-                    {
-                        last.raw_end -= 1;
-                    }
-                }
+            if last.scratch.is_none()
+                && last.raw_end > last.raw_start
+                && self.buffer.get(last.raw_end - 1) == Some(&b'\r')
+            {
+                last.raw_end -= 1;
             }
         }
         ParseOutcome::Record {

@@ -173,6 +173,8 @@ impl fmt::Display for DataError {
     }
 }
 
+impl std::error::Error for DataError {}
+
 /// A `DataError` for an IO failure on `path`, by the kind of failure.
 pub fn io_error(path: Option<&Path>, error: &std::io::Error) -> DataError {
     let shown = path.map_or_else(
