@@ -153,7 +153,7 @@ fn missing_tokens_and_temperature_units() {
 #[test]
 fn json_array_with_missing_keys_nulls_and_header_ranges() {
     let text = r#"[
-  {"bakery": "north", "loaves": 120, "opened": "2019-05-01"},
+  {"opened": "2019-05-01", "bakery": "north", "loaves": 120},
   {"bakery": "south", "loaves": null},
   {"bakery": "east", "loaves": "95", "opened": "2021-01-15", "note": {"x": 1}}
 ]"#;
@@ -161,7 +161,8 @@ fn json_array_with_missing_keys_nulls_and_header_ranges() {
     assert_eq!(profile.format, DataFormat::Json);
     assert_eq!(profile.rows, 3);
     let names: Vec<&str> = profile.columns.iter().map(|c| c.name.as_str()).collect();
-    assert_eq!(names, ["bakery", "loaves", "opened", "note"]);
+    // keys in the order they first appear in the file, not sorted
+    assert_eq!(names, ["opened", "bakery", "loaves", "note"]);
     let Some(loaves) = profile.column("loaves") else {
         panic!("no column")
     };
@@ -213,13 +214,16 @@ fn json_that_is_not_an_array_of_objects() {
 fn ndjson_lines_with_a_bad_line() {
     let profile = profile_of(
         "trips.ndjson",
-        "{\"ferry\": \"alba\", \"minutes\": 35}\n\n{\"ferry\": \"brig\", \"minutes\": 41}\nnot json\n{\"ferry\": \"cog\"}\n",
+        "{\"ferry\": \"alba\", \"minutes\": 35}\n\n{\"ferry\": \"brig\", \"minutes\": 41}\nnot json\n{\"ferry\": \"cog\"}\n{\"ferry\": \"dory\", \"minutes\": }\n",
     );
     assert_eq!(profile.format, DataFormat::Ndjson);
     assert_eq!(profile.rows, 3);
-    assert_eq!(profile.problems.len(), 1);
+    // the two bad lines add nothing (not even a partial row)
+    assert_eq!(profile.problems.len(), 2);
     assert_eq!(profile.problems[0].line, Some(3));
+    assert_eq!(profile.problems[1].line, Some(5));
     assert_eq!(profile.column("minutes").map(|c| c.missing), Some(1));
+    assert_eq!(profile.column("ferry").map(|c| c.distinct.value), Some(3));
 }
 
 #[test]

@@ -9,7 +9,7 @@ use std::io::{BufRead, Read};
 use std::path::Path;
 use std::sync::atomic::Ordering;
 
-use serde::de::{DeserializeSeed, SeqAccess, Visitor};
+use serde::de::{DeserializeSeed, IgnoredAny, MapAccess, SeqAccess, Visitor};
 use serde_json::Value;
 
 use super::csv_reader::{cancelled_error, ScanControl};
@@ -31,23 +31,70 @@ fn add_json_value(column: &mut ColumnAccumulator, value: &Value) {
     }
 }
 
-/// Add one JSON row; `Err` with a description when it is not an object.
-fn add_json_row(table: &mut TableAccumulator, value: &Value) -> Result<(), &'static str> {
-    let Value::Object(members) = value else {
-        return Err(match value {
-            Value::Array(_) => "an array",
-            Value::String(_) => "a string",
-            Value::Number(_) => "a number",
-            Value::Bool(_) => "a boolean",
-            _ => "null",
-        });
-    };
-    table.rows += 1;
-    for (key, member) in members {
-        let index = table.column_index(key);
-        add_json_value(&mut table.columns[index], member);
+/// One JSON row, read straight into the table with its keys in document order (a `Value`
+/// map would sort them). Yields `Err` with a description when the value is not an object.
+struct RowSeed<'t> {
+    table: &'t mut TableAccumulator,
+}
+
+type RowOutcome = Result<(), &'static str>;
+
+impl<'de> DeserializeSeed<'de> for RowSeed<'_> {
+    type Value = RowOutcome;
+
+    fn deserialize<D: serde::Deserializer<'de>>(
+        self,
+        deserializer: D,
+    ) -> Result<RowOutcome, D::Error> {
+        deserializer.deserialize_any(self)
     }
-    Ok(())
+}
+
+impl<'de> Visitor<'de> for RowSeed<'_> {
+    type Value = RowOutcome;
+
+    fn expecting(&self, formatter: &mut fmt::Formatter) -> fmt::Result {
+        formatter.write_str("an object (one row)")
+    }
+
+    fn visit_map<A: MapAccess<'de>>(self, mut members: A) -> Result<RowOutcome, A::Error> {
+        self.table.rows += 1;
+        while let Some(key) = members.next_key::<String>()? {
+            let value: Value = members.next_value()?;
+            let index = self.table.column_index(&key);
+            add_json_value(&mut self.table.columns[index], &value);
+        }
+        Ok(Ok(()))
+    }
+
+    fn visit_seq<A: SeqAccess<'de>>(self, mut items: A) -> Result<RowOutcome, A::Error> {
+        while items.next_element::<IgnoredAny>()?.is_some() {}
+        Ok(Err("an array"))
+    }
+
+    fn visit_str<E: serde::de::Error>(self, _: &str) -> Result<RowOutcome, E> {
+        Ok(Err("a string"))
+    }
+
+    fn visit_i64<E: serde::de::Error>(self, _: i64) -> Result<RowOutcome, E> {
+        Ok(Err("a number"))
+    }
+
+    fn visit_u64<E: serde::de::Error>(self, _: u64) -> Result<RowOutcome, E> {
+        Ok(Err("a number"))
+    }
+
+    fn visit_f64<E: serde::de::Error>(self, _: f64) -> Result<RowOutcome, E> {
+        Ok(Err("a number"))
+    }
+
+    fn visit_bool<E: serde::de::Error>(self, _: bool) -> Result<RowOutcome, E> {
+        Ok(Err("a boolean"))
+    }
+
+    fn visit_unit<E: serde::de::Error>(self) -> Result<RowOutcome, E> {
+        Ok(Err("null"))
+    }
 }
 
 /// Add the spec's inline rows.
@@ -91,8 +138,10 @@ impl<'de> Visitor<'de> for ArrayRows<'_> {
 
     fn visit_seq<A: SeqAccess<'de>>(self, mut sequence: A) -> Result<bool, A::Error> {
         let mut element = 0u64;
-        while let Some(value) = sequence.next_element::<Value>()? {
-            if let Err(found) = add_json_row(self.table, &value) {
+        while let Some(outcome) = sequence.next_element_seed(RowSeed {
+            table: &mut *self.table,
+        })? {
+            if let Err(found) = outcome {
                 self.table.add_problem(DataProblem {
                     message: format!(
                         "element {element} of the array is {found}, not an object; it is skipped"
@@ -196,9 +245,17 @@ pub fn scan_ndjson<R: BufRead>(
         };
         let trimmed = text.trim();
         if !trimmed.is_empty() {
-            match serde_json::from_str::<Value>(trimmed) {
-                Ok(value) => {
-                    if let Err(found) = add_json_row(&mut table, &value) {
+            // validate first, so that a bad line adds nothing at all
+            let valid = serde_json::from_str::<IgnoredAny>(trimmed);
+            let mut line_deserializer = serde_json::Deserializer::from_str(trimmed);
+            let outcome = valid.and_then(|_| {
+                RowSeed { table: &mut table }
+                    .deserialize(&mut line_deserializer)
+                    .and_then(|outcome| line_deserializer.end().map(|()| outcome))
+            });
+            match outcome {
+                Ok(outcome) => {
+                    if let Err(found) = outcome {
                         table.add_problem(DataProblem {
                             message: format!(
                                 "this line holds {found}, not an object; it is skipped"
