@@ -46,14 +46,24 @@ const EXACT_POWERS_OF_TEN: [f64; 16] = [
     1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
 ];
 
+/// What the quick decimal reader made of a cell.
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum PlainDecimal {
+    Number(f64),
+    /// Certainly not a number (a date, a word, two points, ...).
+    NotANumber,
+    /// An exponent or more than 15 digits: the general parser decides.
+    NeedsGeneralParser,
+}
+
 /// Plain decimals (`-12.345`, at most 15 digits, no exponent) without the general parser:
 /// the digits as an integer below 2^53 divided by an exact power of ten is correctly rounded
 /// (W. D. Clinger 1990, "How to read floating point numbers accurately", the fast path; from
-/// memory). `None` when the text is not of that simple form.
-fn parse_plain_decimal(bytes: &[u8]) -> Option<f64> {
-    let (negative, digits) = match bytes.first()? {
-        b'-' => (true, &bytes[1..]),
-        b'+' => (false, &bytes[1..]),
+/// memory).
+fn parse_plain_decimal(bytes: &[u8]) -> PlainDecimal {
+    let (negative, digits) = match bytes.first() {
+        Some(b'-') => (true, &bytes[1..]),
+        Some(b'+') => (false, &bytes[1..]),
         _ => (false, bytes),
     };
     let mut mantissa: u64 = 0;
@@ -63,24 +73,25 @@ fn parse_plain_decimal(bytes: &[u8]) -> Option<f64> {
     for &byte in digits {
         match byte {
             b'0'..=b'9' => {
+                if digit_count == 15 {
+                    return PlainDecimal::NeedsGeneralParser;
+                }
                 mantissa = mantissa * 10 + u64::from(byte - b'0');
                 digit_count += 1;
                 if seen_point {
                     fraction_digits += 1;
                 }
-                if digit_count > 15 {
-                    return None;
-                }
             }
             b'.' if !seen_point => seen_point = true,
-            _ => return None,
+            b'e' | b'E' => return PlainDecimal::NeedsGeneralParser,
+            _ => return PlainDecimal::NotANumber,
         }
     }
     if digit_count == 0 {
-        return None;
+        return PlainDecimal::NotANumber;
     }
     let magnitude = mantissa as f64 / EXACT_POWERS_OF_TEN[fraction_digits];
-    Some(if negative { -magnitude } else { magnitude })
+    PlainDecimal::Number(if negative { -magnitude } else { magnitude })
 }
 
 /// The number a trimmed cell holds, if it is one.
@@ -89,14 +100,13 @@ pub fn parse_number(trimmed: &str) -> Option<f64> {
     if !(first.is_ascii_digit() || first == b'-' || first == b'+' || first == b'.') {
         return None;
     }
-    if let Some(value) = parse_plain_decimal(trimmed.as_bytes()) {
-        return Some(value);
-    }
-    let value: f64 = trimmed.parse().ok()?;
-    if value.is_finite() {
-        Some(value)
-    } else {
-        None
+    match parse_plain_decimal(trimmed.as_bytes()) {
+        PlainDecimal::Number(value) => Some(value),
+        PlainDecimal::NotANumber => None,
+        PlainDecimal::NeedsGeneralParser => {
+            let value: f64 = trimmed.parse().ok()?;
+            value.is_finite().then_some(value)
+        }
     }
 }
 
@@ -502,12 +512,20 @@ mod tests {
             let general: f64 = text.parse().unwrap_or(f64::NAN);
             assert_eq!(
                 parse_plain_decimal(text.as_bytes()),
-                Some(general),
+                PlainDecimal::Number(general),
                 "{text}"
             );
         }
-        // more than 15 digits goes to the general parser
-        assert_eq!(parse_plain_decimal(b"1234567890123456"), None);
+        // more than 15 digits and exponents go to the general parser
+        assert_eq!(
+            parse_plain_decimal(b"1234567890123456"),
+            PlainDecimal::NeedsGeneralParser
+        );
+        assert_eq!(
+            parse_plain_decimal(b"1e5"),
+            PlainDecimal::NeedsGeneralParser
+        );
+        assert_eq!(parse_plain_decimal(b"2024-03-05"), PlainDecimal::NotANumber);
         assert_eq!(parse_number("1234567890123456"), Some(1234567890123456.0));
     }
 
