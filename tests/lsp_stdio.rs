@@ -737,3 +737,101 @@ fn close_clears_and_reopen_with_the_same_version_is_analysed_afresh() {
     assert!(codes(&client.wait_for_publish(uri, 0)).contains(&"unknown-key".to_string()));
     assert!(client.finish().success());
 }
+
+#[test]
+fn large_data_gets_a_sampled_profile_first_then_the_full_one_with_progress() {
+    let workspace = Workspace::new();
+    // about 24 MB of invented ferry counts: far more than the sampled head the data layer reads
+    let mut csv = String::from("month,route,passengers\n");
+    let routes = ["Harbour Loop", "North Pier", "Lighthouse Run"];
+    let mut rows = 0u64;
+    while csv.len() < 24 * 1024 * 1024 {
+        csv.push_str(&format!(
+            "2026-{:02},{},{}\n",
+            rows % 12 + 1,
+            routes[(rows % 3) as usize],
+            1000 + rows % 997
+        ));
+        rows += 1;
+    }
+    std::fs::write(workspace.path("crossings-big.csv"), &csv).expect("write data");
+    let text = "{\n  \"source\": { \"path\": \"crossings-big.csv\" },\n  \"mark\": \"bar\",\n  \"bind\": { \"x\": \"route\", \"y\": \"passengers\" }\n}\n";
+    let uri = workspace.uri("big.chart.json");
+    let mut client = start();
+    client.timeout = Duration::from_secs(120);
+    client.initialize(
+        json!({"window": {"workDoneProgress": true}}),
+        Some(&workspace.root_uri()),
+    );
+    let opened = Instant::now();
+    client.open(&uri, text, 1);
+    client.wait_for_publish(&uri, 1);
+    let first_diagnostics = opened.elapsed();
+    // poll the hover of `passengers` until it shows every row (the full profile)
+    let column = range_of(text, "\"passengers\"");
+    let full_rows = format!("rows: {rows},");
+    let mut first_hover = None;
+    let full_profile_after = loop {
+        let hover = client.request_result(
+            "textDocument/hover",
+            json!({"textDocument": {"uri": uri}, "position": column["start"]}),
+        );
+        let markdown = hover["contents"]["value"]
+            .as_str()
+            .unwrap_or_default()
+            .to_string();
+        first_hover.get_or_insert_with(|| markdown.clone());
+        if markdown.contains(&full_rows) {
+            break opened.elapsed();
+        }
+        assert!(
+            opened.elapsed() < Duration::from_secs(100),
+            "no full profile: {markdown}"
+        );
+        std::thread::sleep(Duration::from_millis(100));
+    };
+    // the first diagnostics did not wait for the full scan
+    assert!(
+        first_diagnostics < full_profile_after,
+        "{first_diagnostics:?} {full_profile_after:?}"
+    );
+    assert!(
+        !first_hover.unwrap_or_default().contains(&full_rows),
+        "the first profile was a sample"
+    );
+    // LSP 3.17 work done progress: create (server → client request), then begin / report* / end
+    client.settle(Duration::from_millis(300));
+    let progress = client.take_queued("$/progress");
+    let created = client
+        .server_requests
+        .iter()
+        .filter(|request| request["method"] == "window/workDoneProgress/create")
+        .count();
+    if full_profile_after - first_diagnostics > Duration::from_millis(1500) {
+        // a scan this long crossed the 0.5 s threshold
+        assert!(created >= 1, "a progress token was created");
+    }
+    if created > 0 {
+        let kinds: Vec<&str> = progress
+            .iter()
+            .filter_map(|message| message["params"]["value"]["kind"].as_str())
+            .collect();
+        assert_eq!(kinds.first(), Some(&"begin"), "{kinds:?}");
+        assert_eq!(kinds.last(), Some(&"end"), "{kinds:?}");
+        let percentages: Vec<u64> = progress
+            .iter()
+            .filter_map(|message| message["params"]["value"]["percentage"].as_u64())
+            .collect();
+        assert!(
+            percentages.windows(2).all(|pair| pair[0] <= pair[1]),
+            "{percentages:?}"
+        );
+        assert!(percentages.iter().all(|&percentage| percentage <= 100));
+    }
+    eprintln!(
+        "first diagnostics {first_diagnostics:?}, full profile {full_profile_after:?}, progress messages {}",
+        progress.len()
+    );
+    let _ = client.take_queued("textDocument/publishDiagnostics");
+    assert!(client.finish().success());
+}

@@ -7,13 +7,14 @@
 //! materialised once (O(n)) because the parser wants a `&str`; the rope keeps the edit itself
 //! O(log n).
 
+use std::path::PathBuf;
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::Arc;
 
 use ropey::Rope;
 
 use crate::analysis::ParsedDocument;
-use crate::data::DataContext;
+use crate::data::{DataContext, ReadOptions};
 use crate::diagnostic::Diagnostic;
 use crate::positions::{LineIndex, LinePosition, PositionEncoding};
 
@@ -44,6 +45,8 @@ pub struct AnalysisOutcome {
     pub parsed: Arc<ParsedDocument>,
     pub data: Arc<DataContext>,
     pub diagnostics: Vec<Diagnostic>,
+    /// Files that only have a sampled profile yet: (canonical path, how to read them).
+    pub pending_full_scans: Vec<(PathBuf, ReadOptions)>,
 }
 
 #[derive(Debug)]

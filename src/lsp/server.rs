@@ -10,7 +10,7 @@
 //! - every handler body runs inside `catch_unwind`: a panic becomes a logged error response (or a
 //!   logged dropped notification), never a dead server.
 
-use std::collections::HashMap;
+use std::collections::{HashMap, HashSet};
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
@@ -24,7 +24,7 @@ use tower_lsp::{Client, LanguageServer};
 
 use crate::analysis::config::{parse_project_config, ProjectConfig, CONFIG_FILE_NAME};
 use crate::analysis::{analyze, parse_document, AnalysisConfig};
-use crate::data::{DataContext, ProfileCache, ResolveOptions};
+use crate::data::{DataContext, ProfileCache, ReadOptions, ResolveOptions};
 use crate::lsp::completion;
 use crate::lsp::convert::{self, from_lsp_position, to_lsp_range};
 use crate::lsp::documents::{next_generation, AnalysisOutcome, OpenDocument, TextChange};
@@ -32,6 +32,7 @@ use crate::lsp::features;
 use crate::lsp::log;
 use crate::lsp::settings::{merge_settings, parse_editor_settings, EditorSettings};
 use crate::positions::{LineIndex, PositionEncoding};
+use crate::spec::model::ChartSpec;
 use crate::text_range::TextRange;
 
 /// Data loads slower than this get a `$/progress` report (when the client supports it).
@@ -108,6 +109,8 @@ pub struct ServerState {
     cache: Arc<ProfileCache>,
     shutdown_requested: Arc<AtomicBool>,
     next_progress_token: AtomicU64,
+    /// Files whose full profile is being computed in the background.
+    full_scans_running: Mutex<HashSet<PathBuf>>,
 }
 
 /// The tower-lsp `LanguageServer`.
@@ -158,6 +161,8 @@ fn guarded<T>(what: &str, body: impl FnOnce() -> T) -> jsonrpc::Result<T> {
     })
 }
 
+/// Parse, load the data (a sampled first profile for files without a cached full one) and run
+/// the rules. With `reuse_data`, no data is loaded (the request path).
 fn analyse_snapshot(
     snapshot: &Snapshot,
     cache: &ProfileCache,
@@ -166,9 +171,10 @@ fn analyse_snapshot(
     let parsed = parse_document(snapshot.index.text());
     let data = match reuse_data {
         Some(data) => data,
-        None => Arc::new(cache.load_for_spec(&parsed.spec, &snapshot.resolve)),
+        None => Arc::new(cache.load_for_spec_sampled(&parsed.spec, &snapshot.resolve)),
     };
     let diagnostics = analyze(&parsed, &data, &snapshot.config);
+    let pending_full_scans = sampled_sources(&parsed.spec, &data);
     AnalysisOutcome {
         version: snapshot.version,
         generation: snapshot.generation,
@@ -176,7 +182,33 @@ fn analyse_snapshot(
         parsed: Arc::new(parsed),
         data,
         diagnostics,
+        pending_full_scans,
     }
+}
+
+/// The files of `spec` whose profile in `data` is still a sample.
+fn sampled_sources(spec: &ChartSpec, data: &DataContext) -> Vec<(PathBuf, ReadOptions)> {
+    let sources = spec
+        .source
+        .iter()
+        .chain(spec.layers.iter().filter_map(|layer| layer.source.as_ref()));
+    let mut out: Vec<(PathBuf, ReadOptions)> = Vec::new();
+    for source in sources {
+        let Some(Ok(profile)) = data.for_source(source) else {
+            continue;
+        };
+        let Some(path) = profile.path.clone().filter(|_| profile.is_sample) else {
+            continue;
+        };
+        let read = ReadOptions::for_source(source);
+        if !out
+            .iter()
+            .any(|(known, known_read)| *known == path && *known_read == read)
+        {
+            out.push((path, read));
+        }
+    }
+    out
 }
 
 fn uri_to_path(uri: &lsp::Url) -> Option<PathBuf> {
@@ -207,6 +239,7 @@ impl Backend {
                 cache: Arc::new(ProfileCache::new()),
                 shutdown_requested,
                 next_progress_token: AtomicU64::new(1),
+                full_scans_running: Mutex::new(HashSet::new()),
             }),
         }
     }
@@ -415,7 +448,11 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         let joined = tokio::select! {
             joined = &mut task => joined,
             _ = tokio::time::sleep(PROGRESS_AFTER) => {
-                let token = begin_progress(&state, &uri).await;
+                let file = uri
+                    .path_segments()
+                    .and_then(|mut segments| segments.next_back().map(str::to_string))
+                    .unwrap_or_default();
+                let token = begin_progress(&state, &format!("the data of {file}")).await;
                 let joined = task.await;
                 if let Some(token) = token {
                     end_progress(&state, token).await;
@@ -441,6 +478,7 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
             }
         };
         let encoding = lock(&state.session).encoding;
+        let pending_full_scans = outcome.pending_full_scans.clone();
         let to_publish = {
             let mut documents = lock(&state.documents);
             let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
@@ -472,6 +510,9 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                 .publish_diagnostics(uri.clone(), diagnostics, Some(version))
                 .await;
         }
+        for (path, read) in pending_full_scans {
+            start_full_scan(state.clone(), path, read);
+        }
         let mut documents = lock(&state.documents);
         let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
             return;
@@ -483,7 +524,98 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
     }
 }
 
-async fn begin_progress(state: &ServerState, uri: &lsp::Url) -> Option<lsp::NumberOrString> {
+/// Compute the full profile of `path` in the background (off the async workers), with
+/// `$/progress` reports for scans longer than [`PROGRESS_AFTER`]; then analyse again every open
+/// spec that reads the file. One scan per file at a time.
+fn start_full_scan(state: Arc<ServerState>, path: PathBuf, read: ReadOptions) {
+    if !lock(&state.full_scans_running).insert(path.clone()) {
+        return;
+    }
+    tokio::spawn(async move {
+        let share_done = Arc::new(AtomicU64::new(0));
+        let cache = state.cache.clone();
+        let scan_path = path.clone();
+        let scan_share = share_done.clone();
+        let mut task = tokio::task::spawn_blocking(move || {
+            catch_unwind(AssertUnwindSafe(|| {
+                cache.full_profile(&scan_path, &read, &|share| {
+                    scan_share.store((share.clamp(0.0, 1.0) * 100.0) as u64, Ordering::Relaxed);
+                    true
+                })
+            }))
+        });
+        let started = tokio::time::Instant::now();
+        let mut token: Option<lsp::NumberOrString> = None;
+        let mut reported = 0;
+        let joined = loop {
+            tokio::select! {
+                joined = &mut task => break joined,
+                _ = tokio::time::sleep(Duration::from_millis(100)) => {
+                    if started.elapsed() < PROGRESS_AFTER {
+                        continue;
+                    }
+                    let percentage = share_done.load(Ordering::Relaxed);
+                    match &token {
+                        None => {
+                            token = begin_progress(&state, &path.display().to_string()).await;
+                        }
+                        Some(token) if percentage != reported => {
+                            report_progress(&state, token.clone(), percentage as u32).await;
+                        }
+                        Some(_) => {}
+                    }
+                    reported = percentage;
+                }
+            }
+        };
+        if let Some(token) = token {
+            end_progress(&state, token).await;
+        }
+        match joined {
+            Ok(Ok(Ok(_))) => {}
+            Ok(Ok(Err(error))) => log::info(&format!(
+                "full profile of {} failed: {}",
+                path.display(),
+                error.message
+            )),
+            Ok(Err(payload)) => log::error(&format!(
+                "panic while profiling {}: {}",
+                path.display(),
+                panic_message(payload.as_ref())
+            )),
+            Err(join_error) => log::error(&format!("profiling task failed: {join_error}")),
+        }
+        lock(&state.full_scans_running).remove(&path);
+        // the specs reading this file get the full profile now
+        let backend = Backend {
+            state: state.clone(),
+        };
+        backend.reanalyse_all_with(|record| {
+            record
+                .data_paths
+                .iter()
+                .any(|read_path| same_file(read_path, &path))
+        });
+    });
+}
+
+async fn report_progress(state: &ServerState, token: lsp::NumberOrString, percentage: u32) {
+    state
+        .client
+        .send_notification::<lsp::notification::Progress>(lsp::ProgressParams {
+            token,
+            value: lsp::ProgressParamsValue::WorkDone(lsp::WorkDoneProgress::Report(
+                lsp::WorkDoneProgressReport {
+                    cancellable: Some(false),
+                    message: None,
+                    percentage: Some(percentage.min(100)),
+                },
+            )),
+        })
+        .await;
+}
+
+async fn begin_progress(state: &ServerState, what: &str) -> Option<lsp::NumberOrString> {
     if !lock(&state.session).supports_work_done_progress {
         return None;
     }
@@ -498,10 +630,6 @@ async fn begin_progress(state: &ServerState, uri: &lsp::Url) -> Option<lsp::Numb
     if created.is_err() {
         return None;
     }
-    let file = uri
-        .path_segments()
-        .and_then(|mut segments| segments.next_back().map(str::to_string))
-        .unwrap_or_default();
     state
         .client
         .send_notification::<lsp::notification::Progress>(lsp::ProgressParams {
@@ -510,7 +638,7 @@ async fn begin_progress(state: &ServerState, uri: &lsp::Url) -> Option<lsp::Numb
                 lsp::WorkDoneProgressBegin {
                     title: "markwell: reading data".to_string(),
                     cancellable: Some(false),
-                    message: Some(format!("profiling the data of {file}")),
+                    message: Some(format!("profiling {what}")),
                     percentage: Some(0),
                 },
             )),
