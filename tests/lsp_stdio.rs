@@ -835,3 +835,60 @@ fn large_data_gets_a_sampled_profile_first_then_the_full_one_with_progress() {
     let _ = client.take_queued("textDocument/publishDiagnostics");
     assert!(client.finish().success());
 }
+
+#[test]
+fn definition_inlay_hints_and_column_completion_use_the_data_profile() {
+    let workspace = Workspace::new();
+    let uri = workspace.uri("delays.chart.json");
+    let text = FERRY_SPEC_WITH_TYPO;
+    let mut client = start();
+    client.initialize(json!({}), Some(&workspace.root_uri()));
+    client.open(&uri, text, 1);
+    let diagnostics = client.wait_for_publish(&uri, 1);
+    assert!(
+        !codes(&diagnostics).contains(&"missing-source".to_string()),
+        "{diagnostics:#?}"
+    );
+
+    // go to definition: the header cell of `passengers` in crossings.csv (line 0, bytes 12..22
+    // of "month,route,passengers,delay_min")
+    let column = range_of(text, "\"passengers\"");
+    let location = client.request_result(
+        "textDocument/definition",
+        json!({"textDocument": {"uri": uri}, "position": column["start"]}),
+    );
+    assert_eq!(location["uri"], workspace.uri("crossings.csv"));
+    assert_eq!(
+        location["range"],
+        json!({"start": {"line": 0, "character": 12}, "end": {"line": 0, "character": 22}})
+    );
+
+    // inlay hints: after each column reference, its kind and value range from the data
+    let hints = client.request_result(
+        "textDocument/inlayHint",
+        json!({"textDocument": {"uri": uri},
+               "range": {"start": {"line": 0, "character": 0}, "end": {"line": 20, "character": 0}}}),
+    );
+    let hints = hints.as_array().expect("inlay hints");
+    let after_passengers = hints
+        .iter()
+        .find(|hint| hint["position"] == column["end"])
+        .unwrap_or_else(|| panic!("a hint after `passengers`: {hints:#?}"));
+    // the four invented rows have 1655, 1732, 2980 and 3032 passengers
+    assert_eq!(after_passengers["label"], "quantitative 1655..3032");
+
+    // completion of a column name inside the `column` string of `y`
+    let inside = text.find("\"delay_min\"").expect("delay_min") + 1;
+    let items = client.request_result(
+        "textDocument/completion",
+        json!({"textDocument": {"uri": uri}, "position": utf16_position(text, inside)}),
+    );
+    let labels: Vec<&str> = items
+        .as_array()
+        .expect("completion items")
+        .iter()
+        .filter_map(|item| item["label"].as_str())
+        .collect();
+    assert_eq!(labels, ["month", "route", "passengers", "delay_min"]);
+    assert!(client.finish().success());
+}
