@@ -5,10 +5,17 @@
 //! - document changes are applied under a `std::sync::Mutex` with no `.await` inside, so they land
 //!   in the order sent;
 //! - analysis runs on immutable snapshots (shared text + line index) in `spawn_blocking`, at most
-//!   one loop per document: the loop re-reads the latest version after every run, so bursts of
-//!   edits coalesce, stale results are dropped, and publishes for one document stay in order;
+//!   one loop per document: the loop re-reads the latest text after every run, so bursts of
+//!   edits coalesce, stale results are dropped (matched by a per-text generation, not the
+//!   client's version, which clients may reuse), and publishes for one document stay in order;
+//!   no debounce: a typical spec is analysed in well under a millisecond;
+//! - data: the analysis uses a sampled profile of files without a cached full one; full profiles
+//!   are computed in the background (`spawn_blocking`, `$/progress` with percentages after
+//!   0.5 s when the client supports it), then the specs reading the file are analysed again;
+//!   watched-file events invalidate the cache and re-analyse the specs that read the file;
 //! - every handler body runs inside `catch_unwind`: a panic becomes a logged error response (or a
-//!   logged dropped notification), never a dead server.
+//!   logged dropped notification), never a dead server;
+//! - requests to the client (configuration, registration, progress tokens) time out after 5 s.
 
 use std::collections::{HashMap, HashSet};
 use std::panic::{catch_unwind, AssertUnwindSafe};
@@ -37,6 +44,9 @@ use crate::text_range::TextRange;
 
 /// Data loads slower than this get a `$/progress` report (when the client supports it).
 const PROGRESS_AFTER: Duration = Duration::from_millis(500);
+
+/// How long to wait for the client to answer a request of the server.
+const CLIENT_ANSWER_TIMEOUT: Duration = Duration::from_secs(5);
 
 /// Glob of the data files watched for changes.
 const DATA_FILE_GLOB: &str = "**/*.{csv,tsv,json,ndjson,jsonl}";
@@ -348,12 +358,18 @@ impl Backend {
             scope_uri: None,
             section: Some("markwell".to_string()),
         }];
-        match self.state.client.configuration(items).await {
-            Ok(values) => {
+        match tokio::time::timeout(
+            CLIENT_ANSWER_TIMEOUT,
+            self.state.client.configuration(items),
+        )
+        .await
+        {
+            Ok(Ok(values)) => {
                 let section = values.into_iter().next().unwrap_or(Value::Null);
                 self.apply_settings(&section);
             }
-            Err(error) => log::info(&format!("workspace/configuration failed: {error}")),
+            Ok(Err(error)) => log::info(&format!("workspace/configuration failed: {error}")),
+            Err(_) => log::info("workspace/configuration: no answer from the client"),
         }
     }
 
@@ -403,13 +419,15 @@ impl Backend {
             method: "workspace/didChangeWatchedFiles".to_string(),
             register_options: serde_json::to_value(options).ok(),
         };
-        if let Err(error) = self
-            .state
-            .client
-            .register_capability(vec![registration])
-            .await
-        {
-            log::info(&format!("could not register file watchers: {error}"));
+        let registered = tokio::time::timeout(
+            CLIENT_ANSWER_TIMEOUT,
+            self.state.client.register_capability(vec![registration]),
+        )
+        .await;
+        match registered {
+            Ok(Ok(())) => {}
+            Ok(Err(error)) => log::info(&format!("could not register file watchers: {error}")),
+            Err(_) => log::info("client/registerCapability: no answer from the client"),
         }
     }
 }
@@ -621,13 +639,18 @@ async fn begin_progress(state: &ServerState, what: &str) -> Option<lsp::NumberOr
     }
     let number = state.next_progress_token.fetch_add(1, Ordering::Relaxed);
     let token = lsp::NumberOrString::String(format!("markwell-data-{number}"));
-    let created = state
-        .client
-        .send_request::<lsp::request::WorkDoneProgressCreate>(lsp::WorkDoneProgressCreateParams {
-            token: token.clone(),
-        })
-        .await;
-    if created.is_err() {
+    let created = tokio::time::timeout(
+        CLIENT_ANSWER_TIMEOUT,
+        state
+            .client
+            .send_request::<lsp::request::WorkDoneProgressCreate>(
+                lsp::WorkDoneProgressCreateParams {
+                    token: token.clone(),
+                },
+            ),
+    )
+    .await;
+    if !matches!(created, Ok(Ok(()))) {
         return None;
     }
     state

@@ -10,6 +10,7 @@
 # (default: target/e2e-venv). LSP_E2E_REQUIRE_EDITORS=1 (the default here) makes a missing
 # editor a failure instead of a skip. Each client profile in LSP_CLIENT_CAPS_LIST is run in turn
 # (they differ in declared position encodings: utf-16 for vscode/nvim 0.7, utf-8 for nvim 0.11).
+# LSP_E2E_EDITORS="nvim" limits the editor clients to Neovim (default: "nvim emacs").
 set -eu
 here=$(cd "$(dirname "$0")" && pwd)
 repo=$(cd "$here/../.." && pwd)

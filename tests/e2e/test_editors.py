@@ -31,6 +31,9 @@ EDITORS = {
     # plain --batch (not -Q): Debian's site-start must run so elpa-eglot is on the load-path
     "emacs": ["emacs", "--batch", "-l", str(HERE / "eglot-e2e.el")],
 }
+# LSP_E2E_EDITORS="nvim" runs only Neovim (default: both)
+EDITORS = {name: argv for name, argv in EDITORS.items()
+           if name in os.environ.get("LSP_E2E_EDITORS", "nvim emacs").split()}
 
 
 def range_key(r: str):
