@@ -225,3 +225,132 @@ pub fn to_document_symbol(
         },
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use std::path::PathBuf;
+
+    use super::*;
+    use crate::diagnostic::{RelatedLocation, TextEdit};
+
+    /// A spec line with an astral character before the finding, so UTF-16 and byte columns differ.
+    const TEXT: &str = "{ \"title\": \"\u{1F34F}\", \"bind\": { \"x\": \"a\", \"y\": \"b\" } }";
+
+    fn range_of(needle: &str) -> TextRange {
+        let start = TEXT.find(needle).unwrap_or(0);
+        TextRange::new(start, start + needle.len())
+    }
+
+    fn swap_finding() -> Diagnostic {
+        let x = range_of("\"a\"");
+        let y = range_of("\"b\"");
+        Diagnostic::new("some-rule", Severity::Warning, x, "`a` on x")
+            .with_fix(Fix::quick(
+                "bind `c` instead",
+                vec![TextEdit {
+                    range: x,
+                    new_text: "\"c\"".to_string(),
+                }],
+            ))
+            .with_fix(Fix {
+                title: "swap x and y".to_string(),
+                kind: FixKind::Refactor,
+                edits: vec![
+                    TextEdit {
+                        range: x,
+                        new_text: "\"b\"".to_string(),
+                    },
+                    TextEdit {
+                        range: y,
+                        new_text: "\"a\"".to_string(),
+                    },
+                ],
+            })
+            .with_related(RelatedLocation {
+                target: RelatedTarget::File {
+                    path: PathBuf::from("/bakery/loaves.csv"),
+                    line: 3,
+                    byte_offset: 40,
+                },
+                message: "the first row where `a` is not a number".to_string(),
+            })
+    }
+
+    fn uri() -> lsp::Url {
+        lsp::Url::parse("file:///bakery/loaves.chart.json").expect("a valid uri")
+    }
+
+    #[test]
+    fn diagnostics_carry_code_source_related_files_and_fixes_in_data() {
+        let index = LineIndex::new(TEXT);
+        let diagnostic =
+            to_lsp_diagnostic(&swap_finding(), &uri(), &index, PositionEncoding::Utf16);
+        assert_eq!(
+            diagnostic.code,
+            Some(lsp::NumberOrString::String("some-rule".to_string()))
+        );
+        assert_eq!(diagnostic.source.as_deref(), Some("markwell"));
+        assert_eq!(diagnostic.severity, Some(lsp::DiagnosticSeverity::WARNING));
+        // UTF-16: the apple (U+1F34F) counts 2 units, so `"a"` starts 2 units earlier than its byte
+        let byte_start = TEXT.find("\"a\"").unwrap_or(0) as u32;
+        assert_eq!(diagnostic.range.start.character, byte_start - 2);
+        let related = diagnostic.related_information.expect("related information");
+        assert_eq!(
+            related[0].location.uri.as_str(),
+            "file:///bakery/loaves.csv"
+        );
+        assert_eq!(related[0].location.range.start, lsp::Position::new(3, 0));
+        let data: DiagnosticData =
+            serde_json::from_value(diagnostic.data.expect("fixes in data")).expect("decodes");
+        assert_eq!(data.fixes.len(), 2);
+        assert_eq!(data.fixes[0].kind, "quickfix");
+        assert_eq!(data.fixes[1].kind, "refactor");
+        assert_eq!(data.fixes[1].edits.len(), 2);
+    }
+
+    #[test]
+    fn code_actions_for_overlapping_findings_only_with_their_kinds() {
+        let index = LineIndex::new(TEXT);
+        let findings = [swap_finding()];
+        let actions = code_actions(
+            &findings,
+            range_of("\"x\""),
+            &uri(),
+            &index,
+            PositionEncoding::Utf8,
+        );
+        assert!(
+            actions.is_empty(),
+            "the key `x` does not overlap the finding on its value"
+        );
+        let actions = code_actions(
+            &findings,
+            range_of("\"a\""),
+            &uri(),
+            &index,
+            PositionEncoding::Utf8,
+        );
+        let actions: Vec<lsp::CodeAction> = actions
+            .into_iter()
+            .filter_map(|action| match action {
+                lsp::CodeActionOrCommand::CodeAction(action) => Some(action),
+                lsp::CodeActionOrCommand::Command(_) => None,
+            })
+            .collect();
+        assert_eq!(actions.len(), 2);
+        assert_eq!(actions[0].kind, Some(lsp::CodeActionKind::QUICKFIX));
+        assert_eq!(actions[0].is_preferred, Some(true));
+        assert_eq!(actions[1].kind, Some(lsp::CodeActionKind::REFACTOR));
+        assert_eq!(actions[1].is_preferred, Some(false));
+        let edits = &actions[1]
+            .edit
+            .as_ref()
+            .and_then(|edit| edit.changes.as_ref())
+            .and_then(|changes| changes.get(&uri()))
+            .expect("edits for the spec");
+        // UTF-8 negotiated: characters are byte columns
+        let byte_start = TEXT.find("\"a\"").unwrap_or(0) as u32;
+        assert_eq!(edits[0].range.start, lsp::Position::new(0, byte_start));
+        assert_eq!(edits[1].new_text, "\"a\"");
+    }
+}
