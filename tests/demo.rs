@@ -29,7 +29,11 @@ fn every_rule_fires_somewhere_in_the_demo_and_clean_specs_are_clean() {
         let data = cache.load_for_spec(&document.spec, &options);
         let diagnostics = analyze(&document, &data, &AnalysisConfig::default());
         if diagnostics.is_empty() {
-            clean.push(spec.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default());
+            clean.push(
+                spec.file_name()
+                    .map(|n| n.to_string_lossy().into_owned())
+                    .unwrap_or_default(),
+            );
         }
         fired.extend(diagnostics.iter().map(|diagnostic| diagnostic.rule));
     }
@@ -38,9 +42,18 @@ fn every_rule_fires_somewhere_in_the_demo_and_clean_specs_are_clean() {
         .map(|rule| rule.id)
         .filter(|id| !fired.contains(id))
         .collect();
-    assert!(missing.is_empty(), "rules the demo never shows: {missing:?}");
+    assert!(
+        missing.is_empty(),
+        "rules the demo never shows: {missing:?}"
+    );
     // the two specs meant to show a well-made chart
-    for expected in ["ferry-passengers-by-route.chart.json", "ferry-monthly-trend.chart.json"] {
-        assert!(clean.iter().any(|name| name == expected), "{expected} should be clean; clean: {clean:?}");
+    for expected in [
+        "ferry-passengers-by-route.chart.json",
+        "ferry-monthly-trend.chart.json",
+    ] {
+        assert!(
+            clean.iter().any(|name| name == expected),
+            "{expected} should be clean; clean: {clean:?}"
+        );
     }
 }
