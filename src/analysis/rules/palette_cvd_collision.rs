@@ -1,0 +1,206 @@
+//! `palette-cvd-collision`: two palette colours that are told apart with normal colour vision
+//! but fall below the CIEDE2000 threshold under simulated protanopia, deuteranopia or
+//! tritanopia (Machado et al. 2009, severity 1.0). Documentation: `palette-cvd-collision.md`.
+
+use crate::analysis::rules::palette_too_similar::{
+    format_below, format_threshold, minimum_difference, palette_bindings, palette_name,
+    palette_role, parsed_palette, PaletteColour,
+};
+use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
+use crate::diagnostic::{Diagnostic, Severity};
+use crate::knowledge::colour::{ciede2000_between, simulate_deficiency, ColourVisionDeficiency};
+
+pub const ID: &str = "palette-cvd-collision";
+
+pub const RULE: Rule = Rule {
+    id: ID,
+    default_severity: Severity::Warning,
+    group: "colour",
+    summary: "two palette colours that look alike with a colour-vision deficiency",
+    has_fix: false,
+    docs: include_str!("palette-cvd-collision.md"),
+    check: RuleCheck::Semantic(check),
+};
+
+/// A pair that collides under at least one simulated deficiency.
+#[derive(Debug, PartialEq)]
+pub struct Collision {
+    pub normal_difference: f64,
+    /// Each deficiency under which the pair falls below the threshold, with the difference.
+    pub under: Vec<(ColourVisionDeficiency, f64)>,
+}
+
+/// How two colours compare normally and under each deficiency, against `threshold`. `None`
+/// when they are already closer than the threshold normally (that is `palette-too-similar`'s
+/// finding) or stay apart under every deficiency.
+pub fn collision(
+    first: crate::knowledge::colour::Srgb8,
+    second: crate::knowledge::colour::Srgb8,
+    threshold: f64,
+) -> Option<Collision> {
+    let normal_difference = ciede2000_between(first, second);
+    if normal_difference < threshold {
+        return None;
+    }
+    let under: Vec<(ColourVisionDeficiency, f64)> = ColourVisionDeficiency::ALL
+        .into_iter()
+        .map(|deficiency| {
+            (
+                deficiency,
+                ciede2000_between(
+                    simulate_deficiency(first, deficiency),
+                    simulate_deficiency(second, deficiency),
+                ),
+            )
+        })
+        .filter(|(_, difference)| *difference < threshold)
+        .collect();
+    (!under.is_empty()).then_some(Collision {
+        normal_difference,
+        under,
+    })
+}
+
+fn smallest_difference(collision: &Collision) -> f64 {
+    collision
+        .under
+        .iter()
+        .map(|(_, difference)| *difference)
+        .fold(f64::INFINITY, f64::min)
+}
+
+fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
+    let mut diagnostics = Vec::new();
+    for facts in palette_bindings(&context.layers) {
+        let colours = parsed_palette(facts.binding);
+        let threshold = minimum_difference(palette_role(facts));
+        // one finding per colour, against the earlier colour it collides with worst, so that
+        // each range is reported once
+        for (later_index, later) in colours.iter().enumerate() {
+            let worst: Option<(&PaletteColour<'_>, Collision)> = colours[..later_index]
+                .iter()
+                .filter_map(|earlier| {
+                    collision(earlier.colour, later.colour, threshold).map(|found| (earlier, found))
+                })
+                .min_by(|a, b| smallest_difference(&a.1).total_cmp(&smallest_difference(&b.1)));
+            let Some((earlier, found)) = worst else {
+                continue;
+            };
+            let under = found
+                .under
+                .iter()
+                .map(|(deficiency, difference)| {
+                    format!(
+                        "{} (ΔE00 {})",
+                        deficiency.as_str(),
+                        format_below(*difference, threshold, 1)
+                    )
+                })
+                .collect::<Vec<_>>()
+                .join(" and ");
+            diagnostics.push(Diagnostic::new(
+                ID,
+                Severity::Warning,
+                later.written.range,
+                format!(
+                    "{} and {} in {} differ by ΔE00 {:.1}, but below {} under simulated {under}",
+                    earlier.describe(),
+                    later.describe(),
+                    palette_name(facts),
+                    found.normal_difference,
+                    format_threshold(threshold)
+                ),
+            ));
+        }
+    }
+    diagnostics
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::analysis::rules::palette_too_similar::{
+        CATEGORICAL_MINIMUM_DIFFERENCE, RAMP_MINIMUM_DIFFERENCE,
+    };
+    use crate::knowledge::colour::{parse_hex_colour, Srgb8};
+
+    fn colour(text: &str) -> Srgb8 {
+        parse_hex_colour(text).unwrap_or(Srgb8::new(0, 0, 0))
+    }
+
+    #[test]
+    fn red_and_green_collide_for_deuteranopes_only() {
+        // computed with the Machado et al. (2009) severity-1.0 matrices and CIEDE2000:
+        // #c0392b / #5a9a2f are ΔE00 60.7 apart normally, 7.4 under deuteranopia, 23.7 under
+        // protanopia and 57.4 under tritanopia
+        let found = collision(
+            colour("#c0392b"),
+            colour("#5a9a2f"),
+            CATEGORICAL_MINIMUM_DIFFERENCE,
+        );
+        let Some(found) = found else {
+            panic!("expected a collision");
+        };
+        assert!((60.0..61.5).contains(&found.normal_difference));
+        assert_eq!(found.under.len(), 1);
+        assert_eq!(found.under[0].0, ColourVisionDeficiency::Deuteranopia);
+        assert!((7.0..8.0).contains(&found.under[0].1));
+        // the same pair is a near miss on a ramp's lower threshold
+        assert_eq!(
+            collision(
+                colour("#c0392b"),
+                colour("#5a9a2f"),
+                RAMP_MINIMUM_DIFFERENCE
+            ),
+            None
+        );
+    }
+
+    #[test]
+    fn blue_and_purple_collide_for_both_red_green_deficiencies() {
+        // #2e6fb0 / #8e5bb0: ΔE00 24.3 normally, 2.1 under protanopia, 4.8 under deuteranopia,
+        // 43.5 under tritanopia (computed as above)
+        let found = collision(
+            colour("#2e6fb0"),
+            colour("#8e5bb0"),
+            CATEGORICAL_MINIMUM_DIFFERENCE,
+        );
+        let deficiencies: Vec<ColourVisionDeficiency> = found
+            .map(|found| found.under.iter().map(|(d, _)| *d).collect())
+            .unwrap_or_default();
+        assert_eq!(
+            deficiencies,
+            vec![
+                ColourVisionDeficiency::Protanopia,
+                ColourVisionDeficiency::Deuteranopia
+            ]
+        );
+    }
+
+    #[test]
+    fn pairs_already_too_similar_are_left_to_the_other_rule() {
+        // #3b7dd8 / #3f83d0 are ΔE00 2.4 apart with normal vision
+        assert_eq!(
+            collision(
+                colour("#3b7dd8"),
+                colour("#3f83d0"),
+                CATEGORICAL_MINIMUM_DIFFERENCE
+            ),
+            None
+        );
+    }
+
+    #[test]
+    fn greys_never_collide_more_than_they_differ() {
+        // the three matrices keep neutral greys neutral (their rows sum to 1, within rounding),
+        // so a grey pair that is far enough apart normally stays apart
+        assert_eq!(
+            collision(
+                colour("#777777"),
+                colour("#939393"),
+                CATEGORICAL_MINIMUM_DIFFERENCE
+            ),
+            None
+        );
+    }
+}

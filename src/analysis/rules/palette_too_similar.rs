@@ -1,0 +1,243 @@
+//! `palette-too-similar`: two colours of a palette closer than a CIEDE2000 threshold. Also the
+//! palette helpers the other colour rules share (parsed palettes, categorical or ramp role, the
+//! thresholds, number formatting for values below a threshold). Documentation:
+//! `palette-too-similar.md`.
+
+use crate::analysis::channels::ordinal;
+use crate::analysis::facts::{BindingFacts, LayerFacts};
+use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
+use crate::diagnostic::{Diagnostic, Severity};
+use crate::knowledge::colour::{ciede2000_between, parse_hex_colour, Srgb8};
+use crate::spec::model::{AttributeKind, Binding, Channel, Spanned};
+
+pub const ID: &str = "palette-too-similar";
+
+/// Smallest CIEDE2000 difference between two colours that stand for categories (a `hue`
+/// palette for categorical or unknown values). Common practice, no source: ΔE00 of about 1 is a
+/// just noticeable difference for large patches side by side, and chart marks are small, apart
+/// and matched to a legend, so palettes are usually kept 10 or more apart.
+pub const CATEGORICAL_MINIMUM_DIFFERENCE: f64 = 10.0;
+
+/// Smallest CIEDE2000 difference between two colours of a ramp (a `luminance` or `saturation`
+/// palette, or a `hue` palette for ordered, quantitative or time values). Common practice, no
+/// source: the steps of a ramp are read in order and next to each other, so they may be closer
+/// than categories, but steps below about 5 cannot be matched to a legend.
+pub const RAMP_MINIMUM_DIFFERENCE: f64 = 5.0;
+
+pub const RULE: Rule = Rule {
+    id: ID,
+    default_severity: Severity::Warning,
+    group: "colour",
+    summary: "two palette colours closer than readers can tell apart (CIEDE2000)",
+    has_fix: false,
+    docs: include_str!("palette-too-similar.md"),
+    check: RuleCheck::Semantic(check),
+};
+
+/// A palette entry that parsed as a colour, with where it is written.
+#[derive(Clone, Copy, Debug)]
+pub struct PaletteColour<'a> {
+    pub written: &'a Spanned<String>,
+    pub colour: Srgb8,
+    /// 0-based position in the palette array (invalid entries keep their place).
+    pub position: usize,
+}
+
+impl PaletteColour<'_> {
+    /// "`#c0392b` (2nd)" for messages.
+    pub fn describe(&self) -> String {
+        format!(
+            "`{}` ({})",
+            self.written.value,
+            ordinal(u8::try_from(self.position + 1).unwrap_or(u8::MAX))
+        )
+    }
+}
+
+/// The entries of a binding's palette that are valid hex colours (the schema reports the
+/// others). Empty when the binding has no palette.
+pub fn parsed_palette(binding: &Binding) -> Vec<PaletteColour<'_>> {
+    let Some(palette) = &binding.palette else {
+        return Vec::new();
+    };
+    palette
+        .value
+        .iter()
+        .enumerate()
+        .filter_map(|(position, written)| {
+            parse_hex_colour(&written.value)
+                .ok()
+                .map(|colour| PaletteColour {
+                    written,
+                    colour,
+                    position,
+                })
+        })
+        .collect()
+}
+
+/// What a palette's colours stand for.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum PaletteRole {
+    /// Each colour names a category and must be told apart from every other.
+    Categories,
+    /// The colours are steps of an ordered scale.
+    Ramp,
+}
+
+/// `Ramp` for `luminance` and `saturation`, and for `hue` on ordered, quantitative or time
+/// values; `Categories` for `hue` on categorical values or values of unknown kind.
+pub fn palette_role(facts: &BindingFacts<'_>) -> PaletteRole {
+    match (facts.binding.channel, facts.kind) {
+        (Channel::Luminance | Channel::Saturation, _) => PaletteRole::Ramp,
+        (_, Some(AttributeKind::Ordered | AttributeKind::Quantitative | AttributeKind::Time)) => {
+            PaletteRole::Ramp
+        }
+        _ => PaletteRole::Categories,
+    }
+}
+
+/// The threshold for a palette of this role.
+pub fn minimum_difference(role: PaletteRole) -> f64 {
+    match role {
+        PaletteRole::Categories => CATEGORICAL_MINIMUM_DIFFERENCE,
+        PaletteRole::Ramp => RAMP_MINIMUM_DIFFERENCE,
+    }
+}
+
+/// Every colour binding (`hue`, `luminance`, `saturation`) of the layers that has a palette.
+pub fn palette_bindings<'l, 'a>(
+    layers: &'l [LayerFacts<'a>],
+) -> impl Iterator<Item = &'l BindingFacts<'a>> {
+    layers.iter().flat_map(|layer| {
+        layer
+            .bindings
+            .iter()
+            .filter(|facts| facts.binding.channel.is_colour() && facts.binding.palette.is_some())
+    })
+}
+
+/// A value known to be below `threshold`, to `decimals` places, rounded down so that it never
+/// prints as the threshold itself (9.96 below 10 prints as 9.9, not 10.0).
+pub fn format_below(value: f64, threshold: f64, decimals: i32) -> String {
+    let scale = 10f64.powi(decimals);
+    let mut shown = (value * scale).floor() / scale;
+    if shown >= threshold {
+        shown = threshold - 1.0 / scale;
+    }
+    format!("{shown:.*}", decimals.max(0) as usize)
+}
+
+/// "the `hue` palette of `branch`" for messages.
+pub fn palette_name(facts: &BindingFacts<'_>) -> String {
+    match facts.column_name() {
+        Some(_) => format!(
+            "the `{}` palette of `{}`",
+            facts.binding.channel.as_str(),
+            facts.display_name()
+        ),
+        None => format!("the `{}` palette", facts.binding.channel.as_str()),
+    }
+}
+
+/// "10" or "5" for messages.
+pub fn format_threshold(threshold: f64) -> String {
+    crate::analysis::rules::part_to_whole_invalid::format_number(threshold)
+}
+
+fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
+    let mut diagnostics = Vec::new();
+    for facts in palette_bindings(&context.layers) {
+        let colours = parsed_palette(facts.binding);
+        let threshold = minimum_difference(palette_role(facts));
+        // one finding per colour, against the closest earlier colour, so that each range is
+        // reported once
+        for (later_index, later) in colours.iter().enumerate() {
+            let closest = colours[..later_index]
+                .iter()
+                .map(|earlier| (earlier, ciede2000_between(earlier.colour, later.colour)))
+                .filter(|(_, difference)| *difference < threshold)
+                .min_by(|a, b| a.1.total_cmp(&b.1));
+            let Some((earlier, difference)) = closest else {
+                continue;
+            };
+            let message = if earlier.colour == later.colour {
+                format!(
+                    "{} and {} in {} are the same colour, so their values cannot be told apart",
+                    earlier.describe(),
+                    later.describe(),
+                    palette_name(facts)
+                )
+            } else {
+                format!(
+                    "{} and {} in {} differ by ΔE00 {}, below {}: readers can hardly tell their values apart",
+                    earlier.describe(),
+                    later.describe(),
+                    palette_name(facts),
+                    format_below(difference, threshold, 1),
+                    format_threshold(threshold)
+                )
+            };
+            diagnostics.push(Diagnostic::new(
+                ID,
+                Severity::Warning,
+                later.written.range,
+                message,
+            ));
+        }
+    }
+    diagnostics
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn colour(text: &str) -> Srgb8 {
+        parse_hex_colour(text).unwrap_or(Srgb8::new(0, 0, 0))
+    }
+
+    #[test]
+    fn categorical_threshold_edges_computed_with_ciede2000() {
+        // values computed with `ciede2000_between` (Sharma et al. 2005, whose published test
+        // pairs `tests/knowledge_colour.rs` checks): the pair used by the hit fixture is far
+        // below the threshold, the near-miss pair just above it
+        let close = ciede2000_between(colour("#3b7dd8"), colour("#3f83d0"));
+        assert!(close < 3.0, "{close}");
+        // neighbouring greys on both sides of the threshold: #777777 to #929292 is ΔE00 9.92,
+        // to #939393 10.25 (computed with `ciede2000_between`)
+        let below = ciede2000_between(colour("#777777"), colour("#929292"));
+        let above = ciede2000_between(colour("#777777"), colour("#939393"));
+        assert!(
+            (9.8..CATEGORICAL_MINIMUM_DIFFERENCE).contains(&below),
+            "{below}"
+        );
+        assert!(
+            (CATEGORICAL_MINIMUM_DIFFERENCE..10.4).contains(&above),
+            "{above}"
+        );
+        assert!(below > RAMP_MINIMUM_DIFFERENCE, "{below}");
+    }
+
+    #[test]
+    fn values_below_a_threshold_never_print_as_the_threshold() {
+        assert_eq!(format_below(9.96, 10.0, 1), "9.9");
+        assert_eq!(format_below(2.443, 10.0, 1), "2.4");
+        assert_eq!(format_below(2.9951, 3.0, 2), "2.99");
+        assert_eq!(format_below(1.2345, 3.0, 2), "1.23");
+    }
+
+    #[test]
+    fn invalid_entries_are_skipped_but_keep_their_position() {
+        let document = crate::analysis::parse_document(
+            r##"{ "mark": "bar", "bind": { "hue": { "column": "kind", "palette": ["#fff", "oops", "#000000"] } } }"##,
+        );
+        let layer = &document.spec.layers[0];
+        let binding = &layer.bindings[0];
+        let colours = parsed_palette(binding);
+        assert_eq!(colours.len(), 2);
+        assert_eq!(colours[1].position, 2);
+        assert_eq!(colours[1].colour, Srgb8::new(0, 0, 0));
+        assert_eq!(colours[1].describe(), "`#000000` (3rd)");
+    }
+}
