@@ -73,7 +73,12 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 return;
             }
             let at_opacity = opacity
-                .map(|opacity| format!(" at opacity {opacity} (drawn as `{drawn}`)"))
+                .map(|opacity| {
+                    format!(
+                        " at opacity {opacity} (drawn as `{}`)",
+                        drawn.to_hex().to_lowercase()
+                    )
+                })
                 .unwrap_or_default();
             diagnostics.push(Diagnostic::new(
                 ID,

@@ -117,13 +117,14 @@ pub fn palette_bindings<'l, 'a>(
     })
 }
 
-/// A value known to be below `threshold`, to `decimals` places, rounded down so that it never
-/// prints as the threshold itself (9.96 below 10 prints as 9.9, not 10.0).
+/// A value known to be below `threshold`, rounded to `decimals` places, except that it never
+/// prints as the threshold itself: then it is rounded down (9.96 below 10 prints as 9.9, not
+/// 10.0; 2.995 below 3 as 2.99).
 pub fn format_below(value: f64, threshold: f64, decimals: i32) -> String {
     let scale = 10f64.powi(decimals);
-    let mut shown = (value * scale).floor() / scale;
+    let mut shown = (value * scale).round() / scale;
     if shown >= threshold {
-        shown = threshold - 1.0 / scale;
+        shown = ((value * scale).floor() / scale).min(threshold - 1.0 / scale);
     }
     format!("{shown:.*}", decimals.max(0) as usize)
 }
@@ -225,6 +226,9 @@ mod tests {
         assert_eq!(format_below(2.443, 10.0, 1), "2.4");
         assert_eq!(format_below(2.9951, 3.0, 2), "2.99");
         assert_eq!(format_below(1.2345, 3.0, 2), "1.23");
+        // away from the threshold, ordinary rounding
+        assert_eq!(format_below(6.169, 10.0, 1), "6.2");
+        assert_eq!(format_below(7.39, 10.0, 1), "7.4");
     }
 
     #[test]

@@ -3,9 +3,7 @@
 //! palettes are accepted. Documentation: `ramp-not-monotonic.md`.
 
 use crate::analysis::facts::BindingFacts;
-use crate::analysis::rules::palette_too_similar::{
-    palette_bindings, palette_name, parsed_palette, PaletteColour,
-};
+use crate::analysis::rules::palette_too_similar::{palette_bindings, palette_name, parsed_palette};
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
 use crate::knowledge::colour::Lab;
@@ -56,8 +54,9 @@ fn shows_order(facts: &BindingFacts<'_>) -> bool {
 /// Why a ramp is not monotonic.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum RampBreak {
-    /// The colour at this index turns back against the ramp's direction.
-    Reverses { index: usize },
+    /// The colour at this index turns back against the ramp's direction (`rising`: the ramp
+    /// gets lighter from its first colour to its last, or from its first real step).
+    Reverses { index: usize, rising: bool },
     /// The colour at this index is as light as the one before (only for `luminance`).
     Flat { index: usize },
 }
@@ -95,6 +94,7 @@ pub fn find_break(labs: &[Lab], flat_steps_break: bool) -> Option<RampBreak> {
             }
             return Some(RampBreak::Reverses {
                 index: step_index + 1,
+                rising: direction > 0.0,
             });
         }
     }
@@ -172,40 +172,40 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             .map(|lab| format!("{:.1}", lab.lightness))
             .collect::<Vec<_>>()
             .join(", ");
-        let (index, what) = match found {
-            RampBreak::Reverses { index } => {
-                let darker = labs[index].lightness < labs[index - 1].lightness;
-                (
-                    index,
-                    if darker {
-                        "darker than the one before, against the ramp"
-                    } else {
-                        "lighter than the one before, against the ramp"
-                    },
-                )
-            }
-            RampBreak::Flat { index } => (index, "as light as the one before"),
+        let index = match found {
+            RampBreak::Reverses { index, .. } | RampBreak::Flat { index } => index,
         };
         let (Some(offender), Some(previous)) = (colours.get(index), colours.get(index - 1)) else {
             continue;
+        };
+        let what = match found {
+            RampBreak::Reverses { rising: true, .. } => format!(
+                "it gets lighter, then {} is darker than {}",
+                offender.describe(),
+                previous.describe()
+            ),
+            RampBreak::Reverses { rising: false, .. } => format!(
+                "it gets darker, then {} is lighter than {}",
+                offender.describe(),
+                previous.describe()
+            ),
+            RampBreak::Flat { .. } => format!(
+                "{} is as light as {}",
+                offender.describe(),
+                previous.describe()
+            ),
         };
         diagnostics.push(Diagnostic::new(
             ID,
             Severity::Warning,
             offender.written.range,
             format!(
-                "the lightness (CIELAB L*) of {} goes {lightness}: {} is {what} {}, so lightness does not follow the order of the values",
+                "the lightness (CIELAB L*) of {} goes {lightness}: {what}, so lightness does not follow the order of the values",
                 palette_name(facts),
-                offender.describe(),
-                short(previous),
             ),
         ));
     }
     diagnostics
-}
-
-fn short(colour: &PaletteColour<'_>) -> String {
-    format!("(`{}`)", colour.written.value)
 }
 
 #[cfg(test)]
@@ -242,7 +242,10 @@ mod tests {
         assert!((rainbow[3].lightness - 32.30).abs() < 0.01);
         assert_eq!(
             find_break(&rainbow, false),
-            Some(RampBreak::Reverses { index: 1 })
+            Some(RampBreak::Reverses {
+                index: 1,
+                rising: false
+            })
         );
     }
 
@@ -267,7 +270,10 @@ mod tests {
         let one_hue = labs(&["#1f4e79", "#9cc3e6", "#1f4e79"]);
         assert_eq!(
             find_break(&one_hue, false),
-            Some(RampBreak::Reverses { index: 2 })
+            Some(RampBreak::Reverses {
+                index: 2,
+                rising: true
+            })
         );
     }
 }
