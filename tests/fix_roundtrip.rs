@@ -1,0 +1,91 @@
+//! Every quick fix is applied and the document analysed again: the diagnostic it fixes is gone
+//! (its rule reports one finding fewer) and no new error appeared. Runs over every `hit-*`
+//! fixture of `tests/fixtures/`, and fails when a rule that says it has a fix never offered one.
+
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+use markwell::analysis::{analyze, parse_document, AnalysisConfig};
+use markwell::data::{ProfileCache, ResolveOptions};
+use markwell::diagnostic::{Diagnostic, Severity};
+
+fn fixtures_root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures")
+}
+
+fn diagnostics_for(text: &str, spec_path: &Path, cache: &ProfileCache) -> Vec<Diagnostic> {
+    let document = parse_document(text);
+    let options = ResolveOptions {
+        spec_dir: spec_path.parent().map(Path::to_path_buf).unwrap_or_default(),
+        workspace_root: Some(fixtures_root()),
+        allow_outside_workspace: false,
+    };
+    let data = cache.load_for_spec(&document.spec, &options);
+    analyze(&document, &data, &AnalysisConfig::default())
+}
+
+fn errors_by_rule(diagnostics: &[Diagnostic]) -> BTreeMap<&'static str, usize> {
+    let mut counts = BTreeMap::new();
+    for diagnostic in diagnostics.iter().filter(|d| d.severity == Severity::Error) {
+        *counts.entry(diagnostic.rule).or_insert(0) += 1;
+    }
+    counts
+}
+
+#[test]
+fn every_fix_removes_its_diagnostic_and_adds_no_error() {
+    let cache = ProfileCache::new();
+    let mut failures = Vec::new();
+    let mut fixes_applied: BTreeMap<&'static str, usize> = BTreeMap::new();
+    let mut folders: Vec<PathBuf> = std::fs::read_dir(fixtures_root())
+        .expect("fixtures")
+        .filter_map(|entry| entry.ok().map(|entry| entry.path()))
+        .filter(|path| path.is_dir())
+        .collect();
+    folders.sort();
+    for folder in folders {
+        let mut specs: Vec<PathBuf> = std::fs::read_dir(&folder)
+            .expect("folder")
+            .filter_map(|entry| entry.ok().map(|entry| entry.path()))
+            .filter(|path| {
+                let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+                name.starts_with("hit-") && name.ends_with(".chart.json")
+            })
+            .collect();
+        specs.sort();
+        for spec in specs {
+            let text = std::fs::read_to_string(&spec).expect("fixture");
+            let before = diagnostics_for(&text, &spec, &cache);
+            for diagnostic in &before {
+                for fix in &diagnostic.fixes {
+                    let name = format!("{}: `{}` / {}", spec.display(), diagnostic.rule, fix.title);
+                    let Some(fixed) = fix.apply(&text) else {
+                        failures.push(format!("{name}: edits do not apply"));
+                        continue;
+                    };
+                    let after = diagnostics_for(&fixed, &spec, &cache);
+                    let count = |list: &[Diagnostic]| {
+                        list.iter().filter(|d| d.rule == diagnostic.rule).count()
+                    };
+                    if count(&after) >= count(&before) {
+                        failures.push(format!("{name}: still reported after the fix\n{fixed}"));
+                    }
+                    let old_errors = errors_by_rule(&before);
+                    for (rule, new_count) in errors_by_rule(&after) {
+                        if rule != diagnostic.rule && new_count > old_errors.get(rule).copied().unwrap_or(0) {
+                            failures.push(format!("{name}: the fix introduced a `{rule}` error\n{fixed}"));
+                        }
+                    }
+                    *fixes_applied.entry(diagnostic.rule).or_insert(0) += 1;
+                }
+            }
+        }
+    }
+    println!("fixes applied and re-analysed, per rule: {fixes_applied:?}");
+    for rule in markwell::analysis::rules::registry() {
+        if rule.has_fix && !fixes_applied.contains_key(rule.id) {
+            failures.push(format!("rule `{}` says it has a fix but no fixture exercised one", rule.id));
+        }
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n\n"));
+}
