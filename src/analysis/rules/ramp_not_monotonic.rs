@@ -180,12 +180,12 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         };
         let what = match found {
             RampBreak::Reverses { rising: true, .. } => format!(
-                "it gets lighter, then {} is darker than {}",
+                "it runs from dark to light, but {} is darker than {}",
                 offender.describe(),
                 previous.describe()
             ),
             RampBreak::Reverses { rising: false, .. } => format!(
-                "it gets darker, then {} is lighter than {}",
+                "it runs from light to dark, but {} is lighter than {}",
                 offender.describe(),
                 previous.describe()
             ),
