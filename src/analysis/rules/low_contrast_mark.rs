@@ -125,6 +125,46 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
 mod tests {
     use super::*;
 
+    /// The messages this rule gives for a spec without data.
+    fn messages(spec: &str) -> Vec<String> {
+        let document = crate::analysis::parse_document(spec);
+        let data = crate::data::DataContext::default();
+        let config = crate::analysis::AnalysisConfig::default();
+        let context = RuleContext::new(&document, &data, &config);
+        check(&context).into_iter().map(|d| d.message).collect()
+    }
+
+    #[test]
+    fn message_says_when_the_default_background_was_used() {
+        let default = messages(
+            r##"{ "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "color": "#959595" } }"##,
+        );
+        assert_eq!(
+            default,
+            vec![
+                "the mark colour `#959595` has a contrast of 2.99:1 against the default background `#ffffff` (`frame.background` is not set), below the 3:1 WCAG 2.1 sets for graphical objects (SC 1.4.11)"
+            ]
+        );
+        let explicit = messages(
+            r##"{ "frame": { "background": "#ffffff" }, "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "color": "#959595" } }"##,
+        );
+        assert_eq!(
+            explicit,
+            vec![
+                "the mark colour `#959595` has a contrast of 2.99:1 against the background `#ffffff`, below the 3:1 WCAG 2.1 sets for graphical objects (SC 1.4.11)"
+            ]
+        );
+        // #949494 is 3.03:1: no finding; an invalid background is left to the schema
+        assert!(messages(
+            r##"{ "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "color": "#949494" } }"##
+        )
+        .is_empty());
+        assert!(messages(
+            r##"{ "frame": { "background": "ivory" }, "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "color": "#fefefe" } }"##
+        )
+        .is_empty());
+    }
+
     const WHITE: Srgb8 = Srgb8::new(255, 255, 255);
 
     #[test]

@@ -8,7 +8,9 @@ use crate::analysis::rules::palette_too_similar::{
 };
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
-use crate::knowledge::colour::{ciede2000_between, simulate_deficiency, ColourVisionDeficiency};
+use crate::knowledge::colour::{
+    ciede2000, simulate_deficiency, ColourVisionDeficiency, Lab, Srgb8,
+};
 
 pub const ID: &str = "palette-cvd-collision";
 
@@ -30,29 +32,40 @@ pub struct Collision {
     pub under: Vec<(ColourVisionDeficiency, f64)>,
 }
 
+/// A colour in CIELAB as seen normally and under each simulated deficiency (in the order of
+/// [`ColourVisionDeficiency::ALL`]).
+#[derive(Clone, Copy, Debug)]
+pub struct SimulatedColour {
+    pub normal: Lab,
+    pub under: [Lab; 3],
+}
+
+impl SimulatedColour {
+    pub fn new(colour: Srgb8) -> SimulatedColour {
+        SimulatedColour {
+            normal: colour.to_lab(),
+            under: ColourVisionDeficiency::ALL
+                .map(|deficiency| simulate_deficiency(colour, deficiency).to_lab()),
+        }
+    }
+}
+
 /// How two colours compare normally and under each deficiency, against `threshold`. `None`
 /// when they are already closer than the threshold normally (that is `palette-too-similar`'s
 /// finding) or stay apart under every deficiency.
 pub fn collision(
-    first: crate::knowledge::colour::Srgb8,
-    second: crate::knowledge::colour::Srgb8,
+    first: &SimulatedColour,
+    second: &SimulatedColour,
     threshold: f64,
 ) -> Option<Collision> {
-    let normal_difference = ciede2000_between(first, second);
+    let normal_difference = ciede2000(first.normal, second.normal);
     if normal_difference < threshold {
         return None;
     }
     let under: Vec<(ColourVisionDeficiency, f64)> = ColourVisionDeficiency::ALL
         .into_iter()
-        .map(|deficiency| {
-            (
-                deficiency,
-                ciede2000_between(
-                    simulate_deficiency(first, deficiency),
-                    simulate_deficiency(second, deficiency),
-                ),
-            )
-        })
+        .zip(first.under.iter().zip(second.under.iter()))
+        .map(|(deficiency, (first, second))| (deficiency, ciede2000(*first, *second)))
         .filter(|(_, difference)| *difference < threshold)
         .collect();
     (!under.is_empty()).then_some(Collision {
@@ -73,14 +86,20 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
     let mut diagnostics = Vec::new();
     for facts in palette_bindings(&context.layers) {
         let colours = parsed_palette(facts.binding);
+        let simulated: Vec<SimulatedColour> = colours
+            .iter()
+            .map(|entry| SimulatedColour::new(entry.colour))
+            .collect();
         let threshold = minimum_difference(palette_role(facts));
         // one finding per colour, against the earlier colour it collides with worst, so that
         // each range is reported once
         for (later_index, later) in colours.iter().enumerate() {
             let worst: Option<(&PaletteColour<'_>, Collision)> = colours[..later_index]
                 .iter()
-                .filter_map(|earlier| {
-                    collision(earlier.colour, later.colour, threshold).map(|found| (earlier, found))
+                .zip(&simulated)
+                .filter_map(|(earlier, earlier_simulated)| {
+                    collision(earlier_simulated, &simulated[later_index], threshold)
+                        .map(|found| (earlier, found))
                 })
                 .min_by(|a, b| smallest_difference(&a.1).total_cmp(&smallest_difference(&b.1)));
             let Some((earlier, found)) = worst else {
@@ -119,13 +138,35 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The messages this rule gives for a spec without data.
+    fn messages(spec: &str) -> Vec<String> {
+        let document = crate::analysis::parse_document(spec);
+        let data = crate::data::DataContext::default();
+        let config = crate::analysis::AnalysisConfig::default();
+        let context = RuleContext::new(&document, &data, &config);
+        check(&context).into_iter().map(|d| d.message).collect()
+    }
+
+    #[test]
+    fn message_names_the_deficiency_and_both_differences() {
+        let found = messages(
+            r##"{ "mark": "bar", "bind": { "x": "branch", "hue": { "column": "oven", "palette": ["#c0392b", "#5a9a2f"] } } }"##,
+        );
+        assert_eq!(
+            found,
+            vec![
+                "`#c0392b` (1st) and `#5a9a2f` (2nd) in the `hue` palette of `oven` differ by ΔE00 60.7, but below 10 under simulated deuteranopia (ΔE00 7.4)"
+            ]
+        );
+    }
     use crate::analysis::rules::palette_too_similar::{
         CATEGORICAL_MINIMUM_DIFFERENCE, RAMP_MINIMUM_DIFFERENCE,
     };
-    use crate::knowledge::colour::{parse_hex_colour, Srgb8};
+    use crate::knowledge::colour::parse_hex_colour;
 
-    fn colour(text: &str) -> Srgb8 {
-        parse_hex_colour(text).unwrap_or(Srgb8::new(0, 0, 0))
+    fn colour(text: &str) -> SimulatedColour {
+        SimulatedColour::new(parse_hex_colour(text).unwrap_or(Srgb8::new(0, 0, 0)))
     }
 
     #[test]
@@ -134,8 +175,8 @@ mod tests {
         // #c0392b / #5a9a2f are ΔE00 60.7 apart normally, 7.4 under deuteranopia, 23.7 under
         // protanopia and 57.4 under tritanopia
         let found = collision(
-            colour("#c0392b"),
-            colour("#5a9a2f"),
+            &colour("#c0392b"),
+            &colour("#5a9a2f"),
             CATEGORICAL_MINIMUM_DIFFERENCE,
         );
         let Some(found) = found else {
@@ -148,8 +189,8 @@ mod tests {
         // the same pair is a near miss on a ramp's lower threshold
         assert_eq!(
             collision(
-                colour("#c0392b"),
-                colour("#5a9a2f"),
+                &colour("#c0392b"),
+                &colour("#5a9a2f"),
                 RAMP_MINIMUM_DIFFERENCE
             ),
             None
@@ -161,8 +202,8 @@ mod tests {
         // #2e6fb0 / #8e5bb0: ΔE00 24.3 normally, 2.1 under protanopia, 4.8 under deuteranopia,
         // 43.5 under tritanopia (computed as above)
         let found = collision(
-            colour("#2e6fb0"),
-            colour("#8e5bb0"),
+            &colour("#2e6fb0"),
+            &colour("#8e5bb0"),
             CATEGORICAL_MINIMUM_DIFFERENCE,
         );
         let deficiencies: Vec<ColourVisionDeficiency> = found
@@ -182,8 +223,8 @@ mod tests {
         // #3b7dd8 / #3f83d0 are ΔE00 2.4 apart with normal vision
         assert_eq!(
             collision(
-                colour("#3b7dd8"),
-                colour("#3f83d0"),
+                &colour("#3b7dd8"),
+                &colour("#3f83d0"),
                 CATEGORICAL_MINIMUM_DIFFERENCE
             ),
             None
@@ -196,8 +237,8 @@ mod tests {
         // so a grey pair that is far enough apart normally stays apart
         assert_eq!(
             collision(
-                colour("#777777"),
-                colour("#939393"),
+                &colour("#777777"),
+                &colour("#939393"),
                 CATEGORICAL_MINIMUM_DIFFERENCE
             ),
             None

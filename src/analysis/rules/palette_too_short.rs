@@ -122,6 +122,33 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
 mod tests {
     use super::*;
 
+    /// The messages this rule gives for a spec without data.
+    fn messages(spec: &str) -> Vec<String> {
+        let document = crate::analysis::parse_document(spec);
+        let data = crate::data::DataContext::default();
+        let config = crate::analysis::AnalysisConfig::default();
+        let context = RuleContext::new(&document, &data, &config);
+        check(&context).into_iter().map(|d| d.message).collect()
+    }
+
+    #[test]
+    fn declared_levels_count_when_there_is_no_data() {
+        let found = messages(
+            r##"{ "columns": { "crust": { "kind": "ordered", "levels": ["pale", "golden", "dark"] } }, "mark": "bar", "bind": { "x": "branch", "luminance": { "column": "crust", "palette": ["#b8762a", "#4a2a08"] } } }"##,
+        );
+        assert_eq!(
+            found,
+            vec![
+                "the `luminance` palette of `crust` has 2 colours for 3 declared levels of `crust`, so some values will share a colour"
+            ]
+        );
+        // without a kind, levels or data nothing is known
+        assert!(messages(
+            r##"{ "mark": "bar", "bind": { "x": "branch", "hue": { "column": "crust", "palette": ["#b8762a"] } } }"##
+        )
+        .is_empty());
+    }
+
     fn estimate(value: u64, relative_error: f64) -> ValueCount {
         ValueCount::Distinct(DistinctCount {
             value,

@@ -3,11 +3,10 @@
 //! thresholds, number formatting for values below a threshold). Documentation:
 //! `palette-too-similar.md`.
 
-use crate::analysis::channels::ordinal;
 use crate::analysis::facts::{BindingFacts, LayerFacts};
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
-use crate::knowledge::colour::{ciede2000_between, parse_hex_colour, Srgb8};
+use crate::knowledge::colour::{ciede2000, parse_hex_colour, Lab, Srgb8};
 use crate::spec::model::{AttributeKind, Binding, Channel, Spanned};
 
 pub const ID: &str = "palette-too-similar";
@@ -24,6 +23,10 @@ pub const CATEGORICAL_MINIMUM_DIFFERENCE: f64 = 10.0;
 /// than categories, but steps below about 5 cannot be matched to a legend.
 pub const RAMP_MINIMUM_DIFFERENCE: f64 = 5.0;
 
+/// Palettes are compared pair by pair, so only their first this many colours are checked (a
+/// bound on the work a pathological document can cause; no real palette comes close).
+pub const MAX_PALETTE_COLOURS_COMPARED: usize = 256;
+
 pub const RULE: Rule = Rule {
     id: ID,
     default_severity: Severity::Warning,
@@ -39,6 +42,8 @@ pub const RULE: Rule = Rule {
 pub struct PaletteColour<'a> {
     pub written: &'a Spanned<String>,
     pub colour: Srgb8,
+    /// `colour` in CIELAB (D65).
+    pub lab: Lab,
     /// 0-based position in the palette array (invalid entries keep their place).
     pub position: usize,
 }
@@ -49,13 +54,26 @@ impl PaletteColour<'_> {
         format!(
             "`{}` ({})",
             self.written.value,
-            ordinal(u8::try_from(self.position + 1).unwrap_or(u8::MAX))
+            ordinal_number(self.position + 1)
         )
     }
 }
 
+/// "1st", "2nd", "11th", "23rd", ... for any position.
+pub fn ordinal_number(number: usize) -> String {
+    let suffix = match (number % 10, number % 100) {
+        (_, 11..=13) => "th",
+        (1, _) => "st",
+        (2, _) => "nd",
+        (3, _) => "rd",
+        _ => "th",
+    };
+    format!("{number}{suffix}")
+}
+
 /// The entries of a binding's palette that are valid hex colours (the schema reports the
-/// others). Empty when the binding has no palette.
+/// others), at most [`MAX_PALETTE_COLOURS_COMPARED`] of them. Empty when the binding has no
+/// palette.
 pub fn parsed_palette(binding: &Binding) -> Vec<PaletteColour<'_>> {
     let Some(palette) = &binding.palette else {
         return Vec::new();
@@ -63,6 +81,7 @@ pub fn parsed_palette(binding: &Binding) -> Vec<PaletteColour<'_>> {
     palette
         .value
         .iter()
+        .take(MAX_PALETTE_COLOURS_COMPARED)
         .enumerate()
         .filter_map(|(position, written)| {
             parse_hex_colour(&written.value)
@@ -70,6 +89,7 @@ pub fn parsed_palette(binding: &Binding) -> Vec<PaletteColour<'_>> {
                 .map(|colour| PaletteColour {
                     written,
                     colour,
+                    lab: colour.to_lab(),
                     position,
                 })
         })
@@ -156,7 +176,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         for (later_index, later) in colours.iter().enumerate() {
             let closest = colours[..later_index]
                 .iter()
-                .map(|earlier| (earlier, ciede2000_between(earlier.colour, later.colour)))
+                .map(|earlier| (earlier, ciede2000(earlier.lab, later.lab)))
                 .filter(|(_, difference)| *difference < threshold)
                 .min_by(|a, b| a.1.total_cmp(&b.1));
             let Some((earlier, difference)) = closest else {
@@ -193,6 +213,56 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::analysis::AnalysisConfig;
+    use crate::data::DataContext;
+    use crate::knowledge::colour::ciede2000_between;
+
+    /// The messages this rule gives for a spec without data.
+    fn messages(spec: &str) -> Vec<String> {
+        let document = crate::analysis::parse_document(spec);
+        let data = DataContext::default();
+        let config = AnalysisConfig::default();
+        let context = RuleContext::new(&document, &data, &config);
+        check(&context).into_iter().map(|d| d.message).collect()
+    }
+
+    #[test]
+    fn messages_give_both_colours_and_the_difference() {
+        let found = messages(
+            r##"{ "mark": "bar", "bind": { "x": "branch", "hue": { "column": "oven", "palette": ["#3b7dd8", "#c0392b", "#3f83d0"] } } }"##,
+        );
+        assert_eq!(
+            found,
+            vec![
+                "`#3b7dd8` (1st) and `#3f83d0` (3rd) in the `hue` palette of `oven` differ by ΔE00 2.4, below 10: readers can hardly tell their values apart"
+            ]
+        );
+        // the same steps on `luminance` are a ramp, held to 5: #555555 to #666666 is 6.2
+        let ramp = messages(
+            r##"{ "mark": "bar", "bind": { "x": "branch", "luminance": { "column": "crust", "palette": ["#555555", "#666666", "#777777"] } } }"##,
+        );
+        assert!(ramp.is_empty(), "{ramp:?}");
+    }
+
+    #[test]
+    fn ordinals_beyond_a_byte() {
+        assert_eq!(ordinal_number(1), "1st");
+        assert_eq!(ordinal_number(12), "12th");
+        assert_eq!(ordinal_number(23), "23rd");
+        assert_eq!(ordinal_number(111), "111th");
+        assert_eq!(ordinal_number(302), "302nd");
+    }
+
+    #[test]
+    fn long_palettes_are_bounded() {
+        let entries: Vec<String> = (0..1000).map(|_| "\"#123456\"".to_string()).collect();
+        let spec = format!(
+            r#"{{ "mark": "bar", "bind": {{ "hue": {{ "column": "oven", "palette": [{}] }} }} }}"#,
+            entries.join(",")
+        );
+        // every colour after the first repeats it, but only the first 256 are compared
+        assert_eq!(messages(&spec).len(), MAX_PALETTE_COLOURS_COMPARED - 1);
+    }
 
     fn colour(text: &str) -> Srgb8 {
         parse_hex_colour(text).unwrap_or(Srgb8::new(0, 0, 0))

@@ -211,6 +211,37 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The messages this rule gives for a spec without data.
+    fn messages(spec: &str) -> Vec<String> {
+        let document = crate::analysis::parse_document(spec);
+        let data = crate::data::DataContext::default();
+        let config = crate::analysis::AnalysisConfig::default();
+        let context = RuleContext::new(&document, &data, &config);
+        check(&context).into_iter().map(|d| d.message).collect()
+    }
+
+    #[test]
+    fn message_lists_the_lightness_values() {
+        let found = messages(
+            r##"{ "mark": "bar", "bind": { "x": "branch", "luminance": { "column": "crust", "palette": ["#2e6fb0", "#e0a31a", "#c0392b"] } } }"##,
+        );
+        assert_eq!(
+            found,
+            vec![
+                "the lightness (CIELAB L*) of the `luminance` palette of `crust` goes 45.7, 71.0, 44.7: it runs from light to dark, but `#e0a31a` (2nd) is lighter than `#2e6fb0` (1st), so lightness does not follow the order of the values"
+            ]
+        );
+        // on `hue` the rule needs to know the values are ordered
+        let categories = messages(
+            r##"{ "mark": "bar", "bind": { "x": "branch", "hue": { "column": "crust", "palette": ["#2e6fb0", "#e0a31a", "#c0392b"] } } }"##,
+        );
+        assert!(categories.is_empty(), "{categories:?}");
+        let declared = messages(
+            r##"{ "columns": { "crust": { "kind": "ordered" } }, "mark": "bar", "bind": { "x": "branch", "hue": { "column": "crust", "palette": ["#2e6fb0", "#e0a31a", "#c0392b"] } } }"##,
+        );
+        assert_eq!(declared.len(), 1, "{declared:?}");
+    }
     use crate::knowledge::colour::{parse_hex_colour, Srgb8};
 
     fn labs(colours: &[&str]) -> Vec<Lab> {
