@@ -266,8 +266,9 @@ mod tests {
 
     #[test]
     fn a_rainbow_for_ordered_values_turns_back() {
-        // red L* 53.2, yellow 97.1, green 87.7, blue 32.3 (sRGB primaries and secondaries,
-        // CIELAB under D65): overall falling, so yellow (index 1) is the first break
+        // red L* 53.24, yellow 97.14, green 87.73, blue 32.30: the CIELAB (D65) lightness of the
+        // sRGB primaries and secondaries as commonly tabulated (from memory); overall falling,
+        // so yellow (index 1) is the first break
         let rainbow = labs(&["#ff0000", "#ffff00", "#00ff00", "#0000ff"]);
         assert!((rainbow[0].lightness - 53.24).abs() < 0.01);
         assert!((rainbow[3].lightness - 32.30).abs() < 0.01);
