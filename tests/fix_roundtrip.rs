@@ -16,7 +16,10 @@ fn fixtures_root() -> PathBuf {
 fn diagnostics_for(text: &str, spec_path: &Path, cache: &ProfileCache) -> Vec<Diagnostic> {
     let document = parse_document(text);
     let options = ResolveOptions {
-        spec_dir: spec_path.parent().map(Path::to_path_buf).unwrap_or_default(),
+        spec_dir: spec_path
+            .parent()
+            .map(Path::to_path_buf)
+            .unwrap_or_default(),
         workspace_root: Some(fixtures_root()),
         allow_outside_workspace: false,
     };
@@ -48,7 +51,10 @@ fn every_fix_removes_its_diagnostic_and_adds_no_error() {
             .expect("folder")
             .filter_map(|entry| entry.ok().map(|entry| entry.path()))
             .filter(|path| {
-                let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_default();
+                let name = path
+                    .file_name()
+                    .map(|n| n.to_string_lossy().into_owned())
+                    .unwrap_or_default();
                 name.starts_with("hit-") && name.ends_with(".chart.json")
             })
             .collect();
@@ -72,8 +78,12 @@ fn every_fix_removes_its_diagnostic_and_adds_no_error() {
                     }
                     let old_errors = errors_by_rule(&before);
                     for (rule, new_count) in errors_by_rule(&after) {
-                        if rule != diagnostic.rule && new_count > old_errors.get(rule).copied().unwrap_or(0) {
-                            failures.push(format!("{name}: the fix introduced a `{rule}` error\n{fixed}"));
+                        if rule != diagnostic.rule
+                            && new_count > old_errors.get(rule).copied().unwrap_or(0)
+                        {
+                            failures.push(format!(
+                                "{name}: the fix introduced a `{rule}` error\n{fixed}"
+                            ));
                         }
                     }
                     *fixes_applied.entry(diagnostic.rule).or_insert(0) += 1;
@@ -84,7 +94,10 @@ fn every_fix_removes_its_diagnostic_and_adds_no_error() {
     println!("fixes applied and re-analysed, per rule: {fixes_applied:?}");
     for rule in markwell::analysis::rules::registry() {
         if rule.has_fix && !fixes_applied.contains_key(rule.id) {
-            failures.push(format!("rule `{}` says it has a fix but no fixture exercised one", rule.id));
+            failures.push(format!(
+                "rule `{}` says it has a fix but no fixture exercised one",
+                rule.id
+            ));
         }
     }
     assert!(failures.is_empty(), "{}", failures.join("\n\n"));
