@@ -117,11 +117,12 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 })
                 .collect::<Vec<_>>()
                 .join(" and ");
-            diagnostics.push(Diagnostic::new(
-                ID,
-                Severity::Warning,
-                later.written.range,
-                format!(
+            diagnostics.push(
+                Diagnostic::new(
+                    ID,
+                    Severity::Warning,
+                    later.written.range,
+                    format!(
                     "{} and {} in {} differ by ΔE00 {:.1}, but below {} under simulated {under}",
                     earlier.describe(),
                     later.describe(),
@@ -129,7 +130,9 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                     found.normal_difference,
                     format_threshold(threshold)
                 ),
-            ));
+                )
+                .with_related(earlier.related("the colour it collides with")),
+            );
         }
     }
     diagnostics

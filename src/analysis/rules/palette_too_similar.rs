@@ -5,7 +5,7 @@
 
 use crate::analysis::facts::{BindingFacts, LayerFacts};
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
-use crate::diagnostic::{Diagnostic, Severity};
+use crate::diagnostic::{Diagnostic, RelatedLocation, RelatedTarget, Severity};
 use crate::knowledge::colour::{ciede2000, parse_hex_colour, Lab, Srgb8};
 use crate::spec::model::{AttributeKind, Binding, Channel, Spanned};
 
@@ -56,6 +56,16 @@ impl PaletteColour<'_> {
             self.written.value,
             ordinal_number(self.position + 1)
         )
+    }
+}
+
+impl PaletteColour<'_> {
+    /// A related location pointing at this colour, for the diagnostic of another one.
+    pub fn related(&self, message: impl Into<String>) -> RelatedLocation {
+        RelatedLocation {
+            target: RelatedTarget::SameDocument(self.written.range),
+            message: message.into(),
+        }
     }
 }
 
@@ -199,12 +209,10 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                     format_threshold(threshold)
                 )
             };
-            diagnostics.push(Diagnostic::new(
-                ID,
-                Severity::Warning,
-                later.written.range,
-                message,
-            ));
+            diagnostics.push(
+                Diagnostic::new(ID, Severity::Warning, later.written.range, message)
+                    .with_related(earlier.related("the colour it is close to")),
+            );
         }
     }
     diagnostics
@@ -242,6 +250,45 @@ mod tests {
             r##"{ "mark": "bar", "bind": { "x": "branch", "luminance": { "column": "crust", "palette": ["#555555", "#666666", "#777777"] } } }"##,
         );
         assert!(ramp.is_empty(), "{ramp:?}");
+    }
+
+    #[test]
+    fn the_closer_earlier_colour_is_the_related_location() {
+        let text = r##"{ "mark": "bar", "bind": { "hue": { "column": "oven", "palette": ["#3b7dd8", "#c0392b", "#3f83d0"] } } }"##;
+        let document = crate::analysis::parse_document(text);
+        let data = DataContext::default();
+        let config = AnalysisConfig::default();
+        let found = check(&RuleContext::new(&document, &data, &config));
+        assert_eq!(found.len(), 1);
+        let RelatedTarget::SameDocument(range) = found[0].related[0].target else {
+            panic!("expected a location in the spec");
+        };
+        assert_eq!(text.get(range.start..range.end), Some("\"#3b7dd8\""));
+        assert_eq!(
+            text.get(found[0].range.start..found[0].range.end),
+            Some("\"#3f83d0\"")
+        );
+    }
+
+    #[test]
+    fn below_threshold_formatting_never_reaches_the_threshold() {
+        // every value in [0, 10) in steps of 0.0007, against 10 at one decimal and 3 at two
+        let mut value = 0.0;
+        while value < 10.0 {
+            let shown: f64 = format_below(value, 10.0, 1).parse().unwrap_or(f64::NAN);
+            assert!(
+                shown < 10.0 && (shown - value).abs() <= 0.1,
+                "{value} -> {shown}"
+            );
+            if value < 3.0 {
+                let shown: f64 = format_below(value, 3.0, 2).parse().unwrap_or(f64::NAN);
+                assert!(
+                    shown < 3.0 && (shown - value).abs() <= 0.01,
+                    "{value} -> {shown}"
+                );
+            }
+            value += 0.0007;
+        }
     }
 
     #[test]

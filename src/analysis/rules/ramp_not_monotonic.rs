@@ -195,7 +195,8 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 previous.describe()
             ),
         };
-        diagnostics.push(Diagnostic::new(
+        diagnostics.push(
+            Diagnostic::new(
             ID,
             Severity::Warning,
             offender.written.range,
@@ -203,7 +204,9 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 "the lightness (CIELAB L*) of {} goes {lightness}: {what}, so lightness does not follow the order of the values",
                 palette_name(facts),
             ),
-        ));
+            )
+            .with_related(previous.related("the colour before it")),
+        );
     }
     diagnostics
 }
