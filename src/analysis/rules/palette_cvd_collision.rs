@@ -4,13 +4,14 @@
 
 use crate::analysis::rules::palette_too_similar::{
     format_below, format_threshold, minimum_difference, palette_bindings, palette_name,
-    palette_role, parsed_palette, PaletteColour,
+    palette_role, parsed_palette, PairBudget, PaletteColour,
 };
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
 use crate::knowledge::colour::{
     ciede2000, simulate_deficiency, ColourVisionDeficiency, Lab, Srgb8,
 };
+use std::collections::HashMap;
 
 pub const ID: &str = "palette-cvd-collision";
 
@@ -50,28 +51,38 @@ impl SimulatedColour {
     }
 }
 
-/// How two colours compare normally and under each deficiency, against `threshold`. `None`
-/// when they are already closer than the threshold normally (that is `palette-too-similar`'s
-/// finding) or stay apart under every deficiency.
-pub fn collision(
-    first: &SimulatedColour,
-    second: &SimulatedColour,
-    threshold: f64,
-) -> Option<Collision> {
-    let normal_difference = ciede2000(first.normal, second.normal);
-    if normal_difference < threshold {
-        return None;
+/// CIEDE2000 between two colours normally and under each deficiency.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct PairDifferences {
+    pub normal: f64,
+    pub under: [f64; 3],
+}
+
+impl PairDifferences {
+    pub fn between(first: &SimulatedColour, second: &SimulatedColour) -> PairDifferences {
+        PairDifferences {
+            normal: ciede2000(first.normal, second.normal),
+            under: [0, 1, 2].map(|index| ciede2000(first.under[index], second.under[index])),
+        }
     }
-    let under: Vec<(ColourVisionDeficiency, f64)> = ColourVisionDeficiency::ALL
-        .into_iter()
-        .zip(first.under.iter().zip(second.under.iter()))
-        .map(|(deficiency, (first, second))| (deficiency, ciede2000(*first, *second)))
-        .filter(|(_, difference)| *difference < threshold)
-        .collect();
-    (!under.is_empty()).then_some(Collision {
-        normal_difference,
-        under,
-    })
+
+    /// The collision against `threshold`: `None` when the colours are already closer than the
+    /// threshold normally (that is `palette-too-similar`'s finding) or stay apart under every
+    /// deficiency.
+    pub fn collision(&self, threshold: f64) -> Option<Collision> {
+        if self.normal < threshold {
+            return None;
+        }
+        let under: Vec<(ColourVisionDeficiency, f64)> = ColourVisionDeficiency::ALL
+            .into_iter()
+            .zip(self.under)
+            .filter(|(_, difference)| *difference < threshold)
+            .collect();
+        (!under.is_empty()).then_some(Collision {
+            normal_difference: self.normal,
+            under,
+        })
+    }
 }
 
 fn smallest_difference(collision: &Collision) -> f64 {
@@ -84,24 +95,46 @@ fn smallest_difference(collision: &Collision) -> f64 {
 
 fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
     let mut diagnostics = Vec::new();
+    let mut simulated: HashMap<Srgb8, SimulatedColour> = HashMap::new();
+    let mut pairs: HashMap<(Srgb8, Srgb8), PairDifferences> = HashMap::new();
+    let mut budget = PairBudget::default();
     for facts in palette_bindings(&context.layers) {
         let colours = parsed_palette(facts.binding);
-        let simulated: Vec<SimulatedColour> = colours
-            .iter()
-            .map(|entry| SimulatedColour::new(entry.colour))
-            .collect();
+        if !budget.take_palette(colours.len()) {
+            break;
+        }
         let threshold = minimum_difference(palette_role(facts));
         // one finding per colour, against the earlier colour it collides with worst, so that
         // each range is reported once
         for (later_index, later) in colours.iter().enumerate() {
-            let worst: Option<(&PaletteColour<'_>, Collision)> = colours[..later_index]
-                .iter()
-                .zip(&simulated)
-                .filter_map(|(earlier, earlier_simulated)| {
-                    collision(earlier_simulated, &simulated[later_index], threshold)
-                        .map(|found| (earlier, found))
-                })
-                .min_by(|a, b| smallest_difference(&a.1).total_cmp(&smallest_difference(&b.1)));
+            let mut worst: Option<(&PaletteColour<'_>, Collision)> = None;
+            for earlier in &colours[..later_index] {
+                // simulated once per colour and compared once per pair
+                let key = (earlier.colour, later.colour);
+                let differences = match pairs.get(&key) {
+                    Some(differences) => *differences,
+                    None => {
+                        let first = *simulated
+                            .entry(earlier.colour)
+                            .or_insert_with(|| SimulatedColour::new(earlier.colour));
+                        let second = *simulated
+                            .entry(later.colour)
+                            .or_insert_with(|| SimulatedColour::new(later.colour));
+                        let differences = PairDifferences::between(&first, &second);
+                        pairs.insert(key, differences);
+                        differences
+                    }
+                };
+                let Some(found) = differences.collision(threshold) else {
+                    continue;
+                };
+                let worse = worst.as_ref().is_none_or(|(_, current)| {
+                    smallest_difference(&found) < smallest_difference(current)
+                });
+                if worse {
+                    worst = Some((earlier, found));
+                }
+            }
             let Some((earlier, found)) = worst else {
                 continue;
             };
@@ -167,6 +200,14 @@ mod tests {
         CATEGORICAL_MINIMUM_DIFFERENCE, RAMP_MINIMUM_DIFFERENCE,
     };
     use crate::knowledge::colour::parse_hex_colour;
+
+    fn collision(
+        first: &SimulatedColour,
+        second: &SimulatedColour,
+        threshold: f64,
+    ) -> Option<Collision> {
+        PairDifferences::between(first, second).collision(threshold)
+    }
 
     fn colour(text: &str) -> SimulatedColour {
         SimulatedColour::new(parse_hex_colour(text).unwrap_or(Srgb8::new(0, 0, 0)))

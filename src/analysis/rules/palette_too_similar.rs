@@ -9,6 +9,8 @@ use crate::diagnostic::{Diagnostic, RelatedLocation, RelatedTarget, Severity};
 use crate::knowledge::colour::{ciede2000, parse_hex_colour, Lab, Srgb8};
 use crate::spec::model::{AttributeKind, Binding, Channel, Spanned};
 
+use std::collections::HashMap;
+
 pub const ID: &str = "palette-too-similar";
 
 /// Smallest CIEDE2000 difference between two colours that stand for categories (a `hue`
@@ -27,6 +29,11 @@ pub const RAMP_MINIMUM_DIFFERENCE: f64 = 5.0;
 /// bound on the work a pathological document can cause; no real palette comes close).
 pub const MAX_PALETTE_COLOURS_COMPARED: usize = 256;
 
+/// Pairs of colours one rule compares in one run, over all palettes: a bound on the work (and
+/// the memo's memory) a pathological document can cause. Palettes past the budget are not
+/// checked. A real spec stays far below: 250 000 pairs are a thousand 23-colour palettes.
+pub const MAX_PAIRS_COMPARED_PER_RUN: usize = 250_000;
+
 pub const RULE: Rule = Rule {
     id: ID,
     default_severity: Severity::Warning,
@@ -42,8 +49,6 @@ pub const RULE: Rule = Rule {
 pub struct PaletteColour<'a> {
     pub written: &'a Spanned<String>,
     pub colour: Srgb8,
-    /// `colour` in CIELAB (D65).
-    pub lab: Lab,
     /// 0-based position in the palette array (invalid entries keep their place).
     pub position: usize,
 }
@@ -65,6 +70,59 @@ impl PaletteColour<'_> {
         RelatedLocation {
             target: RelatedTarget::SameDocument(self.written.range),
             message: message.into(),
+        }
+    }
+}
+
+/// Colour computations remembered during one rule run, since specs with many layers repeat
+/// their palettes.
+#[derive(Debug, Default)]
+pub struct ColourMemo {
+    labs: HashMap<Srgb8, Lab>,
+    differences: HashMap<(Srgb8, Srgb8), f64>,
+}
+
+impl ColourMemo {
+    /// CIELAB (D65) of a colour.
+    pub fn lab(&mut self, colour: Srgb8) -> Lab {
+        *self.labs.entry(colour).or_insert_with(|| colour.to_lab())
+    }
+
+    /// CIEDE2000 from `first` to `second`.
+    pub fn difference(&mut self, first: Srgb8, second: Srgb8) -> f64 {
+        if let Some(difference) = self.differences.get(&(first, second)) {
+            return *difference;
+        }
+        let difference = ciede2000(self.lab(first), self.lab(second));
+        self.differences.insert((first, second), difference);
+        difference
+    }
+}
+
+/// Counts the pairs a rule run compares against [`MAX_PAIRS_COMPARED_PER_RUN`].
+#[derive(Debug)]
+pub struct PairBudget {
+    left: usize,
+}
+
+impl Default for PairBudget {
+    fn default() -> PairBudget {
+        PairBudget {
+            left: MAX_PAIRS_COMPARED_PER_RUN,
+        }
+    }
+}
+
+impl PairBudget {
+    /// Take the pairs of a palette of `colours` colours; false when they do not fit.
+    pub fn take_palette(&mut self, colours: usize) -> bool {
+        let pairs = colours.saturating_mul(colours.saturating_sub(1)) / 2;
+        match self.left.checked_sub(pairs) {
+            Some(left) => {
+                self.left = left;
+                true
+            }
+            None => false,
         }
     }
 }
@@ -99,7 +157,6 @@ pub fn parsed_palette(binding: &Binding) -> Vec<PaletteColour<'_>> {
                 .map(|colour| PaletteColour {
                     written,
                     colour,
-                    lab: colour.to_lab(),
                     position,
                 })
         })
@@ -178,15 +235,20 @@ pub fn format_threshold(threshold: f64) -> String {
 
 fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
     let mut diagnostics = Vec::new();
+    let mut memo = ColourMemo::default();
+    let mut budget = PairBudget::default();
     for facts in palette_bindings(&context.layers) {
         let colours = parsed_palette(facts.binding);
+        if !budget.take_palette(colours.len()) {
+            break;
+        }
         let threshold = minimum_difference(palette_role(facts));
         // one finding per colour, against the closest earlier colour, so that each range is
         // reported once
         for (later_index, later) in colours.iter().enumerate() {
             let closest = colours[..later_index]
                 .iter()
-                .map(|earlier| (earlier, ciede2000(earlier.lab, later.lab)))
+                .map(|earlier| (earlier, memo.difference(earlier.colour, later.colour)))
                 .filter(|(_, difference)| *difference < threshold)
                 .min_by(|a, b| a.1.total_cmp(&b.1));
             let Some((earlier, difference)) = closest else {
@@ -289,6 +351,19 @@ mod tests {
             }
             value += 0.0007;
         }
+    }
+
+    #[test]
+    fn the_pair_budget_stops_at_the_bound() {
+        let mut budget = PairBudget::default();
+        // a 256-colour palette has 32 640 pairs: seven fit in 250 000, the eighth does not
+        for _ in 0..7 {
+            assert!(budget.take_palette(MAX_PALETTE_COLOURS_COMPARED));
+        }
+        assert!(!budget.take_palette(MAX_PALETTE_COLOURS_COMPARED));
+        // smaller palettes still fit in what is left (250 000 - 7 * 32 640 = 21 520)
+        assert!(budget.take_palette(100));
+        assert!(!budget.take_palette(usize::MAX));
     }
 
     #[test]

@@ -3,7 +3,9 @@
 //! palettes are accepted. Documentation: `ramp-not-monotonic.md`.
 
 use crate::analysis::facts::BindingFacts;
-use crate::analysis::rules::palette_too_similar::{palette_bindings, palette_name, parsed_palette};
+use crate::analysis::rules::palette_too_similar::{
+    palette_bindings, palette_name, parsed_palette, ColourMemo,
+};
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
 use crate::knowledge::colour::Lab;
@@ -157,12 +159,13 @@ fn hue_difference(first: f64, second: f64) -> f64 {
 
 fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
     let mut diagnostics = Vec::new();
+    let mut memo = ColourMemo::default();
     for facts in palette_bindings(&context.layers) {
         if !shows_order(facts) {
             continue;
         }
         let colours = parsed_palette(facts.binding);
-        let labs: Vec<Lab> = colours.iter().map(|entry| entry.colour.to_lab()).collect();
+        let labs: Vec<Lab> = colours.iter().map(|entry| memo.lab(entry.colour)).collect();
         let flat_steps_break = facts.binding.channel == Channel::Luminance;
         let Some(found) = find_break(&labs, flat_steps_break) else {
             continue;
