@@ -15,7 +15,7 @@ pub const ID: &str = "palette-too-similar";
 
 /// Smallest CIEDE2000 difference between two colours that stand for categories (a `hue`
 /// palette for categorical or unknown values). Common practice, no source: ΔE00 of about 1 is a
-/// just noticeable difference for large patches side by side, and chart marks are small, apart
+/// just noticeable difference for large patches side by side (from memory), and chart marks are small, apart
 /// and matched to a legend, so palettes are usually kept 10 or more apart.
 pub const CATEGORICAL_MINIMUM_DIFFERENCE: f64 = 10.0;
 
@@ -25,13 +25,14 @@ pub const CATEGORICAL_MINIMUM_DIFFERENCE: f64 = 10.0;
 /// than categories, but steps below about 5 cannot be matched to a legend.
 pub const RAMP_MINIMUM_DIFFERENCE: f64 = 5.0;
 
-/// Palettes are compared pair by pair, so only their first this many colours are checked (a
-/// bound on the work a pathological document can cause; no real palette comes close).
+/// Palettes are compared pair by pair, so only their first this many colours are checked by
+/// the colour rules (a bound on the work a pathological document can cause; no real palette
+/// comes close).
 pub const MAX_PALETTE_COLOURS_COMPARED: usize = 256;
 
 /// Pairs of colours one rule compares in one run, over all palettes: a bound on the work (and
 /// the memo's memory) a pathological document can cause. Palettes past the budget are not
-/// checked. A real spec stays far below: 250 000 pairs are a thousand 23-colour palettes.
+/// checked. A real spec stays far below: 250 000 pairs are about a thousand 23-colour palettes.
 pub const MAX_PAIRS_COMPARED_PER_RUN: usize = 250_000;
 
 pub const RULE: Rule = Rule {
