@@ -72,7 +72,9 @@ fn json_test_suite_cases_are_accepted_and_rejected_as_the_suite_says() {
     let mut rejected_n_by_parser = 0;
     let mut rejected_n_as_invalid_utf8 = 0;
     let mut failed_n = Vec::new();
+    let mut invalid_utf8_n_also_rejected_by_parser = 0;
     let mut survived_i = 0;
+    let mut accepted_i = 0;
     let mut y_with_duplicate_keys = Vec::new();
     let (mut count_y, mut count_n, mut count_i) = (0, 0, 0);
 
@@ -91,14 +93,12 @@ fn json_test_suite_cases_are_accepted_and_rejected_as_the_suite_says() {
             .iter()
             .filter(|error| error.kind == SyntaxErrorKind::Grammar)
             .collect();
-        if tree
+        let has_duplicate_keys = tree
             .errors()
             .iter()
-            .any(|error| error.kind == SyntaxErrorKind::DuplicateKey)
-        {
-            if case.file_name.starts_with("y_") {
-                y_with_duplicate_keys.push(case.file_name.as_str());
-            }
+            .any(|error| error.kind == SyntaxErrorKind::DuplicateKey);
+        if has_duplicate_keys && case.file_name.starts_with("y_") {
+            y_with_duplicate_keys.push(case.file_name.as_str());
         }
 
         if case.file_name.starts_with("y_") {
@@ -112,6 +112,9 @@ fn json_test_suite_cases_are_accepted_and_rejected_as_the_suite_says() {
             count_n += 1;
             if !is_valid_utf8 {
                 rejected_n_as_invalid_utf8 += 1;
+                if !grammar_errors.is_empty() {
+                    invalid_utf8_n_also_rejected_by_parser += 1;
+                }
             } else if !grammar_errors.is_empty() {
                 rejected_n_by_parser += 1;
             } else {
@@ -120,13 +123,18 @@ fn json_test_suite_cases_are_accepted_and_rejected_as_the_suite_says() {
         } else if case.file_name.starts_with("i_") {
             count_i += 1;
             survived_i += 1; // reaching here means: no panic, no hang, invariants hold
+            if is_valid_utf8 && grammar_errors.is_empty() {
+                accepted_i += 1;
+            }
         }
     }
 
     println!(
         "json test suite: y {}/{count_y} accepted, n {}/{count_n} rejected \
          ({rejected_n_by_parser} by the parser, {rejected_n_as_invalid_utf8} as invalid UTF-8 \
-         when read), i {survived_i} no panic",
+         when read, of which the parser alone also rejects \
+         {invalid_utf8_n_also_rejected_by_parser}), i {survived_i} no panic \
+         ({accepted_i} accepted)",
         accepted_y.len(),
         rejected_n_by_parser + rejected_n_as_invalid_utf8,
     );

@@ -2,6 +2,7 @@
 //! A thin shell: it finds files, reads them, calls the analysis and prints.
 
 mod check;
+mod profile;
 mod render;
 mod sarif;
 
@@ -48,6 +49,8 @@ pub enum DenyLevel {
 enum Command {
     /// Check chart specs (files, or folders searched for `*.chart.json`).
     Check(check::CheckArgs),
+    /// Profile data files: kinds, missing values, distinct counts, ranges, histograms.
+    Profile(profile::ProfileArgs),
     /// List the rules.
     Rules,
     /// Print the documentation of a rule.
@@ -72,6 +75,7 @@ pub fn main() -> ExitCode {
     };
     let code = match cli.command {
         Command::Check(args) => check::run(&args),
+        Command::Profile(args) => profile::run(&args),
         Command::Rules => list_rules(),
         Command::Explain { id } => explain(&id),
     };

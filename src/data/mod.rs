@@ -1,12 +1,32 @@
 //! Layer 3a: resolving and profiling the data a spec reads (CSV, TSV, JSON, NDJSON, inline rows).
 //! The contract types below are used by the analysis and the front ends; the readers and the
-//! profiler fill them. PLACEHOLDER implementation: the data issue replaces the bodies.
+//! profiler fill them.
+//!
+//! - [`resolve`]: `source.path` → canonical file path (workspace check, no network);
+//! - [`csv_reader`], [`json_reader`]: streaming readers;
+//! - [`infer`]: cell-level decisions (missing tokens, numbers, ISO 8601, kinds, zero);
+//! - [`profile`]: per-column accumulators that merge across threads;
+//! - [`sketch`]: HyperLogLog, compensated sums, streaming histograms;
+//! - [`cache`]: [`ProfileCache`], sampled and full profiles keyed by path, size and mtime;
+//! - [`render`]: the text table and JSON of `markwell profile`.
 
+pub mod cache;
+pub mod csv_reader;
+pub mod infer;
+pub mod json_reader;
+pub mod profile;
+pub mod render;
+pub mod resolve;
+pub mod sketch;
+
+use std::fmt;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
-use crate::spec::model::{AttributeKind, ChartSpec, Source, SourceLocation, ZeroMeaning};
+use crate::spec::model::{AttributeKind, DataFormat, Source, SourceLocation, ZeroMeaning};
 use crate::text_range::TextRange;
+
+pub use cache::ProfileCache;
 
 /// Distinct values: exact up to a cap, then an estimate with its stated relative error.
 #[derive(Clone, Debug, PartialEq)]
@@ -73,7 +93,7 @@ pub struct DataProblem {
 pub struct DataProfile {
     /// Canonical path of the file; `None` for inline rows.
     pub path: Option<PathBuf>,
-    pub format: crate::spec::model::DataFormat,
+    pub format: DataFormat,
     pub rows: u64,
     pub columns: Vec<ColumnProfile>,
     /// True while this is a first profile from a bounded head of the file.
@@ -101,6 +121,35 @@ pub enum DataErrorKind {
     Malformed,
     ChangedDuringScan,
     Io,
+    /// A path that cannot name a file (NUL byte, empty, absurdly long).
+    BadPath,
+    /// A web address: data is never fetched over the network.
+    Remote,
+    /// The caller cancelled a full scan.
+    Cancelled,
+}
+
+impl DataErrorKind {
+    /// A stable word for JSON output and tests.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            DataErrorKind::NotFound => "not-found",
+            DataErrorKind::PermissionDenied => "permission-denied",
+            DataErrorKind::IsDirectory => "is-directory",
+            DataErrorKind::OutsideWorkspace => "outside-workspace",
+            DataErrorKind::Binary => "binary",
+            DataErrorKind::InvalidUtf8 => "invalid-utf8",
+            DataErrorKind::Empty => "empty",
+            DataErrorKind::HeaderOnly => "header-only",
+            DataErrorKind::BadHeader => "bad-header",
+            DataErrorKind::Malformed => "malformed",
+            DataErrorKind::ChangedDuringScan => "changed-during-scan",
+            DataErrorKind::Io => "io",
+            DataErrorKind::BadPath => "bad-path",
+            DataErrorKind::Remote => "remote",
+            DataErrorKind::Cancelled => "cancelled",
+        }
+    }
 }
 
 /// Why a source could not be profiled.
@@ -112,6 +161,71 @@ pub struct DataError {
     /// 0-based line in the data file, when the error has one.
     pub line: Option<usize>,
     pub byte_offset: Option<u64>,
+}
+
+impl fmt::Display for DataError {
+    fn fmt(&self, formatter: &mut fmt::Formatter<'_>) -> fmt::Result {
+        formatter.write_str(&self.message)?;
+        if let Some(line) = self.line {
+            write!(formatter, " (line {})", line + 1)?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for DataError {}
+
+/// A `DataError` for an IO failure on `path`, by the kind of failure.
+pub fn io_error(path: Option<&Path>, error: &std::io::Error) -> DataError {
+    let shown = path.map_or_else(
+        || "the data".to_string(),
+        |path| format!("`{}`", path.display()),
+    );
+    let (kind, message) = match error.kind() {
+        std::io::ErrorKind::NotFound => (DataErrorKind::NotFound, format!("no file {shown}")),
+        std::io::ErrorKind::PermissionDenied => (
+            DataErrorKind::PermissionDenied,
+            format!("no permission to read {shown}"),
+        ),
+        std::io::ErrorKind::IsADirectory => (
+            DataErrorKind::IsDirectory,
+            format!("{shown} is a folder, not a data file"),
+        ),
+        std::io::ErrorKind::InvalidData => (
+            DataErrorKind::Malformed,
+            format!(
+                "a record in {shown} is longer than {} MiB (an unclosed quote?)",
+                csv_reader::MAX_RECORD_BYTES >> 20
+            ),
+        ),
+        _ => (
+            DataErrorKind::Io,
+            format!("could not read {shown}: {error}"),
+        ),
+    };
+    DataError {
+        kind,
+        message,
+        path: path.map(Path::to_path_buf),
+        line: None,
+        byte_offset: None,
+    }
+}
+
+/// How to read a file, as the spec's `source` says (`None`: inferred).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
+pub struct ReadOptions {
+    pub format: Option<DataFormat>,
+    pub delimiter: Option<char>,
+}
+
+impl ReadOptions {
+    pub fn for_source(source: &Source) -> ReadOptions {
+        ReadOptions {
+            format: source.format.as_ref().map(|format| format.value),
+            delimiter: source.delimiter.as_ref().map(|delimiter| delimiter.value),
+        }
+    }
 }
 
 /// Where the spec lives and what it may read.
@@ -157,59 +271,5 @@ impl DataContext {
             .iter()
             .find(|(entry_key, _)| *entry_key == key)
             .map(|(_, data)| data)
-    }
-}
-
-/// Loads profiles, caching them by path plus size and modification time.
-#[derive(Debug, Default)]
-pub struct ProfileCache {}
-
-impl ProfileCache {
-    pub fn new() -> ProfileCache {
-        ProfileCache {}
-    }
-
-    /// Resolve and profile every source of `spec`. PLACEHOLDER: only checks that files exist.
-    pub fn load_for_spec(&self, spec: &ChartSpec, options: &ResolveOptions) -> DataContext {
-        let mut context = DataContext::default();
-        let sources = spec
-            .source
-            .iter()
-            .chain(spec.layers.iter().filter_map(|layer| layer.source.as_ref()));
-        for source in sources {
-            if let SourceLocation::Path(path) = &source.location {
-                let full = options.spec_dir.join(&path.value);
-                let data = if full.is_file() {
-                    Err(placeholder_error(&full))
-                } else {
-                    Err(DataError {
-                        kind: DataErrorKind::NotFound,
-                        message: format!("no file `{}`", path.value),
-                        path: Some(full.clone()),
-                        line: None,
-                        byte_offset: None,
-                    })
-                };
-                context
-                    .entries
-                    .push((SourceKey::Path(path.value.clone()), data));
-            }
-        }
-        context
-    }
-
-    /// Forget the cached profile of `path` (the file changed on disk).
-    pub fn invalidate(&self, path: &Path) {
-        let _ = path;
-    }
-}
-
-fn placeholder_error(path: &Path) -> DataError {
-    DataError {
-        kind: DataErrorKind::Io,
-        message: "profiling is not available yet".to_string(),
-        path: Some(path.to_path_buf()),
-        line: None,
-        byte_offset: None,
     }
 }

@@ -21,6 +21,7 @@ pub(crate) struct LexError {
 }
 
 /// The tokens of `text` and the problems found inside them, both in text order.
+#[cfg(test)]
 pub(crate) struct LexedText {
     pub tokens: Vec<Token>,
     pub errors: Vec<LexError>,
@@ -28,43 +29,62 @@ pub(crate) struct LexedText {
 
 const BYTE_ORDER_MARK: char = '\u{FEFF}';
 
-/// Split `text` into tokens. Linear in the input, never panics.
+/// Split all of `text` into tokens (the parser pulls them one by one instead).
+#[cfg(test)]
 pub(crate) fn lex(text: &str) -> LexedText {
-    let mut lexer = Lexer {
-        text,
-        bytes: text.as_bytes(),
-        position: 0,
-        tokens: Vec::with_capacity(text.len() / 4 + 4),
-        errors: Vec::new(),
-    };
-    lexer.run();
+    let mut lexer = Lexer::new(text);
+    let mut tokens = Vec::new();
+    while let Some(token) = lexer.next_token() {
+        tokens.push(token);
+    }
     LexedText {
-        tokens: lexer.tokens,
-        errors: lexer.errors,
+        tokens,
+        errors: lexer.into_errors(),
     }
 }
 
-struct Lexer<'t> {
+/// A pull lexer: `next_token` hands out the tokens in order; errors collect on the side.
+/// Linear in the input, never panics.
+pub(crate) struct Lexer<'t> {
     text: &'t str,
     bytes: &'t [u8],
     position: usize,
-    tokens: Vec<Token>,
+    produced: Option<Token>,
     errors: Vec<LexError>,
 }
 
-impl Lexer<'_> {
-    fn run(&mut self) {
-        // RFC 8259 section 8.1: parsers MAY ignore a byte-order mark; we treat it as whitespace.
-        if self.text.starts_with(BYTE_ORDER_MARK) {
-            self.push_token(TokenKind::Whitespace, BYTE_ORDER_MARK.len_utf8());
-        }
-        while self.position < self.bytes.len() {
-            self.lex_one_token();
+impl<'t> Lexer<'t> {
+    pub(crate) fn new(text: &'t str) -> Lexer<'t> {
+        Lexer {
+            text,
+            bytes: text.as_bytes(),
+            position: 0,
+            produced: None,
+            errors: Vec::new(),
         }
     }
 
+    /// The next token, `None` at the end of the input.
+    pub(crate) fn next_token(&mut self) -> Option<Token> {
+        if self.position >= self.bytes.len() {
+            return None;
+        }
+        // RFC 8259 section 8.1: parsers MAY ignore a byte-order mark; we treat it as whitespace.
+        if self.position == 0 && self.text.starts_with(BYTE_ORDER_MARK) {
+            self.push_token(TokenKind::Whitespace, BYTE_ORDER_MARK.len_utf8());
+        } else {
+            self.lex_one_token();
+        }
+        self.produced.take()
+    }
+
+    /// The problems found in the tokens handed out so far, in text order.
+    pub(crate) fn into_errors(self) -> Vec<LexError> {
+        self.errors
+    }
+
     fn push_token(&mut self, kind: TokenKind, end: usize) {
-        self.tokens.push(Token {
+        self.produced = Some(Token {
             kind,
             range: TextRange::new(self.position, end),
         });
@@ -222,8 +242,8 @@ impl Lexer<'_> {
         let end = if self.bytes.get(start + 1) == Some(&b'/') {
             self.skip_while(start + 2, |b| b != b'\n' && b != b'\r')
         } else {
-            match memchr::memmem::find(&self.bytes[start + 2..], b"*/") {
-                Some(found) => start + 2 + found + 2,
+            match find_block_comment_end(self.bytes, start + 2) {
+                Some(end) => end,
                 None => {
                     self.error(
                         TextRange::new(start, self.bytes.len()),
@@ -285,6 +305,19 @@ impl Lexer<'_> {
         let end = end.max(start + self.char_at(start).len_utf8());
         self.push_token(TokenKind::Error, end);
     }
+}
+
+/// The offset just after the first `*/` at or after `from`.
+fn find_block_comment_end(bytes: &[u8], from: usize) -> Option<usize> {
+    let mut offset = from;
+    while let Some(found) = memchr::memchr(b'*', bytes.get(offset..)?) {
+        let star = offset + found;
+        if bytes.get(star + 1) == Some(&b'/') {
+            return Some(star + 2);
+        }
+        offset = star + 1;
+    }
+    None
 }
 
 fn starts_word(character: char) -> bool {
@@ -542,6 +575,18 @@ mod tests {
             ]
         );
         assert_eq!(kinds_and_texts("/"), vec![(Error, "/")]);
+    }
+
+    #[test]
+    fn block_comments_end_at_the_first_star_slash() {
+        use TokenKind::*;
+        assert_eq!(
+            kinds_and_texts("/* a * b **/1/***/"),
+            vec![(Comment, "/* a * b **/"), (Number, "1"), (Comment, "/***/")]
+        );
+        // `/*/` opens a comment that never closes
+        assert_eq!(kinds_and_texts("/*/ 1"), vec![(Comment, "/*/ 1")]);
+        assert_eq!(error_messages("/*/ 1")[0].0, "unterminated comment");
     }
 
     #[test]

@@ -5,12 +5,29 @@
 //!
 //! Trivia (whitespace, comments) goes to the innermost node open when it is met: leading trivia
 //! is pushed before a node starts, so it belongs to the parent.
+//!
+//! Recovery, in short (the unit tests below show each case with its messages and ranges):
+//! - a missing `,` between members or elements is reported on the next item, which is parsed;
+//! - a key without `:` takes the following value (`"a" 1`), unless that is a string followed
+//!   by `:`, which starts the next member (`"a" "b": 1`);
+//! - a missing value (`"a": ,`) leaves a member without value; a key that is not a
+//!   double-quoted string (`mark:`, `'mark':`, `1:`) sits in an `Error` node in the key's place,
+//!   so the member still has its value (`Member::key` is `None`);
+//! - words (`tru`, `NaN`), single-quoted strings and stray characters are `Error` nodes where a
+//!   value stands; stray `:`/`,`/closers are `Error` nodes too;
+//! - a closer of the wrong kind closes the current container when an enclosing container of
+//!   its kind is open (`{"a": [1}` closes the array, then the object), otherwise it is taken as
+//!   the current container's closer (`[1}`);
+//! - containers still open at the end are reported at their opening bracket;
+//! - content after the top-level value is one `Error` node;
+//! - containers nested deeper than [`MAX_NESTING_DEPTH`] are one `Error` node each, skipped by
+//!   counting brackets, so recursion stays bounded whatever the input.
 
 use std::borrow::Cow;
-use std::collections::HashSet;
+use std::collections::{HashSet, VecDeque};
 use std::sync::Arc;
 
-use crate::syntax::lexer::{self, shorten};
+use crate::syntax::lexer::{shorten, Lexer};
 use crate::syntax::tree::{
     unescape_string_literal, NodeKind, SyntaxErrorKind, SyntaxTree, Token, TokenKind, TreeBuilder,
 };
@@ -24,30 +41,37 @@ pub const MAX_NESTING_DEPTH: usize = 256;
 /// The input is a `&str`, so it is valid UTF-8: front ends replace invalid UTF-8 by U+FFFD
 /// (`String::from_utf8_lossy`) before parsing and report the invalid bytes themselves.
 pub fn parse(text: &str) -> SyntaxTree {
-    let lexed = lexer::lex(text);
-    let mut builder = TreeBuilder::new(Arc::from(text));
-    for error in lexed.errors {
-        builder.error(error.range, error.message);
-    }
+    let mut lexer = Lexer::new(text);
+    let current = lexer.next_token();
     let mut parser = Parser {
         text,
-        tokens: &lexed.tokens,
-        position: 0,
-        builder,
+        lexer,
+        current,
+        lookahead: VecDeque::new(),
+        builder: TreeBuilder::new(Arc::from(text)),
         last_significant_end: 0,
         depth: 0,
         open_objects: 0,
         open_arrays: 0,
     };
     parser.parse_document();
-    parser.builder.finish()
+    let Parser {
+        lexer, mut builder, ..
+    } = parser;
+    for error in lexer.into_errors() {
+        builder.error(error.range, error.message);
+    }
+    builder.finish()
 }
 
 struct Parser<'t> {
     text: &'t str,
-    tokens: &'t [Token],
-    /// Index of the next token to push.
-    position: usize,
+    /// Tokens are pulled as the parser goes, so they are stored once, in the tree.
+    lexer: Lexer<'t>,
+    /// The next token to push.
+    current: Option<Token>,
+    /// Tokens lexed after `current` by a look-ahead, not yet pushed.
+    lookahead: VecDeque<Token>,
     builder: TreeBuilder,
     /// End of the last non-trivia token pushed.
     last_significant_end: usize,
@@ -69,42 +93,56 @@ impl<'t> Parser<'t> {
 
     /// Push trivia tokens into the innermost open node.
     fn skip_trivia(&mut self) {
-        while let Some(token) = self.tokens.get(self.position) {
+        while let Some(token) = self.current {
             if !token.kind.is_trivia() {
                 break;
             }
             self.builder.token(token.kind, token.range);
-            self.position += 1;
+            self.advance();
         }
+    }
+
+    fn advance(&mut self) {
+        self.current = match self.lookahead.pop_front() {
+            Some(token) => Some(token),
+            None => self.lexer.next_token(),
+        };
     }
 
     /// The next token (call `skip_trivia` first to make it a significant one).
     fn current(&self) -> Option<Token> {
-        self.tokens.get(self.position).copied()
+        self.current
     }
 
     fn current_kind(&self) -> Option<TokenKind> {
-        self.current().map(|token| token.kind)
+        self.current.map(|token| token.kind)
     }
 
     /// Push the next token, whatever it is.
     fn bump(&mut self) {
-        if let Some(token) = self.tokens.get(self.position) {
+        if let Some(token) = self.current {
             self.builder.token(token.kind, token.range);
             if !token.kind.is_trivia() {
                 self.last_significant_end = token.range.end;
             }
-            self.position += 1;
+            self.advance();
         }
     }
 
     /// The kind of the first significant token after the current one, without consuming.
-    fn kind_after_current(&self) -> Option<TokenKind> {
-        self.tokens
-            .get(self.position + 1..)?
-            .iter()
-            .map(|token| token.kind)
-            .find(|kind| !kind.is_trivia())
+    fn kind_after_current(&mut self) -> Option<TokenKind> {
+        let mut index = 0;
+        loop {
+            if index == self.lookahead.len() {
+                let token = self.lexer.next_token()?;
+                self.lookahead.push_back(token);
+            }
+            let kind = self.lookahead[index].kind;
+            if !kind.is_trivia() {
+                return Some(kind);
+            }
+            index += 1;
+        }
     }
 
     fn token_text(&self, token: Token) -> &'t str {
@@ -299,12 +337,11 @@ impl<'t> Parser<'t> {
             TokenKind::String => {
                 self.scalar_node(NodeKind::String);
                 let key = unescape_string_literal(self.token_text(key_token));
-                let message = format!("duplicate key `{}`", shorten(&key));
-                if !seen_keys.insert(key) {
+                if let Err(key) = seen_keys.insert(key) {
                     self.builder.error_of_kind(
                         SyntaxErrorKind::DuplicateKey,
                         key_token.range,
-                        message,
+                        format!("duplicate key `{}`", shorten(&key)),
                     );
                 }
             }
@@ -359,7 +396,7 @@ impl<'t> Parser<'t> {
     }
 
     /// After a key without a colon: does a value follow (`"a" 1`), or the next member (`"a" "b": 1`)?
-    fn value_follows_without_colon(&self) -> bool {
+    fn value_follows_without_colon(&mut self) -> bool {
         match self.current_kind() {
             Some(
                 TokenKind::LBrace
@@ -494,19 +531,31 @@ struct SeenKeys<'t> {
 impl<'t> SeenKeys<'t> {
     const LIST_LIMIT: usize = 16;
 
-    /// Record `key`; false when it was seen before.
-    fn insert(&mut self, key: Cow<'t, str>) -> bool {
-        if let Some(many) = &mut self.many {
-            return many.insert(key);
+    /// Record `key`; give it back as the error when it was seen before.
+    fn insert(&mut self, key: Cow<'t, str>) -> Result<(), Cow<'t, str>> {
+        let is_new = match &mut self.many {
+            Some(many) => {
+                if many.contains(&key) {
+                    false
+                } else {
+                    many.insert(key.clone());
+                    true
+                }
+            }
+            None if self.few.contains(&key) => false,
+            None => {
+                self.few.push(key.clone());
+                if self.few.len() > Self::LIST_LIMIT {
+                    self.many = Some(self.few.drain(..).collect());
+                }
+                true
+            }
+        };
+        if is_new {
+            Ok(())
+        } else {
+            Err(key)
         }
-        if self.few.contains(&key) {
-            return false;
-        }
-        self.few.push(key);
-        if self.few.len() > Self::LIST_LIMIT {
-            self.many = Some(self.few.drain(..).collect());
-        }
-        true
     }
 }
 

@@ -417,6 +417,9 @@ pub struct TreeBuilder {
     /// Open nodes: (id, length of `pending_children` when opened).
     open: Vec<(NodeId, usize)>,
     pending_children: Vec<NodeId>,
+    /// Index of the last non-trivia token pushed: the last own token of every node that
+    /// closes while it is inside, found without scanning back over trailing trivia.
+    last_significant_token: Option<usize>,
 }
 
 impl TreeBuilder {
@@ -430,6 +433,7 @@ impl TreeBuilder {
             errors: Vec::new(),
             open: Vec::new(),
             pending_children: Vec::new(),
+            last_significant_token: None,
         };
         builder.start_node(NodeKind::Document);
         builder
@@ -467,6 +471,9 @@ impl TreeBuilder {
             self.tokens.last().map_or(0, |token| token.range.end),
             "tokens must cover the input without gaps"
         );
+        if !kind.is_trivia() {
+            self.last_significant_token = Some(self.tokens.len());
+        }
         self.tokens.push(Token { kind, range });
     }
 
@@ -488,9 +495,16 @@ impl TreeBuilder {
         let children_end = self.children.len() as u32;
         let tokens_start = self.nodes[id.0 as usize].tokens_start as usize;
         let tokens_end = self.tokens.len();
-        let own = &self.tokens[tokens_start..tokens_end];
-        let first = own.iter().find(|token| !token.kind.is_trivia());
-        let last = own.iter().rev().find(|token| !token.kind.is_trivia());
+        let last = self
+            .last_significant_token
+            .filter(|&index| index >= tokens_start)
+            .map(|index| self.tokens[index]);
+        // nodes open right before their first significant token, so this scan is short
+        let first = last.and_then(|_| {
+            self.tokens[tokens_start..tokens_end]
+                .iter()
+                .find(|token| !token.kind.is_trivia())
+        });
         let data = &mut self.nodes[id.0 as usize];
         data.children_start = children_start;
         data.children_end = children_end;

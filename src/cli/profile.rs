@@ -1,0 +1,151 @@
+//! `markwell profile FILE...`: profile data files and print the profile as a text table with
+//! histograms, or as JSON. A thin shell over `data::cache` and `data::render`.
+
+use std::cell::Cell;
+use std::io::{IsTerminal, Write};
+use std::path::PathBuf;
+
+use clap::{Args, ValueEnum};
+
+use super::{EXIT_CLEAN, EXIT_TROUBLE};
+use crate::data::render::{render_profile_json, render_profile_text};
+use crate::data::resolve::resolve_source_path;
+use crate::data::{ProfileCache, ReadOptions, ResolveOptions};
+use crate::spec::model::DataFormat;
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum ProfileOutput {
+    /// A readable table and histograms.
+    Text,
+    /// Machine-readable JSON.
+    Json,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum DataFormatArgument {
+    Csv,
+    Tsv,
+    Json,
+    Ndjson,
+}
+
+impl DataFormatArgument {
+    fn format(self) -> DataFormat {
+        match self {
+            DataFormatArgument::Csv => DataFormat::Csv,
+            DataFormatArgument::Tsv => DataFormat::Tsv,
+            DataFormatArgument::Json => DataFormat::Json,
+            DataFormatArgument::Ndjson => DataFormat::Ndjson,
+        }
+    }
+}
+
+#[derive(Args, Debug)]
+pub struct ProfileArgs {
+    /// Data files (CSV, TSV, JSON array of objects, NDJSON).
+    #[arg(required = true)]
+    pub files: Vec<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value = "text")]
+    pub format: ProfileOutput,
+    /// Read only the first few MiB (fast, marked as a sample).
+    #[arg(long)]
+    pub sample: bool,
+    /// How to read the files (default: from the extension and the first bytes).
+    #[arg(long = "data-format", value_enum)]
+    pub data_format: Option<DataFormatArgument>,
+    /// Cell delimiter for delimited text (default: inferred).
+    #[arg(long)]
+    pub delimiter: Option<char>,
+}
+
+/// Files at least this big show progress on a terminal.
+const PROGRESS_MINIMUM_BYTES: u64 = 64 << 20;
+
+pub fn run(args: &ProfileArgs) -> u8 {
+    let cache = ProfileCache::new();
+    let read = ReadOptions {
+        format: args.data_format.map(DataFormatArgument::format),
+        delimiter: args.delimiter,
+    };
+    let options = ResolveOptions {
+        spec_dir: std::env::current_dir().unwrap_or_default(),
+        workspace_root: None,
+        allow_outside_workspace: true,
+    };
+    let mut trouble = false;
+    let mut json_profiles = Vec::new();
+    let mut printed_any = false;
+    for file in &args.files {
+        let shown = file.display().to_string();
+        let path = match resolve_source_path(&file.to_string_lossy(), &options) {
+            Ok(path) => path,
+            Err(error) => {
+                eprintln!("markwell: {shown}: {error}");
+                trouble = true;
+                continue;
+            }
+        };
+        let size = std::fs::metadata(&path).map_or(0, |metadata| metadata.len());
+        let show_progress = std::io::stderr().is_terminal() && size >= PROGRESS_MINIMUM_BYTES;
+        let last_percent = Cell::new(u32::MAX);
+        let progress = |share: f64| {
+            if show_progress {
+                let percent = (share * 100.0).floor() as u32;
+                if percent != last_percent.get() {
+                    last_percent.set(percent);
+                    eprint!("\rprofiling {shown}: {percent:>3}%");
+                }
+            }
+            true
+        };
+        let result = if args.sample {
+            cache.sample_profile(&path, &read)
+        } else {
+            cache.full_profile(&path, &read, &progress)
+        };
+        if show_progress {
+            eprintln!();
+        }
+        match result {
+            Ok(profile) => match args.format {
+                ProfileOutput::Text => {
+                    let separator = if printed_any { "\n" } else { "" };
+                    printed_any = true;
+                    // a closed pipe (`markwell profile x.csv | head`) is not an error
+                    let _ = write!(
+                        std::io::stdout().lock(),
+                        "{separator}{}",
+                        render_profile_text(&profile)
+                    );
+                }
+                ProfileOutput::Json => json_profiles.push(render_profile_json(&profile)),
+            },
+            Err(error) => {
+                eprintln!("markwell: {shown}: {error}");
+                trouble = true;
+            }
+        }
+    }
+    if args.format == ProfileOutput::Json {
+        let value = if args.files.len() == 1 {
+            json_profiles.pop().unwrap_or(serde_json::Value::Null)
+        } else {
+            serde_json::Value::Array(json_profiles)
+        };
+        match serde_json::to_string_pretty(&value) {
+            Ok(text) => {
+                let _ = writeln!(std::io::stdout().lock(), "{text}");
+            }
+            Err(error) => {
+                eprintln!("markwell: could not write JSON: {error}");
+                trouble = true;
+            }
+        }
+    }
+    if trouble {
+        EXIT_TROUBLE
+    } else {
+        EXIT_CLEAN
+    }
+}

@@ -1,0 +1,604 @@
+//! [`ProfileCache`]: loads profiles of data files and inline rows, and keeps them keyed by the
+//! canonical path (plus the read options), checked against the file's size and modification
+//! time. Two flavours per file: a sampled profile from a bounded head (fast, for the editor's
+//! first pass) and a full streaming profile (constant memory, both cores, cancellable).
+//!
+//! Shared across threads: the map sits behind a `Mutex` that is never held while a file is read.
+
+use std::collections::HashMap;
+use std::fs::File;
+use std::io::{BufReader, Read, Seek, SeekFrom};
+use std::path::{Path, PathBuf};
+use std::sync::atomic::Ordering;
+use std::sync::{Arc, Mutex, MutexGuard};
+use std::time::{Duration, SystemTime};
+
+use super::csv_reader::{read_header, scan_bytes, scan_file, ScanControl};
+use super::json_reader::{add_inline_rows, find_key_range, scan_json_array, scan_ndjson};
+use super::profile::TableAccumulator;
+use super::resolve::resolve_source_path;
+use super::{
+    io_error, DataContext, DataError, DataErrorKind, DataProfile, ReadOptions, ResolveOptions,
+    SourceData, SourceKey,
+};
+use crate::spec::model::{ChartSpec, DataFormat, InlineRow, Source, SourceLocation};
+
+/// Bytes read for a sampled profile (and the most read at once for a small file).
+pub const SAMPLE_BYTES: usize = 4 << 20;
+/// A NUL byte within this many leading bytes marks the file as binary.
+const BINARY_PROBE_BYTES: usize = 64 * 1024;
+const BYTE_ORDER_MARK: [u8; 3] = [0xEF, 0xBB, 0xBF];
+
+#[derive(Clone, Debug, PartialEq, Eq, Hash)]
+struct CacheKey {
+    path: PathBuf,
+    read: ReadOptions,
+}
+
+#[derive(Clone, Debug)]
+struct CacheEntry {
+    size: u64,
+    modified: Option<SystemTime>,
+    full: Option<Arc<DataProfile>>,
+    sample: Option<Arc<DataProfile>>,
+}
+
+/// Loads profiles, caching them by path plus size and modification time.
+#[derive(Debug, Default)]
+pub struct ProfileCache {
+    entries: Mutex<HashMap<CacheKey, CacheEntry>>,
+}
+
+fn simple_error(kind: DataErrorKind, message: String, path: &Path) -> DataError {
+    DataError {
+        kind,
+        message,
+        path: Some(path.to_path_buf()),
+        line: None,
+        byte_offset: None,
+    }
+}
+
+/// Size and modification time, refusing folders.
+fn file_stamp(path: &Path) -> Result<(u64, Option<SystemTime>), DataError> {
+    let metadata = std::fs::metadata(path).map_err(|error| io_error(Some(path), &error))?;
+    if metadata.is_dir() {
+        return Err(simple_error(
+            DataErrorKind::IsDirectory,
+            format!("`{}` is a folder, not a data file", path.display()),
+            path,
+        ));
+    }
+    Ok((metadata.len(), metadata.modified().ok()))
+}
+
+fn worker_threads() -> usize {
+    std::thread::available_parallelism().map_or(1, |count| count.get().min(8))
+}
+
+/// The delimiter as one byte.
+fn delimiter_byte(delimiter: char, path: &Path) -> Result<u8, DataError> {
+    if delimiter.is_ascii() && delimiter != '"' && delimiter != '\n' && delimiter != '\r' {
+        Ok(delimiter as u8)
+    } else {
+        Err(simple_error(
+            DataErrorKind::Malformed,
+            format!("the delimiter `{delimiter}` cannot be used: it must be one ASCII character other than a quote or a line break"),
+            path,
+        ))
+    }
+}
+
+fn sniff_delimiter(head: &[u8]) -> u8 {
+    let first_line = head.split(|&byte| byte == b'\n').next().unwrap_or(&[]);
+    let mut best = (0usize, b',');
+    for candidate in [b',', b'\t', b';', b'|'] {
+        let count = first_line.iter().filter(|&&byte| byte == candidate).count();
+        if count > best.0 {
+            best = (count, candidate);
+        }
+    }
+    best.1
+}
+
+fn first_non_space(head: &[u8]) -> Option<u8> {
+    head.iter()
+        .copied()
+        .find(|byte| !byte.is_ascii_whitespace())
+}
+
+/// The format and delimiter of a file: as declared, else from the extension, else from the
+/// first bytes (`[` → JSON, `{` → NDJSON, else delimited text with the most frequent of
+/// `,` `TAB` `;` `|` in the first line).
+pub fn detect_format(
+    path: &Path,
+    head: &[u8],
+    read: &ReadOptions,
+) -> Result<(DataFormat, u8), DataError> {
+    let head = head.strip_prefix(&BYTE_ORDER_MARK).unwrap_or(head);
+    let declared_delimiter = match read.delimiter {
+        Some(delimiter) => Some(delimiter_byte(delimiter, path)?),
+        None => None,
+    };
+    let extension = path
+        .extension()
+        .and_then(|extension| extension.to_str())
+        .map(str::to_ascii_lowercase);
+    let format = match (read.format, declared_delimiter) {
+        (Some(format), _) => format,
+        (None, Some(b'\t')) => DataFormat::Tsv,
+        (None, Some(_)) => DataFormat::Csv,
+        (None, None) => match extension.as_deref() {
+            Some("csv") => DataFormat::Csv,
+            Some("tsv") | Some("tab") => DataFormat::Tsv,
+            Some("ndjson") | Some("jsonl") => DataFormat::Ndjson,
+            Some("json") => match first_non_space(head) {
+                Some(b'{') => DataFormat::Ndjson,
+                _ => DataFormat::Json,
+            },
+            _ => match first_non_space(head) {
+                Some(b'[') => DataFormat::Json,
+                Some(b'{') => DataFormat::Ndjson,
+                _ => {
+                    if sniff_delimiter(head) == b'\t' {
+                        DataFormat::Tsv
+                    } else {
+                        DataFormat::Csv
+                    }
+                }
+            },
+        },
+    };
+    let delimiter = match (declared_delimiter, format) {
+        (Some(delimiter), _) => delimiter,
+        (None, DataFormat::Tsv) => b'\t',
+        (None, DataFormat::Csv) => {
+            let sniffed = sniff_delimiter(head);
+            if sniffed == b'\t' && extension.as_deref() == Some("csv") {
+                b','
+            } else {
+                sniffed
+            }
+        }
+        (None, _) => b',',
+    };
+    Ok((format, delimiter))
+}
+
+fn read_head(file: &mut File, limit: usize, path: &Path) -> Result<Vec<u8>, DataError> {
+    let mut head = Vec::new();
+    file.by_ref()
+        .take(limit as u64)
+        .read_to_end(&mut head)
+        .map_err(|error| io_error(Some(path), &error))?;
+    Ok(head)
+}
+
+fn check_is_text(head: &[u8], path: &Path) -> Result<(), DataError> {
+    let probe = &head[..head.len().min(BINARY_PROBE_BYTES)];
+    if let Some(position) = memchr::memchr(0, probe) {
+        let line = probe[..position]
+            .iter()
+            .filter(|&&byte| byte == b'\n')
+            .count();
+        return Err(DataError {
+            kind: DataErrorKind::Binary,
+            message: format!(
+                "`{}` holds a NUL byte at offset {position}, so it is not text (a binary file, or text in UTF-16)",
+                path.display()
+            ),
+            path: Some(path.to_path_buf()),
+            line: Some(line),
+            byte_offset: Some(position as u64),
+        });
+    }
+    Ok(())
+}
+
+/// Cut a sampled head after its last line break (so no row is cut in half).
+fn cut_at_last_line(head: &[u8]) -> &[u8] {
+    match memchr::memrchr(b'\n', head) {
+        Some(position) => &head[..=position],
+        None => head,
+    }
+}
+
+/// A counting reader: reports the bytes it has read for progress.
+struct ProgressRead<'c, R> {
+    inner: R,
+    control: &'c ScanControl,
+}
+
+impl<R: Read> Read for ProgressRead<'_, R> {
+    fn read(&mut self, buffer: &mut [u8]) -> std::io::Result<usize> {
+        let read = self.inner.read(buffer)?;
+        self.control
+            .bytes_done
+            .fetch_add(read as u64, Ordering::Relaxed);
+        Ok(read)
+    }
+}
+
+/// How much of the file to profile.
+#[derive(Clone, Copy)]
+enum ScanDepth<'p> {
+    Sample,
+    Full(&'p dyn Fn(f64) -> bool),
+}
+
+/// Profile one file. `is_sample` is set when only a head was read.
+fn profile_file(
+    path: &Path,
+    read: &ReadOptions,
+    depth: ScanDepth<'_>,
+) -> Result<DataProfile, DataError> {
+    let (size, modified) = file_stamp(path)?;
+    let mut file = File::open(path).map_err(|error| io_error(Some(path), &error))?;
+    let head = read_head(&mut file, SAMPLE_BYTES, path)?;
+    let complete = head.len() as u64 >= size;
+    let after_mark = head.strip_prefix(&BYTE_ORDER_MARK).unwrap_or(&head);
+    if complete && after_mark.iter().all(|byte| byte.is_ascii_whitespace()) {
+        return Err(simple_error(
+            DataErrorKind::Empty,
+            format!("`{}` is empty", path.display()),
+            path,
+        ));
+    }
+    check_is_text(&head, path)?;
+    let (format, delimiter) = detect_format(path, &head, read)?;
+    let mark_length = head.len() - after_mark.len();
+    let control = ScanControl::default();
+    let in_memory = complete || matches!(depth, ScanDepth::Sample);
+    let truncated = !complete;
+
+    let mut header_ranges: Vec<Option<(u64, u64)>> = Vec::new();
+    let table: TableAccumulator = match (format, in_memory) {
+        (DataFormat::Csv | DataFormat::Tsv, true) => {
+            let bytes = if truncated {
+                cut_at_last_line(&head)
+            } else {
+                &head
+            };
+            let (header, table) = scan_bytes(bytes, delimiter, Some(path))?;
+            header_ranges = header.ranges;
+            table
+        }
+        (DataFormat::Csv | DataFormat::Tsv, false) => {
+            let mut header_source =
+                File::open(path).map_err(|error| io_error(Some(path), &error))?;
+            header_source
+                .seek(SeekFrom::Start(mark_length as u64))
+                .map_err(|error| io_error(Some(path), &error))?;
+            let header = read_header(header_source, mark_length as u64, delimiter, Some(path))?;
+            header_ranges = header.ranges.clone();
+            let progress = match depth {
+                ScanDepth::Full(progress) => progress,
+                ScanDepth::Sample => &|_| true,
+            };
+            let wait = |finished: &dyn Fn() -> bool| {
+                wait_with_progress(finished, &control, size, progress)
+            };
+            scan_file(
+                path,
+                size,
+                delimiter,
+                &header,
+                worker_threads(),
+                &control,
+                &wait,
+            )?
+        }
+        (DataFormat::Json, true) => scan_json_array(after_mark, truncated, &control, Some(path))?,
+        (DataFormat::Ndjson, true) => {
+            let bytes = if truncated {
+                cut_at_last_line(after_mark)
+            } else {
+                after_mark
+            };
+            scan_ndjson(bytes, truncated, &control, Some(path))?
+        }
+        (DataFormat::Json | DataFormat::Ndjson, false) => {
+            let progress = match depth {
+                ScanDepth::Full(progress) => progress,
+                ScanDepth::Sample => &|_| true,
+            };
+            scan_json_file(path, format, mark_length as u64, size, &control, progress)?
+        }
+    };
+    if matches!(format, DataFormat::Json | DataFormat::Ndjson) {
+        header_ranges = table
+            .names
+            .iter()
+            .map(|name| find_key_range(&head, name))
+            .collect();
+    }
+
+    let (size_after, modified_after) = file_stamp(path)?;
+    if size_after != size || modified_after != modified {
+        return Err(simple_error(
+            DataErrorKind::ChangedDuringScan,
+            format!(
+                "`{}` changed while it was being read ({size} bytes before, {size_after} after); read it again",
+                path.display()
+            ),
+            path,
+        ));
+    }
+    if table.rows == 0 {
+        return Err(if table.names.is_empty() {
+            simple_error(
+                DataErrorKind::Empty,
+                format!("`{}` holds no rows", path.display()),
+                path,
+            )
+        } else {
+            DataError {
+                kind: DataErrorKind::HeaderOnly,
+                message: format!(
+                    "`{}` has a header ({}) but no rows",
+                    path.display(),
+                    table
+                        .names
+                        .iter()
+                        .map(|name| format!("`{name}`"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+                path: Some(path.to_path_buf()),
+                line: Some(0),
+                byte_offset: None,
+            }
+        });
+    }
+    Ok(table.finish(
+        Some(path.to_path_buf()),
+        format,
+        truncated && in_memory,
+        &header_ranges,
+    ))
+}
+
+/// Poll until `finished`, reporting progress; a `false` from `progress` cancels the scan.
+fn wait_with_progress(
+    finished: &dyn Fn() -> bool,
+    control: &ScanControl,
+    size: u64,
+    progress: &dyn Fn(f64) -> bool,
+) {
+    let mut pause = Duration::from_millis(1);
+    while !finished() {
+        let done = control.bytes_done.load(Ordering::Relaxed) as f64 / size.max(1) as f64;
+        if !progress(done.min(1.0)) {
+            control.cancelled.store(true, Ordering::Relaxed);
+        }
+        std::thread::sleep(pause);
+        pause = (pause * 2).min(Duration::from_millis(25));
+    }
+    progress(1.0);
+}
+
+fn scan_json_file(
+    path: &Path,
+    format: DataFormat,
+    start: u64,
+    size: u64,
+    control: &ScanControl,
+    progress: &dyn Fn(f64) -> bool,
+) -> Result<TableAccumulator, DataError> {
+    let mut file = File::open(path).map_err(|error| io_error(Some(path), &error))?;
+    file.seek(SeekFrom::Start(start))
+        .map_err(|error| io_error(Some(path), &error))?;
+    std::thread::scope(|scope| {
+        let worker = scope.spawn(move || {
+            let source = BufReader::with_capacity(
+                1 << 20,
+                ProgressRead {
+                    inner: file,
+                    control,
+                },
+            );
+            if format == DataFormat::Json {
+                scan_json_array(source, false, control, Some(path))
+            } else {
+                scan_ndjson(source, false, control, Some(path))
+            }
+        });
+        wait_with_progress(&|| worker.is_finished(), control, size, progress);
+        worker.join().unwrap_or_else(|_| {
+            Err(simple_error(
+                DataErrorKind::Io,
+                "the scanning thread failed".to_string(),
+                path,
+            ))
+        })
+    })
+}
+
+/// Profile inline `rows` (no IO).
+pub fn profile_inline_rows(rows: &[InlineRow]) -> Result<DataProfile, DataError> {
+    let mut table = TableAccumulator::default();
+    add_inline_rows(&mut table, rows);
+    if table.rows == 0 {
+        return Err(DataError {
+            kind: DataErrorKind::Empty,
+            message: "the inline `rows` array is empty".to_string(),
+            path: None,
+            line: None,
+            byte_offset: None,
+        });
+    }
+    Ok(table.finish(None, DataFormat::Json, false, &[]))
+}
+
+impl ProfileCache {
+    pub fn new() -> ProfileCache {
+        ProfileCache::default()
+    }
+
+    fn lock(&self) -> MutexGuard<'_, HashMap<CacheKey, CacheEntry>> {
+        // a panic elsewhere while holding the lock leaves a usable map: recover it
+        self.entries
+            .lock()
+            .unwrap_or_else(|poisoned| poisoned.into_inner())
+    }
+
+    fn key_for(path: &Path, read: &ReadOptions) -> CacheKey {
+        CacheKey {
+            path: std::fs::canonicalize(path).unwrap_or_else(|_| path.to_path_buf()),
+            read: *read,
+        }
+    }
+
+    /// The cached profile of `path` if the file still has the size and mtime it had.
+    fn cached(&self, key: &CacheKey, want_full: bool) -> Option<Arc<DataProfile>> {
+        let (size, modified) = file_stamp(&key.path).ok()?;
+        let entries = self.lock();
+        let entry = entries.get(key)?;
+        if entry.size != size || entry.modified != modified {
+            return None;
+        }
+        if want_full {
+            entry.full.clone()
+        } else {
+            entry.full.clone().or_else(|| entry.sample.clone())
+        }
+    }
+
+    fn store(&self, key: CacheKey, profile: &Arc<DataProfile>) {
+        let Ok((size, modified)) = file_stamp(&key.path) else {
+            return;
+        };
+        let mut entries = self.lock();
+        let entry = entries.entry(key).or_insert_with(|| CacheEntry {
+            size,
+            modified,
+            full: None,
+            sample: None,
+        });
+        if entry.size != size || entry.modified != modified {
+            *entry = CacheEntry {
+                size,
+                modified,
+                full: None,
+                sample: None,
+            };
+        }
+        if profile.is_sample {
+            entry.sample = Some(profile.clone());
+        } else {
+            entry.full = Some(profile.clone());
+        }
+    }
+
+    /// A first profile from a bounded head of the file (`is_sample` when the file is longer);
+    /// a cached full profile when there is one.
+    pub fn sample_profile(&self, path: &Path, read: &ReadOptions) -> SourceData {
+        let key = ProfileCache::key_for(path, read);
+        if let Some(profile) = self.cached(&key, false) {
+            return Ok(profile);
+        }
+        let profile = Arc::new(profile_file(&key.path, read, ScanDepth::Sample)?);
+        self.store(key, &profile);
+        Ok(profile)
+    }
+
+    /// The full profile (streaming, constant memory, all cores). `progress` receives the share
+    /// done (0..=1) from the calling thread and returns `false` to cancel.
+    pub fn full_profile(
+        &self,
+        path: &Path,
+        read: &ReadOptions,
+        progress: &dyn Fn(f64) -> bool,
+    ) -> SourceData {
+        let key = ProfileCache::key_for(path, read);
+        if let Some(profile) = self.cached(&key, true) {
+            return Ok(profile);
+        }
+        let profile = Arc::new(profile_file(&key.path, read, ScanDepth::Full(progress))?);
+        self.store(key, &profile);
+        Ok(profile)
+    }
+
+    /// The full profile if it is cached and current (for the editor, after a background scan).
+    pub fn cached_full_profile(&self, path: &Path, read: &ReadOptions) -> Option<Arc<DataProfile>> {
+        self.cached(&ProfileCache::key_for(path, read), true)
+    }
+
+    fn load(&self, spec: &ChartSpec, options: &ResolveOptions, sampled: bool) -> DataContext {
+        let mut context = DataContext::default();
+        let sources = spec
+            .source
+            .iter()
+            .chain(spec.layers.iter().filter_map(|layer| layer.source.as_ref()));
+        for source in sources {
+            let Some(key) = SourceKey::for_source(source) else {
+                continue;
+            };
+            if context.entries.iter().any(|(existing, _)| *existing == key) {
+                continue;
+            }
+            let data = self.load_source(source, options, sampled);
+            context.entries.push((key, data));
+        }
+        context
+    }
+
+    /// Resolve and profile one source.
+    pub fn load_source(
+        &self,
+        source: &Source,
+        options: &ResolveOptions,
+        sampled: bool,
+    ) -> SourceData {
+        match &source.location {
+            SourceLocation::Path(written) => {
+                let path = resolve_source_path(&written.value, options)?;
+                let read = ReadOptions::for_source(source);
+                if sampled {
+                    self.sample_profile(&path, &read)
+                } else {
+                    self.full_profile(&path, &read, &|_| true)
+                }
+            }
+            SourceLocation::Rows { rows, .. } => profile_inline_rows(rows).map(Arc::new),
+            SourceLocation::Missing => Err(DataError {
+                kind: DataErrorKind::BadPath,
+                message: "the source has neither `path` nor `rows`".to_string(),
+                path: None,
+                line: None,
+                byte_offset: None,
+            }),
+        }
+    }
+
+    /// Resolve and profile every source of `spec` with full profiles (for the CLI).
+    pub fn load_for_spec(&self, spec: &ChartSpec, options: &ResolveOptions) -> DataContext {
+        self.load(spec, options, false)
+    }
+
+    /// Like [`ProfileCache::load_for_spec`], but a file without a cached full profile gets a
+    /// sampled one (for the editor, which then runs full profiles in the background).
+    pub fn load_for_spec_sampled(&self, spec: &ChartSpec, options: &ResolveOptions) -> DataContext {
+        self.load(spec, options, true)
+    }
+
+    /// Forget the cached profiles of `path` (the file changed on disk).
+    pub fn invalidate(&self, path: &Path) {
+        let canonical = std::fs::canonicalize(path).ok();
+        self.lock().retain(|key, _| {
+            key.path != path
+                && canonical
+                    .as_ref()
+                    .is_none_or(|canonical| key.path != *canonical)
+        });
+    }
+
+    /// How many files have cached profiles.
+    pub fn len(&self) -> usize {
+        self.lock().len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+}

@@ -1,0 +1,765 @@
+//! Streaming per-column accumulators and their merge: every reader (CSV, JSON, NDJSON, inline
+//! rows) pushes cells into a [`TableAccumulator`]; threads that scanned parts of a file merge
+//! theirs; [`TableAccumulator::finish`] turns the result into a [`DataProfile`].
+//!
+//! Memory is bounded whatever the file size: distinct values are kept exactly (with counts) up
+//! to [`EXACT_DISTINCT_CAP`] values or [`EXACT_DISTINCT_BYTES_CAP`] bytes of text per column;
+//! past that the column switches to a HyperLogLog estimate, keeps only the
+//! [`KEPT_AFTER_SWITCH`] most frequent values so far, and only those keep counting (so top
+//! values of such a column are the most frequent among those seen before the switch).
+
+use std::collections::HashMap;
+use std::path::PathBuf;
+
+use hashbrown::HashTable;
+
+use super::infer::{
+    is_integer_text, is_missing_token, ordinal_vocabulary_of, parse_iso_time, parse_number,
+    trim_cell, zero_meaning_hint, NumericShape, TimeKey, MAJORITY_SHARE,
+};
+use super::sketch::{
+    equal_width_bin, hash_bytes, hash_number_bits, CompensatedSum, DoublingHistogram, HyperLogLog,
+};
+use super::{ColumnProfile, DataProblem, DataProfile, DistinctCount, NumericSummary};
+use crate::spec::model::{AttributeKind, DataFormat, ZeroMeaning};
+
+/// Distinct values kept exactly per column before switching to an estimate.
+pub const EXACT_DISTINCT_CAP: usize = 100_000;
+/// Bytes of distinct text kept per column before switching to an estimate.
+pub const EXACT_DISTINCT_BYTES_CAP: usize = 4 << 20;
+/// Values that keep their counts after the switch to an estimate (for the top values).
+pub const KEPT_AFTER_SWITCH: usize = 1024;
+/// `all_values` is filled when a column has at most this many distinct values.
+pub const ALL_VALUES_CAP: usize = 256;
+pub const TOP_VALUE_COUNT: usize = 10;
+pub const HISTOGRAM_BIN_COUNT: usize = 10;
+const EXAMPLE_COUNT: usize = 5;
+/// Problems kept per file; the rest are counted in one closing line.
+pub const PROBLEM_CAP: usize = 20;
+
+#[derive(Clone, Copy, Debug)]
+struct NumberEntry {
+    bits: u64,
+    count: u64,
+}
+
+#[derive(Clone, Copy, Debug)]
+struct TextEntry {
+    hash: u64,
+    offset: u32,
+    length: u32,
+    count: u64,
+}
+
+/// Exact distinct values with counts, then a HyperLogLog once there are too many.
+#[derive(Clone, Debug, Default)]
+struct DistinctTracker {
+    numbers: HashTable<NumberEntry>,
+    texts: HashTable<TextEntry>,
+    text_arena: Vec<u8>,
+    estimate: Option<Box<HyperLogLog>>,
+}
+
+/// Equal numbers share one key: `-0.0` is `0.0`.
+fn canonical_number_bits(value: f64) -> u64 {
+    if value == 0.0 {
+        0
+    } else {
+        value.to_bits()
+    }
+}
+
+impl DistinctTracker {
+    fn exact_len(&self) -> usize {
+        self.numbers.len() + self.texts.len()
+    }
+
+    fn over_cap(&self) -> bool {
+        self.exact_len() > EXACT_DISTINCT_CAP || self.text_arena.len() > EXACT_DISTINCT_BYTES_CAP
+    }
+
+    fn switch_to_estimate(&mut self) {
+        if self.estimate.is_some() {
+            return;
+        }
+        let mut sketch = Box::new(HyperLogLog::new());
+        for entry in self.numbers.iter() {
+            sketch.add_hash(hash_number_bits(entry.bits));
+        }
+        for entry in self.texts.iter() {
+            sketch.add_hash(entry.hash);
+        }
+        self.estimate = Some(sketch);
+        self.keep_only_most_frequent();
+    }
+
+    /// After the switch to an estimate, keep counting only the most frequent values seen so
+    /// far: a small table stays in the processor's cache and bounds memory.
+    fn keep_only_most_frequent(&mut self) {
+        let mut numbers: Vec<NumberEntry> = self.numbers.iter().copied().collect();
+        numbers.sort_unstable_by_key(|entry| std::cmp::Reverse(entry.count));
+        numbers.truncate(KEPT_AFTER_SWITCH);
+        let mut number_table = HashTable::with_capacity(numbers.len());
+        for entry in numbers {
+            number_table.insert_unique(hash_number_bits(entry.bits), entry, |entry| {
+                hash_number_bits(entry.bits)
+            });
+        }
+        self.numbers = number_table;
+
+        let mut texts: Vec<TextEntry> = self.texts.iter().copied().collect();
+        texts.sort_unstable_by_key(|entry| std::cmp::Reverse(entry.count));
+        texts.truncate(KEPT_AFTER_SWITCH);
+        let mut arena = Vec::new();
+        let mut text_table = HashTable::with_capacity(texts.len());
+        for entry in texts {
+            let text = DistinctTracker::text_of(&self.text_arena, &entry);
+            let offset = arena.len() as u32;
+            arena.extend_from_slice(text);
+            text_table.insert_unique(entry.hash, TextEntry { offset, ..entry }, |entry| {
+                entry.hash
+            });
+        }
+        self.texts = text_table;
+        self.text_arena = arena;
+    }
+
+    fn add_number_count(&mut self, value: f64, count: u64) {
+        let bits = canonical_number_bits(value);
+        let hash = hash_number_bits(bits);
+        if let Some(entry) = self.numbers.find_mut(hash, |entry| entry.bits == bits) {
+            entry.count += count;
+            return;
+        }
+        match &mut self.estimate {
+            Some(sketch) => sketch.add_hash(hash),
+            None => {
+                self.numbers
+                    .insert_unique(hash, NumberEntry { bits, count }, |entry| {
+                        hash_number_bits(entry.bits)
+                    });
+                if self.over_cap() {
+                    self.switch_to_estimate();
+                }
+            }
+        }
+    }
+
+    fn text_of<'a>(arena: &'a [u8], entry: &TextEntry) -> &'a [u8] {
+        let start = entry.offset as usize;
+        arena
+            .get(start..start + entry.length as usize)
+            .unwrap_or(&[])
+    }
+
+    fn add_text_count(&mut self, text: &[u8], hash: u64, count: u64) {
+        let arena = &self.text_arena;
+        if let Some(entry) = self
+            .texts
+            .find_mut(hash, |entry| DistinctTracker::text_of(arena, entry) == text)
+        {
+            entry.count += count;
+            return;
+        }
+        match &mut self.estimate {
+            Some(sketch) => sketch.add_hash(hash),
+            None => {
+                let offset = self.text_arena.len() as u32;
+                self.text_arena.extend_from_slice(text);
+                self.texts.insert_unique(
+                    hash,
+                    TextEntry {
+                        hash,
+                        offset,
+                        length: text.len() as u32,
+                        count,
+                    },
+                    |entry| entry.hash,
+                );
+                if self.over_cap() {
+                    self.switch_to_estimate();
+                }
+            }
+        }
+    }
+
+    fn merge(&mut self, other: &DistinctTracker) {
+        for entry in other.numbers.iter() {
+            self.add_number_count(f64::from_bits(entry.bits), entry.count);
+        }
+        for entry in other.texts.iter() {
+            let text = DistinctTracker::text_of(&other.text_arena, entry);
+            self.add_text_count(text, entry.hash, entry.count);
+        }
+        if let Some(other_sketch) = &other.estimate {
+            self.switch_to_estimate();
+            if let Some(sketch) = &mut self.estimate {
+                sketch.merge(other_sketch);
+            }
+        }
+    }
+
+    fn distinct_count(&self) -> DistinctCount {
+        match &self.estimate {
+            None => DistinctCount {
+                value: self.exact_len() as u64,
+                exact: true,
+                relative_error: 0.0,
+            },
+            Some(sketch) => DistinctCount {
+                value: sketch.estimate().round() as u64,
+                exact: false,
+                relative_error: HyperLogLog::relative_standard_error(),
+            },
+        }
+    }
+
+    /// Every kept value as a reference with its count.
+    fn kept_references(&self) -> Vec<(KeptValue<'_>, u64)> {
+        let mut values = Vec::with_capacity(self.exact_len());
+        for entry in self.numbers.iter() {
+            values.push((KeptValue::Number(f64::from_bits(entry.bits)), entry.count));
+        }
+        for entry in self.texts.iter() {
+            let text = DistinctTracker::text_of(&self.text_arena, entry);
+            values.push((KeptValue::Text(text), entry.count));
+        }
+        values
+    }
+
+    /// The `limit` most frequent kept values, most frequent first, ties in value order.
+    fn most_frequent(&self, limit: usize) -> Vec<(String, u64)> {
+        let mut values = self.kept_references();
+        let by_frequency = |a: &(KeptValue<'_>, u64), b: &(KeptValue<'_>, u64)| {
+            b.1.cmp(&a.1).then_with(|| a.0.cmp_value(&b.0))
+        };
+        if values.len() > limit && limit > 0 {
+            values.select_nth_unstable_by(limit - 1, by_frequency);
+            values.truncate(limit);
+        }
+        values.sort_unstable_by(by_frequency);
+        values
+            .iter()
+            .take(limit)
+            .map(|(value, count)| (value.display(), *count))
+            .collect()
+    }
+
+    /// Every value with its count in value order, when exact and at most `cap` values.
+    fn every_value(&self, cap: usize) -> Option<Vec<(String, u64)>> {
+        if self.estimate.is_some() || self.exact_len() > cap {
+            return None;
+        }
+        let mut values = self.kept_references();
+        values.sort_unstable_by(|a, b| a.0.cmp_value(&b.0));
+        Some(
+            values
+                .iter()
+                .map(|(value, count)| (value.display(), *count))
+                .collect(),
+        )
+    }
+}
+
+/// A kept distinct value, borrowed from the tracker.
+#[derive(Clone, Copy, Debug)]
+enum KeptValue<'a> {
+    Number(f64),
+    Text(&'a [u8]),
+}
+
+impl KeptValue<'_> {
+    /// Numbers first in numeric order, then text in byte order.
+    fn cmp_value(&self, other: &KeptValue<'_>) -> std::cmp::Ordering {
+        match (self, other) {
+            (KeptValue::Number(x), KeptValue::Number(y)) => x.total_cmp(y),
+            (KeptValue::Number(_), KeptValue::Text(_)) => std::cmp::Ordering::Less,
+            (KeptValue::Text(_), KeptValue::Number(_)) => std::cmp::Ordering::Greater,
+            (KeptValue::Text(a), KeptValue::Text(b)) => a.cmp(b),
+        }
+    }
+
+    fn display(&self) -> String {
+        match self {
+            KeptValue::Number(number) => format_number(*number),
+            KeptValue::Text(text) => String::from_utf8_lossy(text).into_owned(),
+        }
+    }
+}
+
+/// A number as its shortest round-trip text (`42`, `39.1`).
+pub fn format_number(value: f64) -> String {
+    format!("{value}")
+}
+
+/// Everything learnt about one column so far.
+#[derive(Clone, Debug, Default)]
+pub struct ColumnAccumulator {
+    /// Cells seen (missing or not); rows without the cell count as missing at the end.
+    cells: u64,
+    missing: u64,
+    numeric_count: u64,
+    numeric_sum: CompensatedSum,
+    numeric_min: f64,
+    numeric_max: f64,
+    integer_texts: u64,
+    time_count: u64,
+    earliest: Option<(TimeKey, String)>,
+    latest: Option<(TimeKey, String)>,
+    non_numeric_examples: Vec<String>,
+    samples: Vec<String>,
+    distinct: DistinctTracker,
+    histogram: DoublingHistogram,
+}
+
+impl ColumnAccumulator {
+    pub fn add_missing(&mut self) {
+        self.cells += 1;
+        self.missing += 1;
+    }
+
+    fn keep_sample(&mut self, text: &str) {
+        if self.samples.len() < EXAMPLE_COUNT && !self.samples.iter().any(|sample| sample == text) {
+            self.samples.push(text.to_string());
+        }
+    }
+
+    fn record_number(&mut self, value: f64) {
+        if self.numeric_count == 0 {
+            self.numeric_min = value;
+            self.numeric_max = value;
+        } else {
+            if value < self.numeric_min {
+                self.numeric_min = value;
+            }
+            if value > self.numeric_max {
+                self.numeric_max = value;
+            }
+        }
+        self.numeric_count += 1;
+        self.numeric_sum.add(value);
+        self.histogram.add(value, 1);
+        self.distinct.add_number_count(value, 1);
+    }
+
+    /// A number that came typed (JSON, inline rows).
+    pub fn add_number(&mut self, value: f64) {
+        self.cells += 1;
+        if !value.is_finite() {
+            self.missing += 1;
+            return;
+        }
+        if self.samples.len() < EXAMPLE_COUNT {
+            self.keep_sample(&format_number(value));
+        }
+        if value.fract() == 0.0 {
+            self.integer_texts += 1;
+        }
+        self.record_number(value);
+    }
+
+    /// A cell as written in a text file (or a JSON string).
+    pub fn add_text(&mut self, cell: &str) {
+        self.cells += 1;
+        let trimmed = trim_cell(cell);
+        if is_missing_token(trimmed) {
+            self.missing += 1;
+            return;
+        }
+        if self.samples.len() < EXAMPLE_COUNT {
+            self.keep_sample(trimmed);
+        }
+        if let Some(value) = parse_number(trimmed) {
+            if is_integer_text(trimmed) {
+                self.integer_texts += 1;
+            }
+            self.record_number(value);
+            return;
+        }
+        if let Some(key) = parse_iso_time(trimmed) {
+            self.time_count += 1;
+            let is_earlier = self
+                .earliest
+                .as_ref()
+                .is_none_or(|(earliest, _)| key < *earliest);
+            if is_earlier {
+                self.earliest = Some((key, trimmed.to_string()));
+            }
+            let is_later = self.latest.as_ref().is_none_or(|(latest, _)| key > *latest);
+            if is_later {
+                self.latest = Some((key, trimmed.to_string()));
+            }
+        } else if self.non_numeric_examples.len() < EXAMPLE_COUNT
+            && !self
+                .non_numeric_examples
+                .iter()
+                .any(|example| example == trimmed)
+        {
+            self.non_numeric_examples.push(trimmed.to_string());
+        }
+        let bytes = trimmed.as_bytes();
+        self.distinct.add_text_count(bytes, hash_bytes(bytes), 1);
+    }
+
+    pub fn merge(&mut self, other: &ColumnAccumulator) {
+        self.cells += other.cells;
+        self.missing += other.missing;
+        if other.numeric_count > 0 {
+            if self.numeric_count == 0 {
+                self.numeric_min = other.numeric_min;
+                self.numeric_max = other.numeric_max;
+            } else {
+                self.numeric_min = self.numeric_min.min(other.numeric_min);
+                self.numeric_max = self.numeric_max.max(other.numeric_max);
+            }
+        }
+        self.numeric_count += other.numeric_count;
+        self.numeric_sum.merge(&other.numeric_sum);
+        self.integer_texts += other.integer_texts;
+        self.time_count += other.time_count;
+        if let Some((key, text)) = &other.earliest {
+            if self.earliest.as_ref().is_none_or(|(mine, _)| key < mine) {
+                self.earliest = Some((*key, text.clone()));
+            }
+        }
+        if let Some((key, text)) = &other.latest {
+            if self.latest.as_ref().is_none_or(|(mine, _)| key > mine) {
+                self.latest = Some((*key, text.clone()));
+            }
+        }
+        for example in &other.non_numeric_examples {
+            if self.non_numeric_examples.len() < EXAMPLE_COUNT
+                && !self.non_numeric_examples.contains(example)
+            {
+                self.non_numeric_examples.push(example.clone());
+            }
+        }
+        for sample in &other.samples {
+            self.keep_sample(sample);
+        }
+        self.distinct.merge(&other.distinct);
+        self.histogram.merge(&other.histogram);
+    }
+
+    fn finish(&self, name: &str, index: usize, rows: u64) -> ColumnProfile {
+        let missing = self.missing + rows.saturating_sub(self.cells);
+        let present = rows.saturating_sub(missing);
+        let numeric_share = if present == 0 {
+            0.0
+        } else {
+            self.numeric_count as f64 / present as f64
+        };
+        let time_share = if present == 0 {
+            0.0
+        } else {
+            self.time_count as f64 / present as f64
+        };
+        let distinct = self.distinct.distinct_count();
+        let numeric = (self.numeric_count > 0).then(|| {
+            let bin_count = histogram_bin_count(
+                self.numeric_min,
+                self.numeric_max,
+                self.integer_texts == self.numeric_count,
+            );
+            let histogram = if self.distinct.estimate.is_none() {
+                let mut bins = vec![0u64; bin_count];
+                for entry in self.distinct.numbers.iter() {
+                    let bin = equal_width_bin(
+                        f64::from_bits(entry.bits),
+                        self.numeric_min,
+                        self.numeric_max,
+                        bin_count,
+                    );
+                    bins[bin] += entry.count;
+                }
+                bins
+            } else {
+                self.histogram
+                    .rebin(self.numeric_min, self.numeric_max, bin_count)
+            };
+            NumericSummary {
+                count: self.numeric_count,
+                min: self.numeric_min,
+                max: self.numeric_max,
+                mean: self.numeric_sum.value() / self.numeric_count as f64,
+                histogram,
+            }
+        });
+        let top_values = self.distinct.most_frequent(TOP_VALUE_COUNT);
+        let all_values = self.distinct.every_value(ALL_VALUES_CAP);
+
+        let (kind, kind_evidence) =
+            self.decide_kind(present, numeric_share, time_share, &all_values);
+        let shape = numeric.as_ref().map(|summary| NumericShape {
+            min: summary.min,
+            all_integers: self.integer_texts == self.numeric_count,
+            is_year_range: summary.min >= 1000.0 && summary.max <= 2999.0,
+        });
+        let (zero, zero_evidence) = if kind == AttributeKind::Time {
+            (
+                Some(ZeroMeaning::Arbitrary),
+                Some("dates and times have no natural zero".to_string()),
+            )
+        } else if kind == AttributeKind::Quantitative {
+            match zero_meaning_hint(name, shape) {
+                Some((zero, evidence)) => (Some(zero), Some(evidence)),
+                None => (None, None),
+            }
+        } else {
+            (None, None)
+        };
+        let kind_evidence = match zero_evidence {
+            Some(evidence) => format!(
+                "{kind_evidence}; zero is {}: {evidence}",
+                zero.map_or("", |z| z.as_str())
+            ),
+            None => kind_evidence,
+        };
+        let time_range = match (&self.earliest, &self.latest) {
+            (Some((_, earliest)), Some((_, latest))) if kind == AttributeKind::Time => {
+                Some((earliest.clone(), latest.clone()))
+            }
+            _ => None,
+        };
+        ColumnProfile {
+            name: name.to_string(),
+            index,
+            kind,
+            kind_evidence,
+            zero,
+            rows,
+            missing,
+            distinct,
+            numeric,
+            numeric_share,
+            non_numeric_examples: self.non_numeric_examples.clone(),
+            top_values,
+            all_values,
+            samples: self.samples.clone(),
+            time_range,
+            header_range: None,
+        }
+    }
+
+    fn decide_kind(
+        &self,
+        present: u64,
+        numeric_share: f64,
+        time_share: f64,
+        all_values: &Option<Vec<(String, u64)>>,
+    ) -> (AttributeKind, String) {
+        if present == 0 {
+            return (
+                AttributeKind::Categorical,
+                "no values to judge by (every cell is missing)".to_string(),
+            );
+        }
+        let percent = |share: f64| format!("{:.1} %", share * 100.0);
+        if numeric_share >= MAJORITY_SHARE {
+            let evidence = if self.numeric_count == present {
+                format!("all {present} values are numbers")
+            } else {
+                format!(
+                    "{} of {present} values ({}) are numbers",
+                    self.numeric_count,
+                    percent(numeric_share)
+                )
+            };
+            return (AttributeKind::Quantitative, evidence);
+        }
+        if time_share >= MAJORITY_SHARE {
+            let evidence = if self.time_count == present {
+                format!("all {present} values are ISO 8601 dates or date-times")
+            } else {
+                format!(
+                    "{} of {present} values ({}) are ISO 8601 dates or date-times",
+                    self.time_count,
+                    percent(time_share)
+                )
+            };
+            return (AttributeKind::Time, evidence);
+        }
+        if let Some(values) = all_values {
+            let texts: Vec<&str> = values.iter().map(|(text, _)| text.as_str()).collect();
+            if let Some(vocabulary) = ordinal_vocabulary_of(&texts) {
+                return (
+                    AttributeKind::Ordered,
+                    format!(
+                        "all {} distinct values belong to the ordered scale {}",
+                        texts.len(),
+                        vocabulary.join(" < ")
+                    ),
+                );
+            }
+        }
+        let mut evidence = format!(
+            "text values ({} of {present} are numbers, {} are dates)",
+            self.numeric_count, self.time_count
+        );
+        if self.numeric_count == 0 && self.time_count == 0 {
+            evidence = format!("all {present} values are text");
+        }
+        (AttributeKind::Categorical, evidence)
+    }
+}
+
+/// Bins for a histogram from `min` to `max`: [`HISTOGRAM_BIN_COUNT`], or one per integer when
+/// all values are integers spanning fewer (years 2007-2009 get three bins, not ten).
+pub fn histogram_bin_count(min: f64, max: f64, all_integers: bool) -> usize {
+    let span = max - min;
+    if all_integers && span >= 0.0 && span < HISTOGRAM_BIN_COUNT as f64 {
+        span as usize + 1
+    } else {
+        HISTOGRAM_BIN_COUNT
+    }
+}
+
+/// The profile of a whole table under construction.
+#[derive(Clone, Debug, Default)]
+pub struct TableAccumulator {
+    pub names: Vec<String>,
+    pub columns: Vec<ColumnAccumulator>,
+    index_by_name: HashMap<String, usize>,
+    pub rows: u64,
+    problems: Vec<DataProblem>,
+    /// Problems seen, including those not kept.
+    problem_total: u64,
+}
+
+impl TableAccumulator {
+    pub fn with_columns(names: &[String]) -> TableAccumulator {
+        let mut table = TableAccumulator::default();
+        for name in names {
+            table.column_index(name);
+        }
+        table
+    }
+
+    /// The index of column `name`, adding it (for JSON rows, whose keys appear as they come).
+    pub fn column_index(&mut self, name: &str) -> usize {
+        if let Some(&index) = self.index_by_name.get(name) {
+            return index;
+        }
+        let index = self.names.len();
+        self.names.push(name.to_string());
+        self.columns.push(ColumnAccumulator::default());
+        self.index_by_name.insert(name.to_string(), index);
+        index
+    }
+
+    pub fn add_problem(&mut self, problem: DataProblem) {
+        self.problem_total += 1;
+        if self.problems.len() < PROBLEM_CAP {
+            self.problems.push(problem);
+        }
+    }
+
+    pub fn problem_count(&self) -> u64 {
+        self.problem_total
+    }
+
+    /// Shift the lines of kept problems (a chunk scanned from the middle of a file learns its
+    /// first line only afterwards).
+    pub fn shift_problem_lines(&mut self, lines: usize) {
+        for problem in &mut self.problems {
+            if let Some(line) = &mut problem.line {
+                *line += lines;
+            }
+        }
+    }
+
+    /// Add `other` (which scanned rows after ours) into this table.
+    pub fn merge(&mut self, other: &TableAccumulator) {
+        for (name, column) in other.names.iter().zip(other.columns.iter()) {
+            let index = self.column_index(name);
+            self.columns[index].merge(column);
+        }
+        self.rows += other.rows;
+        for problem in &other.problems {
+            if self.problems.len() < PROBLEM_CAP {
+                self.problems.push(problem.clone());
+            }
+        }
+        self.problem_total += other.problem_total;
+    }
+
+    pub fn finish(
+        &self,
+        path: Option<PathBuf>,
+        format: DataFormat,
+        is_sample: bool,
+        header_ranges: &[Option<(u64, u64)>],
+    ) -> DataProfile {
+        let columns = self
+            .names
+            .iter()
+            .zip(self.columns.iter())
+            .enumerate()
+            .map(|(index, (name, column))| {
+                let mut profile = column.finish(name, index, self.rows);
+                profile.header_range = header_ranges.get(index).copied().flatten();
+                profile
+            })
+            .collect();
+        let mut problems = self.problems.clone();
+        let hidden = self.problem_total.saturating_sub(problems.len() as u64);
+        if hidden > 0 {
+            problems.push(DataProblem {
+                message: format!("{hidden} more problems like these are not listed"),
+                line: None,
+                byte_offset: None,
+            });
+        }
+        DataProfile {
+            path,
+            format,
+            rows: self.rows,
+            columns,
+            is_sample,
+            problems,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn merged_halves_equal_one_pass() {
+        let values: Vec<String> = (0..2000).map(|i| format!("{}", i % 300)).collect();
+        let mut whole = ColumnAccumulator::default();
+        let mut left = ColumnAccumulator::default();
+        let mut right = ColumnAccumulator::default();
+        for (position, value) in values.iter().enumerate() {
+            whole.add_text(value);
+            if position < 777 {
+                left.add_text(value);
+            } else {
+                right.add_text(value);
+            }
+        }
+        left.merge(&right);
+        let whole_profile = whole.finish("n", 0, 2000);
+        let merged_profile = left.finish("n", 0, 2000);
+        assert_eq!(whole_profile, merged_profile);
+        assert_eq!(merged_profile.distinct.value, 300);
+    }
+
+    #[test]
+    fn past_the_cap_the_count_is_an_estimate() {
+        let mut column = ColumnAccumulator::default();
+        for value in 0..(EXACT_DISTINCT_CAP as u64 + 50_000) {
+            column.add_text(&format!("id-{value}"));
+        }
+        let profile = column.finish("id", 0, EXACT_DISTINCT_CAP as u64 + 50_000);
+        assert!(!profile.distinct.exact);
+        let truth = (EXACT_DISTINCT_CAP + 50_000) as f64;
+        let error = (profile.distinct.value as f64 - truth).abs() / truth;
+        assert!(
+            error < 3.0 * profile.distinct.relative_error,
+            "error {error}"
+        );
+        assert!(profile.all_values.is_none());
+    }
+}

@@ -1,0 +1,299 @@
+//! Rendering a [`DataProfile`] for `markwell profile`: a text table (one row per column, then a
+//! small bar histogram per numeric column) and a JSON value with stable keys in our own words.
+
+use serde_json::{json, Value};
+
+use super::{ColumnProfile, DataProfile, DistinctCount};
+use crate::spec::model::AttributeKind;
+
+const BAR_WIDTH: usize = 30;
+const EIGHTHS: [char; 8] = ['▏', '▎', '▍', '▌', '▋', '▊', '▉', '█'];
+
+/// A number in at most 6 significant digits, without trailing zeros.
+pub fn format_short_number(value: f64) -> String {
+    if value == 0.0 {
+        return "0".to_string();
+    }
+    let magnitude = value.abs();
+    if !(1e-4..1e12).contains(&magnitude) {
+        return format!("{value:.3e}");
+    }
+    let decimals = (5 - magnitude.log10().floor() as i32).clamp(0, 10) as usize;
+    let text = format!("{value:.decimals$}");
+    if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        text
+    }
+}
+
+fn format_distinct(distinct: &DistinctCount) -> String {
+    if distinct.exact {
+        distinct.value.to_string()
+    } else {
+        format!(
+            "~{} ±{:.1}%",
+            distinct.value,
+            distinct.relative_error * 100.0
+        )
+    }
+}
+
+fn shorten(text: &str, limit: usize) -> String {
+    if text.chars().count() <= limit {
+        text.to_string()
+    } else {
+        let kept: String = text.chars().take(limit.saturating_sub(1)).collect();
+        format!("{kept}…")
+    }
+}
+
+fn summary_cell(column: &ColumnProfile) -> String {
+    match column.kind {
+        AttributeKind::Quantitative => column.numeric.as_ref().map_or(String::new(), |numeric| {
+            format!("mean {}", format_short_number(numeric.mean))
+        }),
+        _ => column
+            .top_values
+            .iter()
+            .take(3)
+            .map(|(value, count)| format!("{} ({count})", shorten(value, 16)))
+            .collect::<Vec<_>>()
+            .join(", "),
+    }
+}
+
+fn min_max_cells(column: &ColumnProfile) -> (String, String) {
+    if column.kind == AttributeKind::Time {
+        if let Some((earliest, latest)) = &column.time_range {
+            return (earliest.clone(), latest.clone());
+        }
+    }
+    match &column.numeric {
+        Some(numeric) if column.kind == AttributeKind::Quantitative => (
+            format_short_number(numeric.min),
+            format_short_number(numeric.max),
+        ),
+        _ => (String::new(), String::new()),
+    }
+}
+
+fn bar(count: u64, largest: u64) -> String {
+    if largest == 0 || count == 0 {
+        return String::new();
+    }
+    let eighths = (count as f64 / largest as f64 * (BAR_WIDTH * 8) as f64).round() as usize;
+    let eighths = eighths.max(1);
+    let mut out = "█".repeat(eighths / 8);
+    if eighths % 8 > 0 {
+        out.push(EIGHTHS[eighths % 8 - 1]);
+    }
+    out
+}
+
+/// The profile as a readable table followed by histograms.
+pub fn render_profile_text(profile: &DataProfile) -> String {
+    let headings = [
+        "column",
+        "kind",
+        "rows",
+        "missing",
+        "distinct",
+        "min",
+        "max",
+        "mean / top values",
+    ];
+    let rows: Vec<[String; 8]> = profile
+        .columns
+        .iter()
+        .map(|column| {
+            let (min, max) = min_max_cells(column);
+            [
+                shorten(&column.name, 28),
+                column.kind.as_str().to_string(),
+                column.rows.to_string(),
+                column.missing.to_string(),
+                format_distinct(&column.distinct),
+                min,
+                max,
+                summary_cell(column),
+            ]
+        })
+        .collect();
+    let mut widths: Vec<usize> = headings
+        .iter()
+        .map(|heading| heading.chars().count())
+        .collect();
+    for row in &rows {
+        for (width, cell) in widths.iter_mut().zip(row.iter()) {
+            *width = (*width).max(cell.chars().count());
+        }
+    }
+    let mut out = String::new();
+    let source = profile.path.as_ref().map_or_else(
+        || "inline rows".to_string(),
+        |path| path.display().to_string(),
+    );
+    out.push_str(&format!(
+        "{source}: {} rows, {} columns ({}){}\n\n",
+        profile.rows,
+        profile.columns.len(),
+        profile.format.as_str(),
+        if profile.is_sample {
+            ", from a sample of the first rows"
+        } else {
+            ""
+        }
+    ));
+    let line = |cells: Vec<&str>| -> String {
+        let mut text = String::new();
+        for (index, (cell, width)) in cells.iter().zip(widths.iter()).enumerate() {
+            let padding = width.saturating_sub(cell.chars().count());
+            let right_aligned = (2..=4).contains(&index);
+            if right_aligned {
+                text.push_str(&" ".repeat(padding));
+                text.push_str(cell);
+            } else {
+                text.push_str(cell);
+                if index + 1 < cells.len() {
+                    text.push_str(&" ".repeat(padding));
+                }
+            }
+            if index + 1 < cells.len() {
+                text.push_str("  ");
+            }
+        }
+        text.trim_end().to_string() + "\n"
+    };
+    out.push_str(&line(headings.to_vec()));
+    out.push_str(&line(
+        widths
+            .iter()
+            .map(|width| "-".repeat(*width))
+            .collect::<Vec<_>>()
+            .iter()
+            .map(String::as_str)
+            .collect(),
+    ));
+    for row in &rows {
+        out.push_str(&line(row.iter().map(String::as_str).collect()));
+    }
+    for column in &profile.columns {
+        let Some(numeric) = &column.numeric else {
+            continue;
+        };
+        if column.kind != AttributeKind::Quantitative || numeric.histogram.is_empty() {
+            continue;
+        }
+        out.push_str(&format!("\n{}\n", column.name));
+        let bins = numeric.histogram.len();
+        let width = (numeric.max - numeric.min) / bins as f64;
+        let largest = numeric.histogram.iter().copied().max().unwrap_or(0);
+        // one bin per integer (see `profile::histogram_bin_count`): label each by its value
+        let one_per_integer =
+            numeric.min.fract() == 0.0 && (numeric.max - numeric.min + 1.0) == bins as f64;
+        let labels: Vec<String> = (0..bins)
+            .map(|bin| {
+                if one_per_integer {
+                    format_short_number(numeric.min + bin as f64)
+                } else {
+                    format_short_number(numeric.min + width * bin as f64)
+                }
+            })
+            .collect();
+        let label_width = labels
+            .iter()
+            .map(|label| label.chars().count())
+            .max()
+            .unwrap_or(0);
+        for (label, &count) in labels.iter().zip(numeric.histogram.iter()) {
+            out.push_str(&format!(
+                "  {label:>label_width$} │{:<bar_width$} {count}\n",
+                bar(count, largest),
+                bar_width = BAR_WIDTH
+            ));
+        }
+    }
+    if !profile.problems.is_empty() {
+        out.push_str("\nproblems\n");
+        for problem in &profile.problems {
+            match problem.line {
+                Some(line) => out.push_str(&format!("  line {}: {}\n", line + 1, problem.message)),
+                None => out.push_str(&format!("  {}\n", problem.message)),
+            }
+        }
+    }
+    out
+}
+
+fn value_counts(values: &[(String, u64)]) -> Value {
+    Value::Array(
+        values
+            .iter()
+            .map(|(value, count)| json!({ "value": value, "count": count }))
+            .collect(),
+    )
+}
+
+fn column_json(column: &ColumnProfile) -> Value {
+    json!({
+        "name": column.name,
+        "position": column.index,
+        "kind": column.kind.as_str(),
+        "why": column.kind_evidence,
+        "zero": column.zero.map(|zero| zero.as_str()),
+        "rows": column.rows,
+        "missing": column.missing,
+        "distinct": {
+            "count": column.distinct.value,
+            "exact": column.distinct.exact,
+            "relative_error": column.distinct.relative_error,
+        },
+        "numbers": column.numeric.as_ref().map(|numeric| json!({
+            "count": numeric.count,
+            "min": numeric.min,
+            "max": numeric.max,
+            "mean": numeric.mean,
+            "histogram": numeric.histogram,
+        })),
+        "number_share": column.numeric_share,
+        "non_number_examples": column.non_numeric_examples,
+        "most_common": value_counts(&column.top_values),
+        "every_value": column.all_values.as_deref().map(value_counts),
+        "examples": column.samples,
+        "time_span": column.time_range.as_ref().map(|(earliest, latest)| json!({
+            "earliest": earliest,
+            "latest": latest,
+        })),
+        "header_bytes": column.header_range.map(|(start, end)| json!([start, end])),
+    })
+}
+
+/// The profile as JSON (keys are ours and stable).
+pub fn render_profile_json(profile: &DataProfile) -> Value {
+    json!({
+        "file": profile.path.as_ref().map(|path| path.display().to_string()),
+        "format": profile.format.as_str(),
+        "rows": profile.rows,
+        "sampled": profile.is_sample,
+        "columns": profile.columns.iter().map(column_json).collect::<Vec<_>>(),
+        "problems": profile.problems.iter().map(|problem| json!({
+            "message": problem.message,
+            "line": problem.line,
+            "byte_offset": problem.byte_offset,
+        })).collect::<Vec<_>>(),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn short_numbers_drop_trailing_zeros() {
+        assert_eq!(format_short_number(5.843333333), "5.84333");
+        assert_eq!(format_short_number(2007.0), "2007");
+        assert_eq!(format_short_number(0.1), "0.1");
+        assert_eq!(format_short_number(-3.5), "-3.5");
+    }
+}
