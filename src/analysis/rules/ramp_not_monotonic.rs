@@ -29,6 +29,12 @@ pub const ARM_HUE_TOLERANCE_DEGREES: f64 = 45.0;
 /// source.
 pub const DIVERGING_END_HUE_SEPARATION_DEGREES: f64 = 60.0;
 
+/// Messages call a ramp's direction clear when its first and last colours differ by at least
+/// this many L* units; below, they say that both ends are about as light. Our choice, no
+/// source (it matches the ramp threshold of `palette-too-similar`, ΔE00 5, for neutrals at
+/// mid lightness).
+pub const CLEAR_DIRECTION_LIGHTNESS: f64 = 5.0;
+
 pub const RULE: Rule = Rule {
     id: ID,
     default_severity: Severity::Warning,
@@ -181,7 +187,19 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         let (Some(offender), Some(previous)) = (colours.get(index), colours.get(index - 1)) else {
             continue;
         };
+        let ends_differ =
+            (labs[labs.len() - 1].lightness - labs[0].lightness).abs() >= CLEAR_DIRECTION_LIGHTNESS;
         let what = match found {
+            RampBreak::Reverses { .. } if !ends_differ => format!(
+                "its first and last colours are about as light, and {} is {} than {}",
+                offender.describe(),
+                if labs[index].lightness > labs[index - 1].lightness {
+                    "lighter"
+                } else {
+                    "darker"
+                },
+                previous.describe()
+            ),
             RampBreak::Reverses { rising: true, .. } => format!(
                 "it runs from dark to light, but {} is darker than {}",
                 offender.describe(),
@@ -235,7 +253,16 @@ mod tests {
         assert_eq!(
             found,
             vec![
-                "the lightness (CIELAB L*) of the `luminance` palette of `crust` goes 45.7, 71.0, 44.7: it runs from light to dark, but `#e0a31a` (2nd) is lighter than `#2e6fb0` (1st), so lightness does not follow the order of the values"
+                "the lightness (CIELAB L*) of the `luminance` palette of `crust` goes 45.7, 71.0, 44.7: its first and last colours are about as light, and `#e0a31a` (2nd) is lighter than `#2e6fb0` (1st), so lightness does not follow the order of the values"
+            ]
+        );
+        let clear = messages(
+            r##"{ "mark": "bar", "bind": { "x": "branch", "luminance": { "column": "crust", "palette": ["#eeeeee", "#555555", "#888888", "#222222"] } } }"##,
+        );
+        assert_eq!(
+            clear,
+            vec![
+                "the lightness (CIELAB L*) of the `luminance` palette of `crust` goes 94.1, 36.1, 56.7, 13.2: it runs from light to dark, but `#888888` (3rd) is lighter than `#555555` (2nd), so lightness does not follow the order of the values"
             ]
         );
         // on `hue` the rule needs to know the values are ordered
