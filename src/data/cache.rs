@@ -350,6 +350,10 @@ fn profile_file(
             }
         });
     }
+    if let (ScanDepth::Full(progress), true) = (depth, in_memory) {
+        // a file read at once reports being done, like a streamed one
+        progress(1.0);
+    }
     Ok(table.finish(
         Some(path.to_path_buf()),
         format,
