@@ -259,7 +259,7 @@ fn profile_file(
             } else {
                 &head
             };
-            let (header, table) = scan_bytes(bytes, delimiter, Some(path))?;
+            let (header, table) = scan_bytes(bytes, delimiter, Some(path), truncated)?;
             header_ranges = header.ranges;
             table
         }
