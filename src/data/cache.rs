@@ -246,6 +246,19 @@ fn profile_file(
     }
     check_is_text(&head, path)?;
     let (format, delimiter) = detect_format(path, &head, read)?;
+    if matches!(format, DataFormat::Csv | DataFormat::Tsv)
+        && memchr::memchr(b'\n', &head).is_none()
+        && memchr::memchr(b'\r', &head).is_some()
+    {
+        return Err(simple_error(
+            DataErrorKind::Malformed,
+            format!(
+                "`{}` ends its lines with a lone CR (an old Mac convention); save it with LF or CRLF line breaks",
+                path.display()
+            ),
+            path,
+        ));
+    }
     let mark_length = head.len() - after_mark.len();
     let control = ScanControl::default();
     let in_memory = complete || matches!(depth, ScanDepth::Sample);
