@@ -367,7 +367,7 @@ fn sampled_profile_is_fast_on_a_big_file() {
     assert!(sample.is_ok_and(|profile| profile.is_sample));
     // generous bound for an unoptimised test build on a shared machine (target < 100 ms in
     // release, measured by the benchmark)
-    assert!(elapsed.as_secs_f64() < 5.0, "{elapsed:?}");
+    assert!(elapsed.as_secs_f64() < 20.0, "{elapsed:?}");
 }
 
 #[test]

@@ -318,6 +318,10 @@ fn profile_file(
             scan_json_file(path, format, mark_length as u64, size, &control, progress)?
         }
     };
+    if control.cancelled.load(Ordering::Relaxed) {
+        // the caller asked to stop, even if the threads finished before they noticed
+        return Err(super::csv_reader::cancelled_error(Some(path)));
+    }
     if matches!(format, DataFormat::Json | DataFormat::Ndjson) {
         header_ranges = table
             .names
