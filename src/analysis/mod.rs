@@ -19,6 +19,10 @@ use crate::syntax::SyntaxTree;
 
 pub use config::AnalysisConfig;
 
+/// Syntax errors reported per document; a megabyte of stray commas stays readable. Common
+/// practice, no source.
+pub const MAX_SYNTAX_ERRORS: usize = 200;
+
 /// A parsed and lowered document.
 #[derive(Clone, Debug)]
 pub struct ParsedDocument {
@@ -31,9 +35,10 @@ pub struct ParsedDocument {
 /// Parse and lower `text`. Never fails.
 pub fn parse_document(text: &str) -> ParsedDocument {
     let tree = crate::syntax::parse(text);
-    let mut diagnostics: Vec<Diagnostic> = tree
-        .errors()
+    let errors = tree.errors();
+    let mut diagnostics: Vec<Diagnostic> = errors
         .iter()
+        .take(MAX_SYNTAX_ERRORS)
         .map(|error| {
             Diagnostic::new(
                 rules::SYNTAX_ERROR,
@@ -43,6 +48,17 @@ pub fn parse_document(text: &str) -> ParsedDocument {
             )
         })
         .collect();
+    if let Some(first_hidden) = errors.get(MAX_SYNTAX_ERRORS) {
+        diagnostics.push(Diagnostic::new(
+            rules::SYNTAX_ERROR,
+            crate::diagnostic::Severity::Error,
+            first_hidden.range,
+            format!(
+                "{} more syntax errors from here on are not shown",
+                errors.len() - MAX_SYNTAX_ERRORS
+            ),
+        ));
+    }
     let (spec, model_diagnostics) = crate::spec::lower_document(&tree);
     diagnostics.extend(model_diagnostics);
     diagnostics.extend(crate::spec::schema::check_schema(&tree));

@@ -2,6 +2,11 @@
 //! typical demo spec and for a generated 1 MB spec. Run with `cargo bench --bench analysis` (it lives under `tests/benches/` so that it is not also built as a test).
 //! Prints figures; asserts nothing about time.
 
+/// The same allocator as the `markwell` binary (see `src/main.rs`), so the figures are the
+/// ones users get.
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 

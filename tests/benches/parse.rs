@@ -2,6 +2,11 @@
 //! `serde_json::from_str::<serde_json::Value>` on the same text. Run with
 //! `cargo bench --bench parse`; it prints figures and asserts nothing about speed.
 
+/// The same allocator as the `markwell` binary (see `src/main.rs`), so the figures are the
+/// ones users get.
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 

@@ -27,6 +27,19 @@ pub fn check_capacity(
     limit: u64,
     what: &str,
 ) -> Option<Diagnostic> {
+    check_capacity_with(id, facts, range, limit, |name, count| {
+        format!("`{name}` has {count}, but readers can tell apart only about {limit} {what}")
+    })
+}
+
+/// Like [`check_capacity`], with the message written by `message(column, count phrase)`.
+pub fn check_capacity_with(
+    id: &'static str,
+    facts: &BindingFacts<'_>,
+    range: TextRange,
+    limit: u64,
+    message: impl Fn(&str, &str) -> String,
+) -> Option<Diagnostic> {
     let profile = facts.profile?;
     if facts.binding.bins.is_some() || facts.binding.summary.is_some() {
         return None;
@@ -38,10 +51,6 @@ pub fn check_capacity(
         id,
         Severity::Warning,
         range,
-        format!(
-            "`{}` has {}, but readers can tell apart only about {limit} {what}",
-            facts.display_name(),
-            distinct_phrase(&profile.distinct)
-        ),
+        message(&facts.display_name(), &distinct_phrase(&profile.distinct)),
     ))
 }

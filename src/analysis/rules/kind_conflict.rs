@@ -89,11 +89,17 @@ fn examples(profile: &ColumnProfile) -> String {
 /// Why the data contradicts `declared`, if it does.
 fn contradiction(declared: AttributeKind, profile: &ColumnProfile) -> Option<String> {
     match declared {
-        AttributeKind::Quantitative if profile.numeric_share < MIN_NUMERIC_SHARE => Some(format!(
-            "{:.0} % of its values are not numbers{}",
-            (1.0 - profile.numeric_share) * 100.0,
-            examples(profile)
-        )),
+        AttributeKind::Quantitative if profile.numeric_share < MIN_NUMERIC_SHARE => {
+            Some(if profile.numeric_share == 0.0 {
+                format!("none of its values are numbers{}", examples(profile))
+            } else {
+                format!(
+                    "{:.0} % of its values are not numbers{}",
+                    (1.0 - profile.numeric_share) * 100.0,
+                    examples(profile)
+                )
+            })
+        }
         AttributeKind::Time if profile.kind != AttributeKind::Time && !is_year_like(profile) => {
             Some(format!(
                 "its values are not ISO 8601 dates or times{}",

@@ -59,10 +59,11 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 Severity::Warning,
                 levels.range,
                 format!(
-                    "`levels` leaves out {} of column `{}` ({} rows), so they have no place in the order: {}{}",
+                    "`levels` leaves out {} of column `{}` ({} rows), which then {} no place in the order: {}{}",
                     if unplaced.len() == 1 { "a value".to_string() } else { format!("{} values", unplaced.len()) },
                     declaration.name.value,
                     rows,
+                    if unplaced.len() == 1 { "has" } else { "have" },
                     shown.join(", "),
                     if unplaced.len() > 6 { ", ..." } else { "" }
                 ),

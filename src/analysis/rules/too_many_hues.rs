@@ -27,6 +27,10 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         .layers
         .iter()
         .filter_map(|layer| {
+            // on arcs every hue is a slice: `too-many-slices` speaks about them
+            if layer.mark() == Some(crate::spec::model::Mark::Arc) {
+                return None;
+            }
             let facts = layer.binding(Channel::Hue)?;
             if facts.kind != Some(AttributeKind::Categorical) {
                 return None; // ordered values on hue are another rule's matter

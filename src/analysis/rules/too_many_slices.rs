@@ -1,7 +1,7 @@
 //! `too-many-slices`: a pie or ring with more slices than can be compared. Documentation:
 //! `too-many-slices.md`.
 
-use crate::analysis::rules::capacity::check_capacity;
+use crate::analysis::rules::capacity::check_capacity_with;
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
 use crate::spec::model::{Channel, Mark};
@@ -44,10 +44,18 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         .into_iter()
         .find_map(|channel| layer.binding(channel));
         if let Some(facts) = splitter {
-            if let Some(mut diagnostic) =
-                check_capacity(ID, facts, mark.range, MAX_SLICES, "slices of one pie")
-            {
-                diagnostic.message = format!("{}, so each is a slice", diagnostic.message);
+            let channel = facts.binding.channel.as_str();
+            if let Some(diagnostic) = check_capacity_with(
+                ID,
+                facts,
+                mark.range,
+                MAX_SLICES,
+                |name, count| {
+                    format!(
+                        "`{name}` on `{channel}` cuts the pie into one slice for each of its {count}; past about {MAX_SLICES} slices the small ones cannot be compared or labelled"
+                    )
+                },
+            ) {
                 diagnostics.push(diagnostic);
             }
         }

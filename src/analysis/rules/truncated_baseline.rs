@@ -134,7 +134,7 @@ fn lie_factor_clause(facts: &BindingFacts<'_>, baseline: f64) -> String {
     }
     match truncated_baseline_lie_factor(baseline, numbers.min, numbers.max) {
         Some(factor) if factor.is_finite() => format!(
-            ", so differences look {qualifier}{factor:.1}x larger than they are (lie factor of {} against {})",
+            ", so differences look {qualifier}{factor:.1}x larger than they are (Tufte's lie factor, smallest value {} against largest {})",
             format_number(numbers.min),
             format_number(numbers.max)
         ),
