@@ -430,3 +430,22 @@ fn estimated_distinct_counts_render_with_a_tilde_and_error() {
         .unwrap_or_default();
     assert!(line.contains('~') && line.contains("±0.8%"), "{line}");
 }
+
+#[test]
+fn concurrent_requests_for_one_file_share_one_scan() {
+    let folder = temp_folder();
+    let path = big_file(folder.path());
+    let cache = ProfileCache::new();
+    let read = ReadOptions::default();
+    let (first, second) = std::thread::scope(|scope| {
+        let first = scope.spawn(|| cache.full_profile(&path, &read, &|_| true));
+        let second = scope.spawn(|| cache.full_profile(&path, &read, &|_| true));
+        (first.join(), second.join())
+    });
+    let (Ok(Ok(first)), Ok(Ok(second))) = (first, second) else {
+        panic!("a scan failed")
+    };
+    // one scan ran; the other caller waited for it and got the same profile
+    assert!(Arc::ptr_eq(&first, &second));
+    assert_eq!(first.rows, 300_000);
+}
