@@ -253,3 +253,45 @@ fn two_thread_scan_with_quoted_line_breaks_matches_the_truth() {
     // header = line 0; each row spans 4 lines; the tail row starts at line 1 + 4 * rows
     assert_eq!(profile.problems[0].line, Some(1 + 4 * row_count as usize));
 }
+
+/// The sampled head of a big file may end inside a quoted cell that holds line breaks: that
+/// cut is not the file's fault, so the sample reports no problem for it.
+#[test]
+fn a_sample_cut_inside_a_quoted_cell_is_not_a_problem() {
+    let folder = tempfile::tempdir().unwrap_or_else(|error| panic!("tempdir: {error}"));
+    let path = folder.path().join("logbook.csv");
+    let mut content = b"entry,text\n".to_vec();
+    let mut row = 0u64;
+    while content.len() < 6 << 20 {
+        writeln!(content, "{row},\"calm\nwind\nrain\nfog\nsun\nhail\nsleet\"").ok();
+        row += 1;
+    }
+    std::fs::write(&path, &content).unwrap_or_else(|error| panic!("write: {error}"));
+    // the sample is cut after the last line break of the first 4 MiB: check that this line
+    // break sits inside quotes (an odd number of quotes before it)
+    let head = &content[..markwell::data::cache::SAMPLE_BYTES];
+    let last_break = head.iter().rposition(|&byte| byte == b'\n').unwrap_or(0);
+    let quotes_before = head[..last_break]
+        .iter()
+        .filter(|&&byte| byte == b'"')
+        .count();
+    assert_eq!(
+        quotes_before % 2,
+        1,
+        "the test file must put the cut inside quotes"
+    );
+
+    let sample = ProfileCache::new().sample_profile(&path, &ReadOptions::default());
+    let Ok(sample) = sample else {
+        panic!("sample failed")
+    };
+    assert!(sample.is_sample);
+    assert!(sample.problems.is_empty(), "{:?}", sample.problems);
+    let full = ProfileCache::new().full_profile(&path, &ReadOptions::default(), &|_| true);
+    let Ok(full) = full else {
+        panic!("full profile failed")
+    };
+    assert_eq!(full.rows, row);
+    assert!(full.problems.is_empty());
+    assert!(sample.rows < full.rows);
+}

@@ -93,6 +93,15 @@ fn empty_and_blank_files() {
 }
 
 #[test]
+fn lone_carriage_returns_are_refused_with_a_hint() {
+    let folder = temp_folder();
+    let path = write_file(folder.path(), "old-mac.csv", b"tray,buns\rA,12\rB,9\r");
+    let error = profile_error(&path);
+    assert_eq!(error.kind, DataErrorKind::Malformed);
+    assert!(error.message.contains("lone CR"), "{}", error.message);
+}
+
+#[test]
 fn header_only() {
     let folder = temp_folder();
     let path = write_file(folder.path(), "plan.csv", b"ferry,departure\n");

@@ -367,7 +367,7 @@ fn sampled_profile_is_fast_on_a_big_file() {
     assert!(sample.is_ok_and(|profile| profile.is_sample));
     // generous bound for an unoptimised test build on a shared machine (target < 100 ms in
     // release, measured by the benchmark)
-    assert!(elapsed.as_secs_f64() < 5.0, "{elapsed:?}");
+    assert!(elapsed.as_secs_f64() < 20.0, "{elapsed:?}");
 }
 
 #[test]
@@ -429,4 +429,23 @@ fn estimated_distinct_counts_render_with_a_tilde_and_error() {
         .find(|line| line.starts_with("ticket"))
         .unwrap_or_default();
     assert!(line.contains('~') && line.contains("±0.8%"), "{line}");
+}
+
+#[test]
+fn concurrent_requests_for_one_file_share_one_scan() {
+    let folder = temp_folder();
+    let path = big_file(folder.path());
+    let cache = ProfileCache::new();
+    let read = ReadOptions::default();
+    let (first, second) = std::thread::scope(|scope| {
+        let first = scope.spawn(|| cache.full_profile(&path, &read, &|_| true));
+        let second = scope.spawn(|| cache.full_profile(&path, &read, &|_| true));
+        (first.join(), second.join())
+    });
+    let (Ok(Ok(first)), Ok(Ok(second))) = (first, second) else {
+        panic!("a scan failed")
+    };
+    // one scan ran; the other caller waited for it and got the same profile
+    assert!(Arc::ptr_eq(&first, &second));
+    assert_eq!(first.rows, 300_000);
 }

@@ -87,7 +87,8 @@ proptest! {
         delimiter in prop_oneof![Just(b','), Just(b'\t'), Just(b';')],
     ) {
         let _ = read_back(&bytes);
-        let _ = scan_bytes(&bytes, delimiter, None);
+        let _ = scan_bytes(&bytes, delimiter, None, false);
+        let _ = scan_bytes(&bytes, delimiter, None, true);
         if let Ok(text) = std::str::from_utf8(&bytes) {
             let _ = parse_iso_time(text);
             let _ = parse_number(text);

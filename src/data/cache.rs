@@ -5,12 +5,12 @@
 //!
 //! Shared across threads: the map sits behind a `Mutex` that is never held while a file is read.
 
-use std::collections::HashMap;
+use std::collections::{HashMap, HashSet};
 use std::fs::File;
 use std::io::{BufReader, Read, Seek, SeekFrom};
 use std::path::{Path, PathBuf};
 use std::sync::atomic::Ordering;
-use std::sync::{Arc, Mutex, MutexGuard};
+use std::sync::{Arc, Condvar, Mutex, MutexGuard};
 use std::time::{Duration, SystemTime};
 
 use super::csv_reader::{read_header, scan_bytes, scan_file, ScanControl};
@@ -43,10 +43,33 @@ struct CacheEntry {
     sample: Option<Arc<DataProfile>>,
 }
 
-/// Loads profiles, caching them by path plus size and modification time.
+/// Loads profiles, caching them by path plus size and modification time. A file is scanned
+/// in full by one caller at a time: others asking for the same file meanwhile wait for that
+/// scan instead of starting their own.
 #[derive(Debug, Default)]
 pub struct ProfileCache {
     entries: Mutex<HashMap<CacheKey, CacheEntry>>,
+    scans_in_flight: Mutex<HashSet<CacheKey>>,
+    scan_finished: Condvar,
+}
+
+/// Releases a claimed full scan when dropped (also when the scan fails).
+struct ScanClaim<'c> {
+    cache: &'c ProfileCache,
+    key: CacheKey,
+}
+
+impl Drop for ScanClaim<'_> {
+    fn drop(&mut self) {
+        let mut in_flight = self
+            .cache
+            .scans_in_flight
+            .lock()
+            .unwrap_or_else(|poisoned| poisoned.into_inner());
+        in_flight.remove(&self.key);
+        drop(in_flight);
+        self.cache.scan_finished.notify_all();
+    }
 }
 
 fn simple_error(kind: DataErrorKind, message: String, path: &Path) -> DataError {
@@ -219,6 +242,12 @@ impl<R: Read> Read for ProgressRead<'_, R> {
     }
 }
 
+/// Why no claim on a full scan was needed or made.
+enum ClaimOutcome {
+    ScannedByAnother(Arc<DataProfile>),
+    Cancelled,
+}
+
 /// How much of the file to profile.
 #[derive(Clone, Copy)]
 enum ScanDepth<'p> {
@@ -246,6 +275,19 @@ fn profile_file(
     }
     check_is_text(&head, path)?;
     let (format, delimiter) = detect_format(path, &head, read)?;
+    if matches!(format, DataFormat::Csv | DataFormat::Tsv)
+        && memchr::memchr(b'\n', &head).is_none()
+        && memchr::memchr(b'\r', &head).is_some()
+    {
+        return Err(simple_error(
+            DataErrorKind::Malformed,
+            format!(
+                "`{}` ends its lines with a lone CR (an old Mac convention); save it with LF or CRLF line breaks",
+                path.display()
+            ),
+            path,
+        ));
+    }
     let mark_length = head.len() - after_mark.len();
     let control = ScanControl::default();
     let in_memory = complete || matches!(depth, ScanDepth::Sample);
@@ -259,7 +301,7 @@ fn profile_file(
             } else {
                 &head
             };
-            let (header, table) = scan_bytes(bytes, delimiter, Some(path))?;
+            let (header, table) = scan_bytes(bytes, delimiter, Some(path), truncated)?;
             header_ranges = header.ranges;
             table
         }
@@ -305,6 +347,10 @@ fn profile_file(
             scan_json_file(path, format, mark_length as u64, size, &control, progress)?
         }
     };
+    if control.cancelled.load(Ordering::Relaxed) {
+        // the caller asked to stop, even if the threads finished before they noticed
+        return Err(super::csv_reader::cancelled_error(Some(path)));
+    }
     if matches!(format, DataFormat::Json | DataFormat::Ndjson) {
         header_ranges = table
             .names
@@ -349,6 +395,10 @@ fn profile_file(
                 byte_offset: None,
             }
         });
+    }
+    if let (ScanDepth::Full(progress), true) = (depth, in_memory) {
+        // a file read at once reports being done, like a streamed one
+        progress(1.0);
     }
     Ok(table.finish(
         Some(path.to_path_buf()),
@@ -514,9 +564,51 @@ impl ProfileCache {
         if let Some(profile) = self.cached(&key, true) {
             return Ok(profile);
         }
+        let _claim = match self.claim_full_scan(&key, progress) {
+            Ok(claim) => claim,
+            Err(ClaimOutcome::ScannedByAnother(profile)) => return Ok(profile),
+            Err(ClaimOutcome::Cancelled) => {
+                return Err(super::csv_reader::cancelled_error(Some(&key.path)))
+            }
+        };
         let profile = Arc::new(profile_file(&key.path, read, ScanDepth::Full(progress))?);
         self.store(key, &profile);
         Ok(profile)
+    }
+
+    /// Claim the full scan of `key`, or wait while another caller scans it (reporting no
+    /// progress, and giving up when `progress` says cancel).
+    fn claim_full_scan(
+        &self,
+        key: &CacheKey,
+        progress: &dyn Fn(f64) -> bool,
+    ) -> Result<ScanClaim<'_>, ClaimOutcome> {
+        loop {
+            {
+                let mut in_flight = self
+                    .scans_in_flight
+                    .lock()
+                    .unwrap_or_else(|poisoned| poisoned.into_inner());
+                if !in_flight.contains(key) {
+                    in_flight.insert(key.clone());
+                    return Ok(ScanClaim {
+                        cache: self,
+                        key: key.clone(),
+                    });
+                }
+                // another caller scans this file: wait a little (the lock is released while
+                // waiting and dropped before `progress` runs)
+                let _ = self
+                    .scan_finished
+                    .wait_timeout(in_flight, Duration::from_millis(50));
+            }
+            if let Some(profile) = self.cached(key, true) {
+                return Err(ClaimOutcome::ScannedByAnother(profile));
+            }
+            if !progress(0.0) {
+                return Err(ClaimOutcome::Cancelled);
+            }
+        }
     }
 
     /// The full profile if it is cached and current (for the editor, after a background scan).

@@ -477,6 +477,9 @@ pub fn read_header<R: Read>(
 pub struct ScanControl {
     pub cancelled: AtomicBool,
     pub bytes_done: AtomicU64,
+    /// The input is a head cut from a longer file: a last record left inside an open quote
+    /// is the cut's doing, not the file's, and is dropped.
+    pub truncated_input: bool,
 }
 
 /// What one scan of a byte range produced.
@@ -520,6 +523,9 @@ pub fn scan_records<R: Read>(
             .next_record(limit)
             .map_err(|error| io_error(path, &error))?;
         let Some(record) = record else { break };
+        if record.unterminated_quote && control.truncated_input {
+            break;
+        }
         table.rows += 1;
         let cell_count = reader.field_count();
         if record.unterminated_quote {
@@ -715,6 +721,7 @@ pub fn scan_bytes(
     bytes: &[u8],
     delimiter: u8,
     path: Option<&Path>,
+    truncated: bool,
 ) -> Result<(Header, TableAccumulator), DataError> {
     let bom = if bytes.starts_with(&[0xEF, 0xBB, 0xBF]) {
         3
@@ -723,7 +730,10 @@ pub fn scan_bytes(
     };
     let header = read_header(&bytes[bom..], bom as u64, delimiter, path)?;
     let data_start = header.data_start as usize;
-    let control = ScanControl::default();
+    let control = ScanControl {
+        truncated_input: truncated,
+        ..ScanControl::default()
+    };
     let mut scan = scan_records(
         bytes.get(data_start..).unwrap_or(&[]),
         header.data_start,

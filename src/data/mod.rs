@@ -44,7 +44,8 @@ pub struct NumericSummary {
     pub min: f64,
     pub max: f64,
     pub mean: f64,
-    /// Equal-width bins from `min` to `max`.
+    /// Equal-width bins from `min` to `max`: ten, or one per integer when all values are
+    /// integers spanning fewer than ten (see `profile::histogram_bin_count`).
     pub histogram: Vec<u64>,
 }
 
@@ -59,7 +60,7 @@ pub struct ColumnProfile {
     /// Whether zero is meaningful, when that can be told (units, year-like values).
     pub zero: Option<ZeroMeaning>,
     pub rows: u64,
-    /// Empty, `NA`, `null`, ... cells.
+    /// Empty, `NA`, `null`, ... cells (the list is in `infer`), and cells a row lacks.
     pub missing: u64,
     pub distinct: DistinctCount,
     /// Summary of the values that are numbers (also for non-numeric columns with some numbers).

@@ -85,7 +85,7 @@ pub fn resolve_source_path(written: &str, options: &ResolveOptions) -> Result<Pa
                 return Err(path_error(
                     DataErrorKind::OutsideWorkspace,
                     format!(
-                        "`{written}` resolves to {}, outside the workspace {}; reading it needs explicit permission",
+                        "`{written}` resolves to {}, outside the workspace {}; allow it with `allow-outside-workspace = true` under `[data]` in markwell.toml (or `--allow-outside-workspace`)",
                         canonical.display(),
                         canonical_root.display()
                     ),

@@ -11,11 +11,16 @@ mod emphasis_order;
 mod kind_conflict;
 mod levels_mismatch;
 mod log_of_nonpositive;
+mod low_contrast_mark;
 mod magnitude_of_interval;
 mod missing_source;
 mod negative_area;
 mod ordered_channel_for_categories;
+mod palette_cvd_collision;
+mod palette_too_short;
+mod palette_too_similar;
 pub mod part_to_whole_invalid;
+mod ramp_not_monotonic;
 mod sparse_column;
 mod stacked_comparison;
 mod summary_on_categorical;
@@ -171,6 +176,11 @@ pub fn registry() -> &'static [Rule] {
         too_many_hues::RULE,
         too_many_shapes::RULE,
         too_many_slices::RULE,
+        palette_too_similar::RULE,
+        palette_cvd_collision::RULE,
+        ramp_not_monotonic::RULE,
+        low_contrast_mark::RULE,
+        palette_too_short::RULE,
     ];
     RULES
 }
