@@ -258,3 +258,51 @@ async def test_document_symbols_outline_layers_and_bindings(client: LanguageClie
     assert symbols and all(isinstance(s, types.DocumentSymbol) for s in symbols), symbols
     layer = next(s for s in symbols if s.detail == "bar")
     assert [child.name for child in layer.children] == ["x", "y"]
+
+
+async def test_large_data_reports_work_done_progress(client: LanguageClient):
+    """A data file far larger than the sampled head: the server publishes diagnostics from a
+    sample first, then profiles the whole file in the background. When the declared client
+    capabilities include window.workDoneProgress, a scan longer than 0.5 s is reported with
+    $/progress; pytest-lsp checks that each token was created first (window/workDoneProgress/create)
+    and that the client declared the capability."""
+    rows = []
+    size = 0
+    index = 0
+    while size < 24 * 1024 * 1024:
+        row = f"2026-{index % 12 + 1:02},Harbour Loop {index % 5},{1000 + index % 997}\n"
+        rows.append(row)
+        size += len(row)
+        index += 1
+    (client.root / "crossings-big.csv").write_text("month,route,passengers\n" + "".join(rows), encoding="utf-8")
+    text = '{\n  "source": { "path": "crossings-big.csv" },\n  "mark": "bar",\n  "bind": { "x": "route", "y": "passengers" }\n}\n'
+    started = asyncio.get_running_loop().time()
+    uri = await open_doc(client, "big.chart.json", text, "chartspec")
+    first_diagnostics = asyncio.get_running_loop().time() - started
+    supports = bool(client.init_result and getattr(
+        pytest_lsp.client_capabilities(CLIENT_CAPS).window, "work_done_progress", False))
+    # wait for the full profile: the hover on `passengers` counts every row
+    position = types.Position(line=3, character=text.splitlines()[3].index('"passengers"') + 1)
+    deadline = asyncio.get_running_loop().time() + 100
+    while True:
+        hover = await asyncio.wait_for(
+            client.text_document_hover_async(
+                types.HoverParams(text_document=types.TextDocumentIdentifier(uri=uri), position=position)
+            ),
+            TIMEOUT_S,
+        )
+        if hover and f"rows: {index}," in hover.contents.value:
+            break
+        assert asyncio.get_running_loop().time() < deadline, hover
+        await asyncio.sleep(0.1)
+    full_profile = asyncio.get_running_loop().time() - started
+    await asyncio.sleep(0.3)
+    if supports and full_profile - first_diagnostics > 1.5:
+        assert client.progress_reports, "a scan this long crossed the 0.5 s threshold"
+    for token, reports in client.progress_reports.items():
+        kinds = [report.kind for report in reports]
+        assert kinds[0] == "begin" and kinds[-1] == "end", (token, kinds)
+        percentages = [r.percentage for r in reports if getattr(r, "percentage", None) is not None]
+        assert percentages == sorted(percentages) and all(0 <= p <= 100 for p in percentages)
+    if not supports:
+        assert not client.progress_reports
