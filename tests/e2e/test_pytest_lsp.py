@@ -296,6 +296,7 @@ async def test_large_data_reports_work_done_progress(client: LanguageClient):
         assert asyncio.get_running_loop().time() < deadline, hover
         await asyncio.sleep(0.1)
     full_profile = asyncio.get_running_loop().time() - started
+    print(f"first diagnostics {first_diagnostics:.2f}s, full profile {full_profile:.2f}s, progress tokens {len(client.progress_reports)}, supports {supports}")
     await asyncio.sleep(0.3)
     if supports and full_profile - first_diagnostics > 1.5:
         assert client.progress_reports, "a scan this long crossed the 0.5 s threshold"
