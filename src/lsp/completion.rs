@@ -1,18 +1,14 @@
 //! Completion: what to offer at a byte offset (keys valid in the enclosing object, enum values of
 //! the key being written, column names from the data profiles), as a pure function of the syntax
-//! tree, the model and the profiles. `to_lsp_item` converts at the edge.
+//! tree, the model and the profiles (`convert::to_completion_item` turns candidates into lsp-types).
 //!
 //! Keys, enum values and their descriptions come from the bundled JSON Schema
 //! (`schema/chart-spec.schema.json`, through `spec::schema`), so completion cannot drift from
 //! what the checker accepts.
 
-use tower_lsp::lsp_types as lsp;
-
 use crate::analysis::ParsedDocument;
 use crate::data::DataContext;
-use crate::lsp::convert::to_lsp_range;
 use crate::lsp::features::{column_brief, profile_of, ColumnReference};
-use crate::positions::{LineIndex, PositionEncoding};
 use crate::spec::schema::{description_at_path, enum_values_at_path, keys_at_path, PathSegment};
 use crate::syntax::{Node, NodeKind, TokenKind};
 use crate::text_range::TextRange;
@@ -319,29 +315,6 @@ fn column_candidates(
             }
         })
         .collect()
-}
-
-pub fn to_lsp_item(
-    candidate: CompletionCandidate,
-    index: &LineIndex,
-    encoding: PositionEncoding,
-) -> lsp::CompletionItem {
-    let kind = match candidate.kind {
-        CandidateKind::Key => lsp::CompletionItemKind::PROPERTY,
-        CandidateKind::EnumValue => lsp::CompletionItemKind::ENUM_MEMBER,
-        CandidateKind::Column => lsp::CompletionItemKind::FIELD,
-    };
-    lsp::CompletionItem {
-        label: candidate.label,
-        kind: Some(kind),
-        detail: candidate.detail,
-        insert_text_format: Some(lsp::InsertTextFormat::PLAIN_TEXT),
-        text_edit: Some(lsp::CompletionTextEdit::Edit(lsp::TextEdit {
-            range: to_lsp_range(index, candidate.replace_range, encoding),
-            new_text: candidate.insert_text,
-        })),
-        ..lsp::CompletionItem::default()
-    }
 }
 
 #[cfg(test)]

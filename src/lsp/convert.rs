@@ -8,6 +8,7 @@ use serde::{Deserialize, Serialize};
 use tower_lsp::lsp_types as lsp;
 
 use crate::diagnostic::{Diagnostic, Fix, FixKind, RelatedTarget, Severity};
+use crate::lsp::completion::{CandidateKind, CompletionCandidate};
 use crate::lsp::features::{OutlineEntry, OutlineKind};
 use crate::positions::{LineIndex, LinePosition, PositionEncoding};
 use crate::text_range::TextRange;
@@ -223,6 +224,29 @@ pub fn to_document_symbol(
         } else {
             Some(children)
         },
+    }
+}
+
+pub fn to_completion_item(
+    candidate: CompletionCandidate,
+    index: &LineIndex,
+    encoding: PositionEncoding,
+) -> lsp::CompletionItem {
+    let kind = match candidate.kind {
+        CandidateKind::Key => lsp::CompletionItemKind::PROPERTY,
+        CandidateKind::EnumValue => lsp::CompletionItemKind::ENUM_MEMBER,
+        CandidateKind::Column => lsp::CompletionItemKind::FIELD,
+    };
+    lsp::CompletionItem {
+        label: candidate.label,
+        kind: Some(kind),
+        detail: candidate.detail,
+        insert_text_format: Some(lsp::InsertTextFormat::PLAIN_TEXT),
+        text_edit: Some(lsp::CompletionTextEdit::Edit(lsp::TextEdit {
+            range: to_lsp_range(index, candidate.replace_range, encoding),
+            new_text: candidate.insert_text,
+        })),
+        ..lsp::CompletionItem::default()
     }
 }
 

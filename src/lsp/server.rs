@@ -955,7 +955,7 @@ impl LanguageServer for Backend {
             let candidates = completion::complete_at(&outcome.parsed, &outcome.data, offset);
             let items: Vec<lsp::CompletionItem> = candidates
                 .into_iter()
-                .map(|candidate| completion::to_lsp_item(candidate, index, encoding))
+                .map(|candidate| convert::to_completion_item(candidate, index, encoding))
                 .collect();
             Some(lsp::CompletionResponse::Array(items))
         })
