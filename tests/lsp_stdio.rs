@@ -892,3 +892,75 @@ fn definition_inlay_hints_and_column_completion_use_the_data_profile() {
     assert_eq!(labels, ["month", "route", "passengers", "delay_min"]);
     assert!(client.finish().success());
 }
+
+#[test]
+fn every_request_answers_without_error_all_over_the_demo_specs() {
+    let demo = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+    let mut specs: Vec<PathBuf> = std::fs::read_dir(&demo)
+        .expect("demo-data folder")
+        .flatten()
+        .map(|entry| entry.path())
+        .filter(|path| path.to_string_lossy().ends_with(".chart.json"))
+        .collect();
+    specs.sort();
+    assert!(specs.len() >= 3, "demo specs: {specs:?}");
+    let mut client = start();
+    client.initialize(json!({}), Some(&file_uri(&demo)));
+    let mut requests = 0;
+    for spec in &specs {
+        let text = std::fs::read_to_string(spec).expect("demo spec");
+        let uri = file_uri(spec);
+        client.open(&uri, &text, 1);
+        client.wait_for_publish(&uri, 1);
+        for (line_number, line) in text.split('\n').enumerate() {
+            // every third UTF-16 position of the line, and one past its end
+            let units = lsp_client::utf16_len(line);
+            for character in (0..=units + 1).step_by(3) {
+                let position = json!({"line": line_number, "character": character});
+                for method in [
+                    "textDocument/hover",
+                    "textDocument/completion",
+                    "textDocument/definition",
+                ] {
+                    let response = client.request(
+                        method,
+                        json!({"textDocument": {"uri": uri}, "position": position}),
+                    );
+                    assert!(
+                        response.get("error").is_none(),
+                        "{method} at {position} in {}: {response}",
+                        spec.display()
+                    );
+                    requests += 1;
+                }
+                let range = json!({"start": position, "end": position});
+                let actions = client.request(
+                    "textDocument/codeAction",
+                    json!({"textDocument": {"uri": uri}, "range": range, "context": {"diagnostics": []}}),
+                );
+                assert!(actions.get("error").is_none(), "{actions}");
+                requests += 1;
+            }
+        }
+        for method in ["textDocument/documentSymbol", "textDocument/documentColor"] {
+            let response = client.request(method, json!({"textDocument": {"uri": uri}}));
+            assert!(response.get("error").is_none(), "{method}: {response}");
+        }
+        let hints = client.request(
+            "textDocument/inlayHint",
+            json!({"textDocument": {"uri": uri}, "range": {"start": {"line": 0, "character": 0}, "end": {"line": 9999, "character": 0}}}),
+        );
+        assert!(hints.get("error").is_none(), "{hints}");
+        client.notify(
+            "textDocument/didClose",
+            json!({"textDocument": {"uri": uri}}),
+        );
+    }
+    eprintln!(
+        "{requests} position requests over {} demo specs",
+        specs.len()
+    );
+    client.settle(Duration::from_millis(200));
+    let _ = client.take_queued("textDocument/publishDiagnostics");
+    assert!(client.finish().success());
+}
