@@ -429,4 +429,54 @@ mod tests {
             Utf8
         );
     }
+
+    /// A naive reference: split into lines by the LSP rule, count the units before `offset`.
+    fn reference_position(text: &str, offset: usize, encoding: PositionEncoding) -> LinePosition {
+        let mut line = 0u32;
+        let mut line_start = 0usize;
+        let bytes = text.as_bytes();
+        let mut index = 0;
+        while index < offset {
+            let is_break = bytes[index] == b'\n'
+                || (bytes[index] == b'\r' && bytes.get(index + 1) != Some(&b'\n'));
+            if is_break {
+                line += 1;
+                line_start = index + 1;
+            }
+            index += 1;
+        }
+        let prefix = &text[line_start..offset];
+        let character = match encoding {
+            Utf8 => prefix.len(),
+            Utf16 => prefix.encode_utf16().count(),
+        };
+        LinePosition::new(line, character as u32)
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn agrees_with_a_naive_reference_on_random_texts(
+            pieces in proptest::collection::vec(
+                proptest::sample::select(vec!["a", "\n", "\r", "\r\n", "\u{1F600}", "\u{e9}", "\u{2028}", "\u{85}", "{", " "]),
+                0..60,
+            )
+        ) {
+            let text: String = pieces.concat();
+            let index = LineIndex::new(&text);
+            for encoding in [Utf8, Utf16] {
+                for (offset, _) in text.char_indices().chain([(text.len(), ' ')]) {
+                    // the LF of a CRLF belongs to the line break, not to a line
+                    let inside_crlf = offset > 0
+                        && text.as_bytes().get(offset) == Some(&b'\n')
+                        && text.as_bytes()[offset - 1] == b'\r';
+                    if inside_crlf {
+                        continue;
+                    }
+                    let position = index.position_of_offset(offset, encoding);
+                    proptest::prop_assert_eq!(position, reference_position(&text, offset, encoding));
+                    proptest::prop_assert_eq!(index.offset_of_position(position, encoding), offset);
+                }
+            }
+        }
+    }
 }

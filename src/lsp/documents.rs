@@ -204,4 +204,52 @@ mod tests {
         );
         assert_eq!(document.text(), "hello,\r\nworld!");
     }
+
+    /// UTF-16 position of a byte offset, lines split at \n, \r\n and \r (naive, for checking).
+    fn naive_utf16_position(text: &str, offset: usize) -> LinePosition {
+        let bytes = text.as_bytes();
+        let (mut line, mut line_start) = (0, 0);
+        for index in 0..offset {
+            if bytes[index] == b'\n'
+                || (bytes[index] == b'\r' && bytes.get(index + 1) != Some(&b'\n'))
+            {
+                line += 1;
+                line_start = index + 1;
+            }
+        }
+        LinePosition::new(line, text[line_start..offset].encode_utf16().count() as u32)
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn random_incremental_edits_match_plain_string_edits(
+            start_text in "[a\r\n\u{1F34F}\u{e9}\u{2028}{}\" ]{0,40}",
+            edits in proptest::collection::vec((0usize..64, 0usize..8, "[b\r\n\u{1F600}\u{2028}]{0,4}"), 1..12)
+        ) {
+            let mut document = OpenDocument::new(&start_text, 1, "chartspec".into());
+            let mut expected = start_text.clone();
+            for (step, (at, length, insert)) in edits.into_iter().enumerate() {
+                let boundaries: Vec<usize> = expected
+                    .char_indices()
+                    .map(|(offset, _)| offset)
+                    .chain([expected.len()])
+                    // not between the CR and the LF of a CRLF: no position names that byte
+                    .filter(|&offset| {
+                        !(offset > 0
+                            && expected.as_bytes().get(offset) == Some(&b'\n')
+                            && expected.as_bytes()[offset - 1] == b'\r')
+                    })
+                    .collect();
+                let start = boundaries[at % boundaries.len()];
+                let end = boundaries[(at % boundaries.len() + length).min(boundaries.len() - 1)];
+                let change = TextChange {
+                    range: Some((naive_utf16_position(&expected, start), naive_utf16_position(&expected, end))),
+                    text: insert.clone(),
+                };
+                document.apply_changes(2 + step as i32, vec![change], PositionEncoding::Utf16);
+                expected.replace_range(start..end, &insert);
+                proptest::prop_assert_eq!(document.text(), expected.as_str());
+            }
+        }
+    }
 }
