@@ -760,7 +760,8 @@ fn large_data_gets_a_sampled_profile_first_then_the_full_one_with_progress() {
     let mut client = start();
     client.timeout = Duration::from_secs(120);
     client.initialize(
-        json!({"window": {"workDoneProgress": true}}),
+        json!({"window": {"workDoneProgress": true},
+               "workspace": {"inlayHint": {"refreshSupport": true}}}),
         Some(&workspace.root_uri()),
     );
     let opened = Instant::now();
@@ -801,6 +802,16 @@ fn large_data_gets_a_sampled_profile_first_then_the_full_one_with_progress() {
     );
     // LSP 3.17 work done progress: create (server → client request), then begin / report* / end
     client.settle(Duration::from_millis(300));
+    // the value ranges of inlay hints changed with the full profile: the client is asked to
+    // fetch them again (LSP 3.17 workspace/inlayHint/refresh)
+    assert!(
+        client
+            .server_requests
+            .iter()
+            .any(|request| request["method"] == "workspace/inlayHint/refresh"),
+        "inlay hints refreshed: {:?}",
+        client.server_requests
+    );
     let progress = client.take_queued("$/progress");
     let created = client
         .server_requests

@@ -92,6 +92,7 @@ struct Session {
     supports_work_done_progress: bool,
     supports_configuration_request: bool,
     supports_watched_files_registration: bool,
+    supports_inlay_hint_refresh: bool,
     /// The configuration from files (`markwell.toml`), before editor settings.
     file_config: AnalysisConfig,
     /// `[data] allow-outside-workspace` of `markwell.toml`.
@@ -497,7 +498,7 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         };
         let encoding = lock(&state.session).encoding;
         let pending_full_scans = outcome.pending_full_scans.clone();
-        let to_publish = {
+        let (to_publish, full_profiles_arrived) = {
             let mut documents = lock(&state.documents);
             let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
                 return;
@@ -506,6 +507,10 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                 continue; // stale: analyse the newer text
             }
             record.data_paths = features::data_paths(&outcome.data);
+            // a full profile replaced a sample: the inlay hints (value ranges) are out of date
+            let full_profiles_arrived = record.document.latest.as_ref().is_some_and(|previous| {
+                previous.pending_full_scans.len() > outcome.pending_full_scans.len()
+            });
             let diagnostics: Vec<lsp::Diagnostic> = outcome
                 .diagnostics
                 .iter()
@@ -514,12 +519,13 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                 })
                 .collect();
             record.document.latest = Some(outcome);
-            if record.published.as_ref() == Some(&diagnostics) {
+            let to_publish = if record.published.as_ref() == Some(&diagnostics) {
                 None
             } else {
                 record.published = Some(diagnostics.clone());
                 Some(diagnostics)
-            }
+            };
+            (to_publish, full_profiles_arrived)
         };
         // still the loop's turn: no other loop publishes for this document meanwhile
         if let Some(diagnostics) = to_publish {
@@ -530,6 +536,14 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         }
         for (path, read) in pending_full_scans {
             start_full_scan(state.clone(), path, read);
+        }
+        if full_profiles_arrived && lock(&state.session).supports_inlay_hint_refresh {
+            let refreshed =
+                tokio::time::timeout(CLIENT_ANSWER_TIMEOUT, state.client.inlay_hint_refresh())
+                    .await;
+            if !matches!(refreshed, Ok(Ok(()))) {
+                log::info("workspace/inlayHint/refresh: no answer or an error from the client");
+            }
         }
         let mut documents = lock(&state.documents);
         let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
@@ -764,6 +778,10 @@ impl LanguageServer for Backend {
                 .unwrap_or(false);
             session.supports_configuration_request = workspace
                 .and_then(|workspace| workspace.configuration)
+                .unwrap_or(false);
+            session.supports_inlay_hint_refresh = workspace
+                .and_then(|workspace| workspace.inlay_hint.as_ref())
+                .and_then(|inlay| inlay.refresh_support)
                 .unwrap_or(false);
             session.supports_watched_files_registration = workspace
                 .and_then(|workspace| workspace.did_change_watched_files.as_ref())
