@@ -228,3 +228,25 @@ fn rules_and_explain_print_the_registry_and_docs() {
         assert!(docs.contains(section), "{docs}");
     }
 }
+
+#[test]
+fn the_active_ranking_is_selectable_and_checked() {
+    let demo = root().join("demo-data");
+    let default = markwell(&["check", "ferry-delay-size.chart.json"], &demo);
+    let text = String::from_utf8_lossy(&default.stdout);
+    assert!(text.contains("Mackinlay (1986)"), "{text}");
+    let munzner = markwell(
+        &[
+            "check",
+            "--ranking",
+            "munzner-2014",
+            "ferry-delay-size.chart.json",
+        ],
+        &demo,
+    );
+    let text = String::from_utf8_lossy(&munzner.stdout);
+    assert!(text.contains("Munzner (2014)"), "{text}");
+    let unknown = markwell(&["check", "--ranking", "alphabetical", "."], &demo);
+    assert_eq!(unknown.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&unknown.stderr).contains("mackinlay-1986"));
+}

@@ -70,6 +70,15 @@ pub fn run(args: &CheckArgs) -> u8 {
             }
         }
     }
+    if let Some(ranking) = &args.ranking {
+        if crate::knowledge::rankings::ranking_by_id(ranking).is_none() {
+            eprintln!(
+                "markwell: `--ranking {ranking}`: no such ranking; choose one of {}",
+                crate::knowledge::rankings::ranking_ids().join(", ")
+            );
+            return EXIT_TROUBLE;
+        }
+    }
     command_line_config.ranking = args.ranking.clone();
 
     let mut files = Vec::new();
