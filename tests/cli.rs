@@ -250,3 +250,16 @@ fn the_active_ranking_is_selectable_and_checked() {
     assert_eq!(unknown.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&unknown.stderr).contains("mackinlay-1986"));
 }
+
+#[test]
+fn a_spec_over_the_size_limit_is_refused_with_a_clear_error() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let path = dir.path().join("huge.chart.json");
+    let file = std::fs::File::create(&path).expect("create");
+    // a sparse 17 MiB file: over the 16 MiB limit without writing 17 MiB
+    file.set_len(17 * 1024 * 1024).expect("set length");
+    let output = markwell(&["check", "huge.chart.json"], dir.path());
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(stderr.contains("larger than 16 MiB"), "{stderr}");
+}

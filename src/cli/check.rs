@@ -12,8 +12,9 @@ use crate::diagnostic::{Diagnostic, Severity};
 use super::render::{render_human, render_json, CheckedFile};
 use super::{DenyLevel, OutputFormat, EXIT_CLEAN, EXIT_FINDINGS, EXIT_TROUBLE};
 
-/// Spec files larger than this are refused with a clear error rather than read.
-pub const MAX_SPEC_BYTES: u64 = 64 * 1024 * 1024;
+/// Spec files larger than this are refused with a clear error rather than read: real specs are
+/// kilobytes, and analysis holds several copies of the text (tree, model, schema instance).
+pub const MAX_SPEC_BYTES: u64 = 16 * 1024 * 1024;
 
 /// Suffix of chart-spec files when searching folders.
 pub const SPEC_SUFFIX: &str = ".chart.json";
