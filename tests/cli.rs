@@ -228,3 +228,38 @@ fn rules_and_explain_print_the_registry_and_docs() {
         assert!(docs.contains(section), "{docs}");
     }
 }
+
+#[test]
+fn the_active_ranking_is_selectable_and_checked() {
+    let demo = root().join("demo-data");
+    let default = markwell(&["check", "ferry-delay-size.chart.json"], &demo);
+    let text = String::from_utf8_lossy(&default.stdout);
+    assert!(text.contains("Mackinlay (1986)"), "{text}");
+    let munzner = markwell(
+        &[
+            "check",
+            "--ranking",
+            "munzner-2014",
+            "ferry-delay-size.chart.json",
+        ],
+        &demo,
+    );
+    let text = String::from_utf8_lossy(&munzner.stdout);
+    assert!(text.contains("Munzner (2014)"), "{text}");
+    let unknown = markwell(&["check", "--ranking", "alphabetical", "."], &demo);
+    assert_eq!(unknown.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&unknown.stderr).contains("mackinlay-1986"));
+}
+
+#[test]
+fn a_spec_over_the_size_limit_is_refused_with_a_clear_error() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let path = dir.path().join("huge.chart.json");
+    let file = std::fs::File::create(&path).expect("create");
+    // a sparse 17 MiB file: over the 16 MiB limit without writing 17 MiB
+    file.set_len(17 * 1024 * 1024).expect("set length");
+    let output = markwell(&["check", "huge.chart.json"], dir.path());
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(stderr.contains("larger than 16 MiB"), "{stderr}");
+}

@@ -75,9 +75,28 @@ pub fn parse_project_config(text: &str) -> Result<(ProjectConfig, Vec<String>), 
     let mut warnings = Vec::new();
     for (key, value) in &table {
         match (key.as_str(), value) {
-            ("ranking", toml::Value::String(id)) => config.analysis.ranking = Some(id.clone()),
+            ("ranking", toml::Value::String(id)) => {
+                if crate::knowledge::rankings::ranking_by_id(id).is_some() {
+                    config.analysis.ranking = Some(id.clone());
+                } else {
+                    warnings.push(format!(
+                        "ranking `{id}` does not exist; using the default. Choose one of {}",
+                        crate::knowledge::rankings::ranking_ids().join(", ")
+                    ));
+                }
+            }
             ("rules", toml::Value::Table(rules)) => {
                 for (rule, setting) in rules {
+                    if crate::analysis::rules::rule_by_id(rule).is_none() {
+                        let ids = crate::analysis::rules::registry().iter().map(|r| r.id);
+                        warnings.push(match crate::spec::suggest::closest_name(rule, ids) {
+                            Some(suggestion) => {
+                                format!("rules.{rule}: no such rule; did you mean `{suggestion}`?")
+                            }
+                            None => format!("rules.{rule}: no such rule (see `markwell rules`)"),
+                        });
+                        continue;
+                    }
                     match setting.as_str().map(parse_severity_setting) {
                         Some(Ok(severity)) => {
                             config
@@ -133,9 +152,14 @@ mod tests {
 
     #[test]
     fn bad_settings_are_warnings_and_bad_toml_an_error() {
-        let (_, warnings) =
-            parse_project_config("[rules]\nx = \"loud\"\ncolour = 1\n").unwrap_or_default();
-        assert_eq!(warnings.len(), 2, "{warnings:?}");
+        let (_, warnings) = parse_project_config(
+            "[rules]\nsparse-column = \"loud\"\nunknown-key = 1\nsparse-colum = \"off\"\n",
+        )
+        .unwrap_or_default();
+        assert_eq!(warnings.len(), 3, "{warnings:?}");
+        assert!(warnings
+            .iter()
+            .any(|w| w.contains("did you mean `sparse-column`")));
         assert!(parse_project_config("[rules").is_err());
     }
 }

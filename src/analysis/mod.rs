@@ -8,6 +8,7 @@
 pub mod channels;
 pub mod config;
 pub mod facts;
+pub mod refactor;
 pub mod rules;
 
 use std::collections::HashMap;

@@ -12,8 +12,9 @@ use crate::diagnostic::{Diagnostic, Severity};
 use super::render::{render_human, render_json, CheckedFile};
 use super::{DenyLevel, OutputFormat, EXIT_CLEAN, EXIT_FINDINGS, EXIT_TROUBLE};
 
-/// Spec files larger than this are refused with a clear error rather than read.
-pub const MAX_SPEC_BYTES: u64 = 64 * 1024 * 1024;
+/// Spec files larger than this are refused with a clear error rather than read: real specs are
+/// kilobytes, and analysis holds several copies of the text (tree, model, schema instance).
+pub const MAX_SPEC_BYTES: u64 = 16 * 1024 * 1024;
 
 /// Suffix of chart-spec files when searching folders.
 pub const SPEC_SUFFIX: &str = ".chart.json";
@@ -68,6 +69,15 @@ pub fn run(args: &CheckArgs) -> u8 {
                 eprintln!("markwell: `--severity {setting}`: {message}");
                 return EXIT_TROUBLE;
             }
+        }
+    }
+    if let Some(ranking) = &args.ranking {
+        if crate::knowledge::rankings::ranking_by_id(ranking).is_none() {
+            eprintln!(
+                "markwell: `--ranking {ranking}`: no such ranking; choose one of {}",
+                crate::knowledge::rankings::ranking_ids().join(", ")
+            );
+            return EXIT_TROUBLE;
         }
     }
     command_line_config.ranking = args.ranking.clone();

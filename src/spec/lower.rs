@@ -99,6 +99,21 @@ fn opening_brace_range(node: Node<'_>) -> TextRange {
     TextRange::new(start, (start + 1).min(node.range().end))
 }
 
+/// The members of an object with a value, key decoded, in document order. Each lowering
+/// function walks them once and dispatches on the key (repeated `get` calls would decode every
+/// key once per lookup); the first of duplicate keys wins, as everywhere else.
+fn entries<'t>(node: Node<'t>) -> impl Iterator<Item = (std::borrow::Cow<'t, str>, Node<'t>)> {
+    node.members()
+        .filter_map(|member| Some((member.key_text()?, member.value()?)))
+}
+
+/// Set `slot` from `value` unless an earlier duplicate key already did.
+fn first<T>(slot: &mut Option<T>, value: Option<T>) {
+    if slot.is_none() {
+        *slot = value;
+    }
+}
+
 fn lower_string(node: Node<'_>) -> Option<Spanned<String>> {
     node.as_str()
         .map(|text| Spanned::new(text.into_owned(), node.range()))
@@ -237,33 +252,54 @@ fn lower_panels(node: Node<'_>) -> Option<Panels> {
 
 /// Lower a layer. `node` holds `mark`, `bind`, ...; for a single-layer chart it is the root.
 fn lower_layer(index: usize, node: Node<'_>, range_node: Node<'_>) -> Layer {
-    let bind = node
-        .get("bind")
-        .filter(|bind| bind.kind() == NodeKind::Object);
-    Layer {
+    let mut layer = Layer {
         index,
         range: range_node.range(),
-        mark: node
-            .get("mark")
-            .and_then(|mark| lower_keyword(mark, Mark::parse)),
-        bind_range: bind.map(|bind| bind.range()),
-        bindings: bind.map(lower_bindings).unwrap_or_default(),
-        arrange: node
-            .get("arrange")
-            .and_then(|arrange| lower_keyword(arrange, Arrange::parse)),
-        style: node.get("style").map(lower_style).unwrap_or_default(),
-        source: node.get("source").and_then(lower_source),
+        mark: None,
+        bind_range: None,
+        bindings: Vec::new(),
+        arrange: None,
+        style: Style::default(),
+        source: None,
+    };
+    let (mut bind_seen, mut style_seen) = (false, false);
+    for (key, value) in entries(node) {
+        match key.as_ref() {
+            "mark" => first(&mut layer.mark, lower_keyword(value, Mark::parse)),
+            "arrange" => first(&mut layer.arrange, lower_keyword(value, Arrange::parse)),
+            "source" => first(&mut layer.source, lower_source(value)),
+            "bind" if !bind_seen => {
+                bind_seen = true;
+                if value.kind() == NodeKind::Object {
+                    layer.bind_range = Some(value.range());
+                    layer.bindings = lower_bindings(value);
+                }
+            }
+            "style" if !style_seen => {
+                style_seen = true;
+                layer.style = lower_style(value);
+            }
+            _ => {}
+        }
     }
+    layer
 }
 
 fn lower_style(node: Node<'_>) -> Style {
-    Style {
+    let mut style = Style {
         range: Some(node.range()),
-        color: node.get("color").and_then(lower_string),
-        opacity: node.get("opacity").and_then(lower_number),
-        radius: node.get("radius").and_then(lower_number),
-        stroke_width: node.get("stroke-width").and_then(lower_number),
+        ..Style::default()
+    };
+    for (key, value) in entries(node) {
+        match key.as_ref() {
+            "color" => first(&mut style.color, lower_string(value)),
+            "opacity" => first(&mut style.opacity, lower_number(value)),
+            "radius" => first(&mut style.radius, lower_number(value)),
+            "stroke-width" => first(&mut style.stroke_width, lower_number(value)),
+            _ => {}
+        }
     }
+    style
 }
 
 fn lower_bindings(bind: Node<'_>) -> Vec<Binding> {
@@ -299,20 +335,26 @@ fn lower_bindings(bind: Node<'_>) -> Vec<Binding> {
                 binding.column = lower_string(value).filter(|column| !column.value.is_empty());
             }
             NodeKind::Object => {
-                binding.column = value
-                    .get("column")
-                    .and_then(lower_string)
-                    .filter(|column| !column.value.is_empty());
-                binding.summary = value
-                    .get("summary")
-                    .and_then(|summary| lower_keyword(summary, Summary::parse));
-                binding.bins = value.get("bins").and_then(lower_count);
-                binding.scale = value.get("scale").and_then(lower_scale);
-                binding.palette = value.get("palette").and_then(|palette| {
-                    (palette.kind() == NodeKind::Array)
-                        .then(|| Spanned::new(lower_string_array(palette), palette.range()))
-                });
-                binding.order = value.get("order").and_then(lower_order);
+                for (key, field) in entries(value) {
+                    match key.as_ref() {
+                        "column" => first(
+                            &mut binding.column,
+                            lower_string(field).filter(|column| !column.value.is_empty()),
+                        ),
+                        "summary" => {
+                            first(&mut binding.summary, lower_keyword(field, Summary::parse))
+                        }
+                        "bins" => first(&mut binding.bins, lower_count(field)),
+                        "scale" => first(&mut binding.scale, lower_scale(field)),
+                        "palette" => first(
+                            &mut binding.palette,
+                            (field.kind() == NodeKind::Array)
+                                .then(|| Spanned::new(lower_string_array(field), field.range())),
+                        ),
+                        "order" => first(&mut binding.order, lower_order(field)),
+                        _ => {}
+                    }
+                }
             }
             _ => continue,
         }
@@ -325,27 +367,37 @@ fn lower_scale(node: Node<'_>) -> Option<Scale> {
     if node.kind() != NodeKind::Object {
         return None;
     }
-    let domain = node.get("domain").and_then(|domain| {
-        let bounds: Vec<f64> = domain
-            .elements()
-            .filter_map(|bound| bound.as_f64())
-            .collect();
-        match bounds.as_slice() {
-            [low, high] if domain.elements().count() == 2 => {
-                Some(Spanned::new((*low, *high), domain.range()))
-            }
-            _ => None,
-        }
-    });
-    Some(Scale {
+    let mut scale = Scale {
         range: node.range(),
-        scale_type: node
-            .get("type")
-            .and_then(|scale_type| lower_keyword(scale_type, ScaleType::parse)),
-        domain,
-        zero: node.get("zero").and_then(lower_bool),
-        reverse: node.get("reverse").and_then(lower_bool),
-    })
+        scale_type: None,
+        domain: None,
+        zero: None,
+        reverse: None,
+    };
+    for (key, value) in entries(node) {
+        match key.as_ref() {
+            "type" => first(
+                &mut scale.scale_type,
+                lower_keyword(value, ScaleType::parse),
+            ),
+            "zero" => first(&mut scale.zero, lower_bool(value)),
+            "reverse" => first(&mut scale.reverse, lower_bool(value)),
+            "domain" => first(&mut scale.domain, lower_domain(value)),
+            _ => {}
+        }
+    }
+    Some(scale)
+}
+
+/// `[low, high]`: exactly two numbers.
+fn lower_domain(node: Node<'_>) -> Option<Spanned<(f64, f64)>> {
+    let mut elements = node.elements();
+    let low = elements.next()?.as_f64()?;
+    let high = elements.next()?.as_f64()?;
+    if elements.next().is_some() {
+        return None;
+    }
+    Some(Spanned::new((low, high), node.range()))
 }
 
 fn lower_order(node: Node<'_>) -> Option<Spanned<SortOrder>> {
