@@ -975,3 +975,53 @@ fn every_request_answers_without_error_all_over_the_demo_specs() {
     let _ = client.take_queued("textDocument/publishDiagnostics");
     assert!(client.finish().success());
 }
+
+#[test]
+fn swap_channels_refactor_round_trip() {
+    let workspace = Workspace::new();
+    let uri = workspace.uri("swap.chart.json");
+    let text = "{\n  \"source\": { \"path\": \"crossings.csv\" },\n  \"mark\": \"point\",\n  \"bind\": { \"x\": \"delay_min\", \"y\": \"passengers\" }\n}\n";
+    let mut client = start();
+    client.initialize(json!({}), Some(&workspace.root_uri()));
+    client.open(&uri, text, 1);
+    client.wait_for_publish(&uri, 1);
+    let cursor = range_of(text, "\"y\"");
+    let actions = client.request_result(
+        "textDocument/codeAction",
+        json!({"textDocument": {"uri": uri}, "range": {"start": cursor["start"], "end": cursor["start"]},
+               "context": {"diagnostics": [], "only": ["refactor"]}}),
+    );
+    let actions = actions.as_array().expect("code actions");
+    assert!(
+        actions.iter().all(|action| action["kind"] == "refactor"),
+        "{actions:#?}"
+    );
+    let swap = actions
+        .iter()
+        .find(|action| {
+            action["title"]
+                .as_str()
+                .is_some_and(|title| title.starts_with("swap"))
+        })
+        .unwrap_or_else(|| panic!("a swap refactor: {actions:#?}"));
+    let edits = swap["edit"]["changes"][&uri].as_array().expect("edits");
+    let swapped = apply_lsp_edits(text, edits);
+    assert!(
+        swapped.contains("\"y\": \"delay_min\", \"x\": \"passengers\""),
+        "{swapped}"
+    );
+    client.change_full(&uri, 2, &swapped);
+    client.settle(Duration::from_millis(300));
+    let _ = client.take_queued("textDocument/publishDiagnostics");
+    let symbols = client.request_result(
+        "textDocument/documentSymbol",
+        json!({"textDocument": {"uri": uri}}),
+    );
+    let chart = symbols
+        .as_array()
+        .and_then(|symbols| symbols.iter().find(|symbol| symbol["detail"] == "point"))
+        .expect("the layer");
+    assert_eq!(chart["children"][0]["name"], "y");
+    assert_eq!(chart["children"][0]["detail"], "delay_min");
+    assert!(client.finish().success());
+}

@@ -183,6 +183,38 @@ pub fn code_actions(
     actions
 }
 
+/// Code actions for fixes the user asks for at a range (refactors such as swapping channels),
+/// tied to no diagnostic.
+pub fn refactor_actions(
+    fixes: &[Fix],
+    uri: &lsp::Url,
+    index: &LineIndex,
+    encoding: PositionEncoding,
+) -> Vec<lsp::CodeActionOrCommand> {
+    fixes
+        .iter()
+        .map(|fix| {
+            let payload = fix_payload(fix, index, encoding);
+            let mut changes = HashMap::new();
+            changes.insert(uri.clone(), payload.edits);
+            lsp::CodeActionOrCommand::CodeAction(lsp::CodeAction {
+                title: fix.title.clone(),
+                kind: Some(code_action_kind(fix.kind)),
+                diagnostics: None,
+                edit: Some(lsp::WorkspaceEdit {
+                    changes: Some(changes),
+                    document_changes: None,
+                    change_annotations: None,
+                }),
+                command: None,
+                is_preferred: None,
+                disabled: None,
+                data: None,
+            })
+        })
+        .collect()
+}
+
 fn symbol_kind(kind: OutlineKind) -> lsp::SymbolKind {
     match kind {
         OutlineKind::Title => lsp::SymbolKind::STRING,

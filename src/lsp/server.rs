@@ -30,6 +30,7 @@ use tower_lsp::lsp_types as lsp;
 use tower_lsp::{Client, LanguageServer};
 
 use crate::analysis::config::{parse_project_config, ProjectConfig, CONFIG_FILE_NAME};
+use crate::analysis::refactor::refactors_at;
 use crate::analysis::{analyze, parse_document, AnalysisConfig};
 use crate::data::{DataContext, ProfileCache, ReadOptions, ResolveOptions};
 use crate::lsp::completion;
@@ -988,11 +989,15 @@ impl LanguageServer for Backend {
             return Ok(None);
         };
         let encoding = self.encoding();
+        let config = lock(&self.state.session).config.clone();
         guarded("textDocument/codeAction", || {
             let index = &outcome.index;
             let requested = convert::from_lsp_range(index, params.range, encoding);
+            // fixes computed with the diagnostics, then the refactors asked for at the range
             let mut actions =
                 convert::code_actions(&outcome.diagnostics, requested, &uri, index, encoding);
+            let refactors = refactors_at(&outcome.parsed, &outcome.data, &config, requested);
+            actions.extend(convert::refactor_actions(&refactors, &uri, index, encoding));
             if let Some(only) = &params.context.only {
                 actions.retain(|action| match action {
                     lsp::CodeActionOrCommand::CodeAction(action) => {
