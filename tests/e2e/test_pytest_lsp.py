@@ -43,6 +43,13 @@ async def client(lsp_client: LanguageClient, tmp_path_factory):
         lsp_client.registrations = getattr(lsp_client, "registrations", []) + list(params.registrations)
         return None
 
+    # profiles that declare workspace.inlayHint.refreshSupport (nvim 0.11) get this request when
+    # a full data profile replaces a sample; pytest-lsp has no handler of its own for it
+    @lsp_client.feature(types.WORKSPACE_INLAY_HINT_REFRESH)
+    def inlay_hint_refresh(params):
+        lsp_client.inlay_hint_refreshes = getattr(lsp_client, "inlay_hint_refreshes", 0) + 1
+        return None
+
     params = types.InitializeParams(
         capabilities=pytest_lsp.client_capabilities(CLIENT_CAPS),
         root_uri=root.as_uri(),
