@@ -225,8 +225,15 @@ pub fn document_colours(spec: &ChartSpec) -> Vec<ColourOccurrence> {
         .into_iter()
         .filter_map(|string| {
             let colour = parse_hex_colour(&string.value)?;
+            // a hex colour has no escapes: its text follows the opening quote byte for byte
+            // (this also holds for an unterminated string, which lacks the closing quote)
+            let start = string.range.start + 1;
+            let end = start + string.value.len();
+            if end > string.range.end {
+                return None;
+            }
             Some(ColourOccurrence {
-                range: inside_quotes(string.range),
+                range: TextRange::new(start, end),
                 colour,
             })
         })
@@ -234,15 +241,6 @@ pub fn document_colours(spec: &ChartSpec) -> Vec<ColourOccurrence> {
     out.sort_by_key(|occurrence| occurrence.range.start);
     out.dedup_by_key(|occurrence| occurrence.range);
     out
-}
-
-/// The range of a string literal without its quotes (ranges of spanned strings include them).
-fn inside_quotes(range: TextRange) -> TextRange {
-    if range.len() >= 2 {
-        TextRange::new(range.start + 1, range.end - 1)
-    } else {
-        range
-    }
 }
 
 /// Where a spec names a data column, and which source the name resolves against.
