@@ -62,14 +62,14 @@ fn sarif_log_of_the_demo_validates_against_the_sarif_2_1_0_schema() {
 
     // second opinion: the Python reference implementation on the unmodified schema
     let script = "import json,sys,jsonschema; s=json.load(open(sys.argv[1])); l=json.load(sys.stdin); jsonschema.Draft4Validator.check_schema(s); errs=list(jsonschema.Draft4Validator(s).iter_errors(l)); print(len(errs)); [print(e.message) for e in errs[:5]]";
-    let mut python = Command::new("python3")
+    let mut python = Command::new(python())
         .arg("-c")
         .arg(script)
         .arg(root().join("tests/sarif/sarif-2.1.0-rtm.5.json"))
         .stdin(std::process::Stdio::piped())
         .stdout(std::process::Stdio::piped())
         .spawn()
-        .expect("python3 runs");
+        .expect("python runs (set MARKWELL_PYTHON or install python3)");
     if let Some(mut stdin) = python.stdin.take() {
         use std::io::Write;
         stdin.write_all(&output.stdout).expect("write log");
@@ -104,4 +104,10 @@ fn sarif_log_of_the_demo_validates_against_the_sarif_2_1_0_schema() {
         typo["fixes"][0]["artifactChanges"][0]["replacements"][0]["insertedContent"]["text"],
         "\"color\""
     );
+}
+
+/// The Python with the reference packages: `MARKWELL_PYTHON` (set by `.ci/test` to the venv
+/// that `.ci/setup` fills), else `python3`.
+fn python() -> String {
+    std::env::var("MARKWELL_PYTHON").unwrap_or_else(|_| "python3".to_string())
 }

@@ -63,18 +63,18 @@ print("ok", len(sys.argv) - 2)
         .into_iter()
         .filter(|path| schema_valid_demo(path))
         .collect();
-    let output = Command::new("python3")
+    let output = Command::new(python())
         .arg("-c")
         .arg(script)
         .arg(root().join("schema/chart-spec.schema.json"))
         .args(&valid)
         .output()
-        .expect("python3 runs");
+        .expect("python runs (set MARKWELL_PYTHON or install python3)");
     let stdout = String::from_utf8_lossy(&output.stdout);
     let stderr = String::from_utf8_lossy(&output.stderr);
     assert!(
         output.status.success(),
-        "python jsonschema check failed (install with `pip install jsonschema`): {stdout}{stderr}"
+        "python jsonschema check failed (run `bash .ci/setup`, which installs it): {stdout}{stderr}"
     );
     assert_eq!(stdout.trim(), format!("ok {}", valid.len()));
 }
@@ -165,4 +165,10 @@ fn walk(root: &Value, node: &Value, path: &str, missing: &mut Vec<String>) {
             walk(root, child, &format!("{path}/{keyword}"), missing);
         }
     }
+}
+
+/// The Python with the reference packages: `MARKWELL_PYTHON` (set by `.ci/test` to the venv
+/// that `.ci/setup` fills), else `python3`.
+fn python() -> String {
+    std::env::var("MARKWELL_PYTHON").unwrap_or_else(|_| "python3".to_string())
 }
