@@ -220,3 +220,46 @@ pub fn magnitude_binding<'l, 'a>(layer: &'l LayerFacts<'a>) -> Option<&'l Bindin
         _ => None,
     }
 }
+
+/// Every binding whose channel misleads for its kind for `reason`, with the free channel that
+/// would express it (the first of the mark's channels that does, label left out): the shared
+/// walk of the two expressiveness rules.
+pub fn misleading_bindings<'c, 'a>(
+    spec: &ChartSpec,
+    layers: &'c [LayerFacts<'a>],
+    reason: crate::knowledge::expressiveness::MisleadingReason,
+) -> Vec<MisleadingBinding<'c, 'a>> {
+    use crate::knowledge::expressiveness::{expresses, Expressiveness};
+    let mut found = Vec::new();
+    for layer in layers {
+        for facts in &layer.bindings {
+            let (Some(kind), Some(perceived)) = (facts.kind, perceived_for(spec, layer, facts))
+            else {
+                continue;
+            };
+            if expresses(kind, perceived) != Expressiveness::Misleading(reason) {
+                continue;
+            }
+            let better_free_channel = free_channels(layer).into_iter().find(|channel| {
+                *channel != Channel::Label
+                    && perceived_if_moved(spec, layer, facts, *channel)
+                        .is_some_and(|moved| expresses(kind, moved) == Expressiveness::Good)
+            });
+            found.push(MisleadingBinding {
+                facts,
+                kind,
+                perceived,
+                better_free_channel,
+            });
+        }
+    }
+    found
+}
+
+/// A binding on a channel that cannot express its kind.
+pub struct MisleadingBinding<'c, 'a> {
+    pub facts: &'c BindingFacts<'a>,
+    pub kind: AttributeKind,
+    pub perceived: PerceivedChannel,
+    pub better_free_channel: Option<Channel>,
+}

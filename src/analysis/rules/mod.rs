@@ -209,3 +209,16 @@ pub fn run_all(
     }
     diagnostics
 }
+
+/// The messages a rule's check gives for `spec` analysed without data (for the rules' unit tests).
+#[cfg(test)]
+pub(crate) fn messages_without_data(
+    check: fn(&RuleContext<'_>) -> Vec<Diagnostic>,
+    spec: &str,
+) -> Vec<String> {
+    let document = crate::analysis::parse_document(spec);
+    let data = DataContext::default();
+    let config = AnalysisConfig::default();
+    let context = RuleContext::new(&document, &data, &config);
+    check(&context).into_iter().map(|d| d.message).collect()
+}
