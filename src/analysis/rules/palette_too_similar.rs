@@ -290,11 +290,7 @@ mod tests {
 
     /// The messages this rule gives for a spec without data.
     fn messages(spec: &str) -> Vec<String> {
-        let document = crate::analysis::parse_document(spec);
-        let data = DataContext::default();
-        let config = AnalysisConfig::default();
-        let context = RuleContext::new(&document, &data, &config);
-        check(&context).into_iter().map(|d| d.message).collect()
+        crate::analysis::rules::messages_without_data(check, spec)
     }
 
     #[test]
