@@ -23,6 +23,8 @@ pub enum CandidateKind {
 /// One completion: the label, a detail line, and the text replacing `replace_range`.
 #[derive(Clone, Debug, PartialEq)]
 pub struct CompletionCandidate {
+    /// Position in the list the client should show (0 first); `None` keeps the client's order.
+    pub sort_rank: Option<u32>,
     pub label: String,
     pub detail: Option<String>,
     pub kind: CandidateKind,
@@ -205,8 +207,30 @@ fn value_after_colon(object: Node<'_>, offset: usize) -> Option<CursorContext<'_
     })
 }
 
-/// Candidates at `offset`.
+/// Candidates at `offset`, channel keys ranked under the default ranking.
 pub fn complete_at(
+    document: &ParsedDocument,
+    data: &DataContext,
+    offset: usize,
+) -> Vec<CompletionCandidate> {
+    complete_at_with_ranking(document, data, offset, None)
+}
+
+/// Candidates at `offset`. Keys of `bind` are ordered by how effectively each channel would show
+/// the column being bound (its kind from the declaration or the data profile) under the active
+/// ranking, channels that cannot express the kind last.
+pub fn complete_at_with_ranking(
+    document: &ParsedDocument,
+    data: &DataContext,
+    offset: usize,
+    ranking: Option<&str>,
+) -> Vec<CompletionCandidate> {
+    let mut candidates = complete_at_unranked(document, data, offset);
+    rank_channel_keys(document, data, offset, ranking, &mut candidates);
+    candidates
+}
+
+fn complete_at_unranked(
     document: &ParsedDocument,
     data: &DataContext,
     offset: usize,
@@ -229,6 +253,7 @@ pub fn complete_at(
                     let mut key_path = path.clone();
                     key_path.push(PathSegment::Key(key.to_string()));
                     CompletionCandidate {
+                        sort_rank: None,
                         insert_text: match replace {
                             Some(_) => key.to_string(),
                             None => format!("\"{key}\": "),
@@ -252,6 +277,7 @@ pub fn complete_at(
             let mut out: Vec<CompletionCandidate> = values
                 .into_iter()
                 .map(|(value, description)| CompletionCandidate {
+                    sort_rank: None,
                     label: value.to_string(),
                     detail: description.map(str::to_string),
                     kind: CandidateKind::EnumValue,
@@ -270,6 +296,129 @@ pub fn complete_at(
             }
             out
         }
+    }
+}
+
+/// Order channel-key candidates inside a `bind` object by effectiveness for the column of the
+/// member being written (or, with none yet, for a quantitative column).
+fn rank_channel_keys(
+    document: &ParsedDocument,
+    data: &DataContext,
+    offset: usize,
+    ranking: Option<&str>,
+    candidates: &mut [CompletionCandidate],
+) {
+    use crate::analysis::facts::layer_facts;
+    use crate::knowledge::expressiveness::{expresses, Expressiveness};
+    use crate::knowledge::{perceived_channel, ChannelContext};
+    use crate::spec::model::{AttributeKind, Channel};
+
+    let spec = &document.spec;
+    let layers = layer_facts(spec, data);
+    let Some(layer) = layers.iter().find(|layer| {
+        layer
+            .layer
+            .bind_range
+            .is_some_and(|range| range.contains_inclusive(offset))
+    }) else {
+        return;
+    };
+    let Some(mark) = layer.mark() else {
+        return;
+    };
+    // the column of the member under the cursor, if it names one
+    let column = document
+        .tree
+        .node_at_offset(offset)
+        .parent()
+        .into_iter()
+        .chain(
+            document
+                .tree
+                .node_at_offset(offset)
+                .parent()
+                .and_then(|p| p.parent()),
+        )
+        .find(|node| node.kind() == NodeKind::Member)
+        .and_then(|member| {
+            let value = member.children().nth(1)?;
+            match value.kind() {
+                NodeKind::String => value.as_str().map(|text| text.into_owned()),
+                NodeKind::Object => value.get("column")?.as_str().map(|text| text.into_owned()),
+                _ => None,
+            }
+        });
+    let kind = column
+        .as_deref()
+        .and_then(|name| {
+            let declared = spec
+                .column_declaration(name)
+                .and_then(|declaration| declaration.kind.as_ref())
+                .map(|kind| kind.value);
+            declared.or_else(|| {
+                layer
+                    .data
+                    .and_then(|profile| profile.column(name))
+                    .map(|c| c.kind)
+            })
+        })
+        .unwrap_or(AttributeKind::Quantitative);
+    let ranking = crate::knowledge::rankings::ranking_by_id(
+        ranking.unwrap_or(crate::knowledge::DEFAULT_RANKING_ID),
+    )
+    .unwrap_or(&crate::knowledge::rankings::MACKINLAY_1986);
+    let mut scored: Vec<(usize, (u8, u8), String)> = Vec::new();
+    for (index, candidate) in candidates.iter().enumerate() {
+        if candidate.kind != CandidateKind::Key {
+            continue;
+        }
+        let Some(channel) = Channel::parse(&candidate.label) else {
+            continue;
+        };
+        let value_axis = match (channel.is_position(), kind == AttributeKind::Quantitative) {
+            (true, true) => Some(channel),
+            _ => layer.value_axis(),
+        };
+        let perceived = perceived_channel(&ChannelContext {
+            mark,
+            channel,
+            arrange: layer.layer.arrange.as_ref().map(|arrange| arrange.value),
+            in_panels: spec.panels.is_some(),
+            value_axis,
+            binding_is_summarised: false,
+        });
+        let expressive = expresses(kind, perceived) == Expressiveness::Good;
+        let rank = ranking.rank(kind, perceived);
+        let note = match (expressive, rank) {
+            (true, Some(rank)) => format!(
+                "read as {}: {} of {} for {} data ({})",
+                perceived.description(),
+                rank.level,
+                rank.level_count,
+                kind.as_str(),
+                ranking.citation.short
+            ),
+            (true, None) => format!("read as {}", perceived.description()),
+            (false, _) => format!(
+                "read as {}: cannot express {} data",
+                perceived.description(),
+                kind.as_str()
+            ),
+        };
+        let order = (
+            u8::from(!expressive) * 2 + u8::from(rank.is_none()),
+            rank.map_or(u8::MAX, |rank| rank.level),
+        );
+        scored.push((index, order, note));
+    }
+    scored.sort_by_key(|(index, order, _)| (*order, *index));
+    for (position, (index, _, note)) in scored.into_iter().enumerate() {
+        let candidate = &mut candidates[index];
+        candidate.sort_rank = Some(position as u32);
+        candidate.detail = Some(match candidate.detail.take() {
+            Some(description) => format!("{note}. {description}"),
+            None => note,
+        });
     }
 }
 
@@ -307,6 +456,7 @@ fn column_candidates(
             };
             let detail = profile_of(data, &reference).map(|(profile, _)| column_brief(profile));
             CompletionCandidate {
+                sort_rank: None,
                 label: column.name.clone(),
                 detail,
                 kind: CandidateKind::Column,
@@ -383,6 +533,52 @@ mod tests {
                 Ok(Arc::new(profile)),
             )],
         }
+    }
+
+    /// Channel-key labels in the order the client is asked to show them.
+    fn ranked_channels(candidates: &[CompletionCandidate]) -> Vec<&str> {
+        let mut ranked: Vec<&CompletionCandidate> = candidates
+            .iter()
+            .filter(|candidate| candidate.sort_rank.is_some())
+            .collect();
+        ranked.sort_by_key(|candidate| candidate.sort_rank);
+        ranked
+            .iter()
+            .map(|candidate| candidate.label.as_str())
+            .collect()
+    }
+
+    #[test]
+    fn channel_keys_are_ordered_by_effectiveness_for_the_column_being_bound() {
+        let data = bakery_data();
+        // a categorical column: Mackinlay (1986) ranks position, then hue, for nominal data
+        let (_, candidates) = complete(
+            r#"{ "source": { "path": "loaves.csv" }, "mark": "point", "bind": { "x": "loaves", "|": "branch" } }"#,
+            &data,
+        );
+        let order = ranked_channels(&candidates);
+        assert_eq!(order.first(), Some(&"y"), "{order:?}");
+        assert_eq!(order.get(1), Some(&"hue"), "{order:?}");
+        // magnitude channels cannot express categories: after every expressive one
+        let luminance = order.iter().position(|c| *c == "luminance");
+        let shape = order.iter().position(|c| *c == "shape");
+        assert!(shape < luminance, "{order:?}");
+        // a quantitative column: position first, then (for points) size before colour
+        let (_, candidates) = complete(
+            r#"{ "source": { "path": "loaves.csv" }, "mark": "point", "bind": { "x": "branch", "|": "loaves" } }"#,
+            &data,
+        );
+        let order = ranked_channels(&candidates);
+        assert_eq!(order.first(), Some(&"y"), "{order:?}");
+        let area = order.iter().position(|c| *c == "area");
+        let hue = order.iter().position(|c| *c == "hue");
+        assert!(area < hue, "{order:?}");
+        let detail = candidates
+            .iter()
+            .find(|c| c.label == "y")
+            .and_then(|c| c.detail.clone())
+            .unwrap_or_default();
+        assert!(detail.contains("1 of"), "{detail}");
     }
 
     #[test]

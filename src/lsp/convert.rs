@@ -273,6 +273,7 @@ pub fn to_completion_item(
         label: candidate.label,
         kind: Some(kind),
         detail: candidate.detail,
+        sort_text: candidate.sort_rank.map(|rank| format!("{rank:04}")),
         insert_text_format: Some(lsp::InsertTextFormat::PLAIN_TEXT),
         text_edit: Some(lsp::CompletionTextEdit::Edit(lsp::TextEdit {
             range: to_lsp_range(index, candidate.replace_range, encoding),

@@ -968,10 +968,16 @@ impl LanguageServer for Backend {
             return Ok(None);
         };
         let encoding = self.encoding();
+        let active_ranking = lock(&self.state.session).config.ranking.clone();
         guarded("textDocument/completion", || {
             let index = &outcome.index;
             let offset = index.offset_of_position(from_lsp_position(position), encoding);
-            let candidates = completion::complete_at(&outcome.parsed, &outcome.data, offset);
+            let candidates = completion::complete_at_with_ranking(
+                &outcome.parsed,
+                &outcome.data,
+                offset,
+                active_ranking.as_deref(),
+            );
             let items: Vec<lsp::CompletionItem> = candidates
                 .into_iter()
                 .map(|candidate| convert::to_completion_item(candidate, index, encoding))
