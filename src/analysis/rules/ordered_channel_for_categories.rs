@@ -31,15 +31,20 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             .profile
             .map(|profile| format!(" ({} distinct values)", profile.distinct.value))
             .unwrap_or_default();
+        let channel = facts.binding.channel.as_str();
+        // say what the eye reads only when it is not the key itself (a bar's `y` is a length)
+        let reading = if found.perceived.as_str() == channel {
+            format!("`{channel}`")
+        } else {
+            format!("`{channel}`, read as {},", found.perceived.description())
+        };
         let mut diagnostic = Diagnostic::new(
             ID,
             Severity::Warning,
             facts.binding.key_range,
             format!(
-                "`{}` is categorical{values} but `{}` is read as {}, which ranks the categories as more and less",
+                "`{}` is categorical{values}, but {reading} shows more and less: it ranks the categories in an order they do not have",
                 facts.display_name(),
-                facts.binding.channel.as_str(),
-                found.perceived.description()
             ),
         );
         if let Some(target) = found.better_free_channel {
