@@ -20,11 +20,15 @@ fn level(severity: Severity) -> &'static str {
     }
 }
 
-/// A path as a relative URI reference: forward slashes, reserved characters percent-encoded.
+/// A path as a URI reference: forward slashes, reserved characters percent-encoded; an absolute
+/// path becomes a `file://` URI (RFC 8089), a relative one stays relative to the working folder.
 pub fn path_to_uri_reference(path: &std::path::Path) -> String {
     let text = path.to_string_lossy().replace('\\', "/");
     let text = text.strip_prefix("./").unwrap_or(&text);
-    let mut out = String::with_capacity(text.len());
+    let mut out = String::with_capacity(text.len() + 7);
+    if path.is_absolute() {
+        out.push_str("file://");
+    }
     for byte in text.bytes() {
         match byte {
             b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'.' | b'_' | b'~' | b'/' => {
@@ -179,4 +183,22 @@ pub fn render_sarif(files: &[CheckedFile]) -> String {
         }]
     });
     serde_json::to_string_pretty(&log).unwrap_or_else(|_| "{}".to_string())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::path_to_uri_reference;
+    use std::path::Path;
+
+    #[test]
+    fn paths_become_uri_references() {
+        assert_eq!(
+            path_to_uri_reference(Path::new("./demo-data/ferry routes.chart.json")),
+            "demo-data/ferry%20routes.chart.json"
+        );
+        assert_eq!(
+            path_to_uri_reference(Path::new("/srv/data/quay#1.csv")),
+            "file:///srv/data/quay%231.csv"
+        );
+    }
 }
