@@ -107,6 +107,9 @@ struct DocumentRecord {
     document: OpenDocument,
     /// Id of the analysis loop of this document, when one runs.
     analysis_loop: Option<u64>,
+    /// Set when an analysis is asked for while the loop runs for a reason other than new text
+    /// (settings, data files): the loop then runs once more before it ends.
+    rerun_requested: bool,
     /// The diagnostics last published, to avoid republishing an unchanged set.
     published: Option<Vec<lsp::Diagnostic>>,
     /// Data files read by the latest analysis.
@@ -299,6 +302,8 @@ impl Backend {
                 return;
             };
             if record.analysis_loop.is_some() {
+                // the running loop analyses again with what changed (text, settings or data)
+                record.rerun_requested = true;
                 return;
             }
             let loop_id = next_generation();
@@ -455,6 +460,7 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
             let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
                 return;
             };
+            record.rerun_requested = false;
             Backend::snapshot_of(&state, &uri, record)
         };
         let version = snapshot.version;
@@ -550,7 +556,7 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
             return;
         };
-        if record.document.generation == generation {
+        if record.document.generation == generation && !record.rerun_requested {
             record.analysis_loop = None;
             return;
         }
@@ -827,6 +833,7 @@ impl LanguageServer for Backend {
             let record = DocumentRecord {
                 document: OpenDocument::new(&item.text, item.version, item.language_id.clone()),
                 analysis_loop: None,
+                rerun_requested: false,
                 published: None,
                 data_paths: Vec::new(),
             };
