@@ -801,9 +801,20 @@ fn large_data_gets_a_sampled_profile_first_then_the_full_one_with_progress() {
         "the first profile was a sample"
     );
     // LSP 3.17 work done progress: create (server → client request), then begin / report* / end
-    client.settle(Duration::from_millis(300));
     // the value ranges of inlay hints changed with the full profile: the client is asked to
-    // fetch them again (LSP 3.17 workspace/inlayHint/refresh)
+    // fetch them again (LSP 3.17 workspace/inlayHint/refresh); the hover may have seen the full
+    // profile before the analysis loop did, so wait for the request (bounded) rather than a
+    // fixed pause that a loaded machine can outrun
+    let waiting = Instant::now();
+    while waiting.elapsed() < Duration::from_secs(30)
+        && !client
+            .server_requests
+            .iter()
+            .any(|request| request["method"] == "workspace/inlayHint/refresh")
+    {
+        client.settle(Duration::from_millis(50));
+    }
+    client.settle(Duration::from_millis(300));
     assert!(
         client
             .server_requests
