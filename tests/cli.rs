@@ -263,3 +263,39 @@ fn a_spec_over_the_size_limit_is_refused_with_a_clear_error() {
     let stderr = String::from_utf8_lossy(&output.stderr);
     assert!(stderr.contains("larger than 16 MiB"), "{stderr}");
 }
+
+#[test]
+fn a_ragged_row_is_a_warning_pointing_at_the_data_file_line() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    write(
+        dir.path(),
+        "piers.csv",
+        "pier,boats\nNorth,3\nSouth,4,extra\nEast,5\n",
+    );
+    write(
+        dir.path(),
+        "piers.chart.json",
+        r#"{ "source": { "path": "piers.csv" }, "mark": "bar", "bind": { "x": "pier", "y": "boats" } }"#,
+    );
+    let output = markwell(
+        &["check", "--format", "json", "piers.chart.json"],
+        dir.path(),
+    );
+    assert_eq!(
+        output.status.code(),
+        Some(0),
+        "a warning does not fail the run"
+    );
+    let report: Value = serde_json::from_slice(&output.stdout).expect("JSON report");
+    let diagnostic = report["files"][0]["diagnostics"]
+        .as_array()
+        .and_then(|all| all.iter().find(|d| d["rule"] == "missing-source").cloned())
+        .expect("the ragged row is reported");
+    assert_eq!(diagnostic["severity"], "warning");
+    // `South,4,extra` is the third line of the file (1-based, as editors count)
+    assert_eq!(diagnostic["related"][0]["line"], 3);
+    assert!(diagnostic["related"][0]["file"]
+        .as_str()
+        .unwrap_or("")
+        .ends_with("piers.csv"));
+}
