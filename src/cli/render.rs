@@ -30,6 +30,15 @@ fn level_for(severity: Severity) -> Level<'static> {
     }
 }
 
+/// A data file's path as the user would type it: relative to the current folder when inside it.
+fn shown_path(path: &std::path::Path) -> std::path::PathBuf {
+    std::env::current_dir()
+        .ok()
+        .and_then(|current| std::fs::canonicalize(current).ok())
+        .and_then(|current| path.strip_prefix(current).ok().map(|p| p.to_path_buf()))
+        .unwrap_or_else(|| path.to_path_buf())
+}
+
 /// 1-based line and 1-based column (in characters) of a byte offset.
 pub fn line_and_column(text: &str, offset: usize) -> (usize, usize) {
     let offset = floor_char_boundary(text, offset.min(text.len()));
@@ -82,7 +91,7 @@ pub fn render_human(files: &[CheckedFile]) -> String {
                         path: data_path,
                         line,
                         ..
-                    } => format!("{}:{}", data_path.display(), line + 1),
+                    } => format!("{}:{}", shown_path(data_path).display(), line + 1),
                 };
                 groups.push(Group::with_title(
                     Level::NOTE.secondary_title(format!("{}: {}", place, related.message)),
