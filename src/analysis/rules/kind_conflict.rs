@@ -1,7 +1,7 @@
 //! `kind-conflict`: a declared `kind` that the data contradicts. Documentation:
 //! `kind-conflict.md`.
 
-use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
+use crate::analysis::rules::{backticked, Rule, RuleCheck, RuleContext};
 use crate::data::ColumnProfile;
 use crate::diagnostic::{Diagnostic, Fix, Severity, TextEdit};
 use crate::spec::model::AttributeKind;
@@ -72,17 +72,12 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
     diagnostics
 }
 
-fn examples(profile: &ColumnProfile) -> String {
-    let shown: Vec<String> = profile
-        .non_numeric_examples
-        .iter()
-        .take(3)
-        .map(|value| format!("`{value}`"))
-        .collect();
-    if shown.is_empty() {
+/// " (for example `a`, `b`, `c`)" from some of `values`, or nothing.
+fn for_example(values: &[String]) -> String {
+    if values.is_empty() {
         String::new()
     } else {
-        format!(" (for example {})", shown.join(", "))
+        format!(" (for example {})", backticked(values, 3))
     }
 }
 
@@ -91,19 +86,22 @@ fn contradiction(declared: AttributeKind, profile: &ColumnProfile) -> Option<Str
     match declared {
         AttributeKind::Quantitative if profile.numeric_share < MIN_NUMERIC_SHARE => {
             Some(if profile.numeric_share == 0.0 {
-                format!("none of its values are numbers{}", examples(profile))
+                format!(
+                    "none of its values are numbers{}",
+                    for_example(&profile.non_numeric_examples)
+                )
             } else {
                 format!(
                     "{:.0} % of its values are not numbers{}",
                     (1.0 - profile.numeric_share) * 100.0,
-                    examples(profile)
+                    for_example(&profile.non_numeric_examples)
                 )
             })
         }
         AttributeKind::Time if profile.kind != AttributeKind::Time && !is_year_like(profile) => {
             Some(format!(
                 "its values are not ISO 8601 dates or times{}",
-                sample_values(profile)
+                for_example(&profile.samples)
             ))
         }
         _ => None,
@@ -118,18 +116,4 @@ fn is_year_like(profile: &ColumnProfile) -> bool {
                 && numbers.max <= 2999.0
                 && profile.samples.iter().all(|sample| !sample.contains('.'))
         })
-}
-
-fn sample_values(profile: &ColumnProfile) -> String {
-    let shown: Vec<String> = profile
-        .samples
-        .iter()
-        .take(3)
-        .map(|value| format!("`{value}`"))
-        .collect();
-    if shown.is_empty() {
-        String::new()
-    } else {
-        format!(" (for example {})", shown.join(", "))
-    }
 }

@@ -1,7 +1,7 @@
 //! `levels-mismatch`: declared `levels` of an ordered column that do not match the data's
 //! values. Documentation: `levels-mismatch.md`.
 
-use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
+use crate::analysis::rules::{backticked, Rule, RuleCheck, RuleContext};
 use crate::data::ColumnProfile;
 use crate::diagnostic::{Diagnostic, Severity};
 
@@ -49,11 +49,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             .collect();
         if !unplaced.is_empty() {
             let rows: u64 = unplaced.iter().map(|(_, count)| count).sum();
-            let shown: Vec<String> = unplaced
-                .iter()
-                .take(6)
-                .map(|(value, _)| format!("`{value}`"))
-                .collect();
+            let shown = backticked(unplaced.iter().map(|(value, _)| value), 6);
             diagnostics.push(Diagnostic::new(
                 ID,
                 Severity::Warning,
@@ -64,7 +60,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                     declaration.name.value,
                     rows,
                     if unplaced.len() == 1 { "has" } else { "have" },
-                    shown.join(", "),
+                    shown,
                     if unplaced.len() > 6 { ", ..." } else { "" }
                 ),
             ));

@@ -189,6 +189,16 @@ pub fn rule_by_id(id: &str) -> Option<&'static Rule> {
     registry().iter().find(|rule| rule.id == id)
 }
 
+/// Up to `limit` values in backticks, comma-separated, for messages (`a`, `b`, `c`).
+pub fn backticked<S: AsRef<str>>(values: impl IntoIterator<Item = S>, limit: usize) -> String {
+    values
+        .into_iter()
+        .take(limit)
+        .map(|value| format!("`{}`", value.as_ref()))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
 /// Run every registered semantic rule.
 pub fn run_all(
     document: &ParsedDocument,

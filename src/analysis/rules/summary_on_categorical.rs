@@ -1,7 +1,7 @@
 //! `summary-on-categorical`: an arithmetic summary of a column whose values are not numbers.
 //! Documentation: `summary-on-categorical.md`.
 
-use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
+use crate::analysis::rules::{backticked, Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Fix, Severity, TextEdit};
 use crate::spec::model::{AttributeKind, Summary};
 use crate::spec::schema::json_string;
@@ -67,18 +67,10 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                     kind.as_str(),
                     facts
                         .profile
+                        .filter(|profile| !profile.top_values.is_empty())
                         .map(|profile| {
-                            let shown: Vec<String> = profile
-                                .top_values
-                                .iter()
-                                .take(3)
-                                .map(|(value, _)| format!("`{value}`"))
-                                .collect();
-                            if shown.is_empty() {
-                                String::new()
-                            } else {
-                                format!(" (values such as {})", shown.join(", "))
-                            }
+                            let values = profile.top_values.iter().map(|(value, _)| value);
+                            format!(" (values such as {})", backticked(values, 3))
                         })
                         .unwrap_or_default()
                 ),
