@@ -79,7 +79,7 @@ fn perceived_channel_cases() {
         case(Mark::Line, Channel::Y, y, P::PositionCommonScale, CM_1984),
         case(Mark::Line, Channel::X, y, P::PositionCommonScale, CM_1984),
         case(
-            Mark::Tile,
+            Mark::Cell,
             Channel::X,
             None,
             P::PositionCommonScale,
@@ -92,7 +92,13 @@ fn perceived_channel_cases() {
             P::PositionCommonScale,
             CM_1984,
         ),
-        case(Mark::Rule, Channel::Y, y, P::PositionCommonScale, CM_1984),
+        case(
+            Mark::Segment,
+            Channel::Y,
+            y,
+            P::PositionCommonScale,
+            CM_1984,
+        ),
         // a bar on its value axis is read by its length from the baseline
         case(Mark::Bar, Channel::Y, y, P::Length, CHART_SPEC),
         case(
@@ -114,12 +120,12 @@ fn perceived_channel_cases() {
             CHART_SPEC,
         ),
         // an arc by its angle (and area)
-        case(Mark::Arc, Channel::Angle, None, P::Angle, CHART_SPEC),
+        case(Mark::Wedge, Channel::Angle, None, P::Angle, CHART_SPEC),
         // same-named channels
         case(Mark::Point, Channel::Area, None, P::Area, CHART_SPEC),
         case(Mark::Point, Channel::Hue, None, P::Hue, CHART_SPEC),
         case(
-            Mark::Tile,
+            Mark::Cell,
             Channel::Luminance,
             None,
             P::Luminance,
@@ -143,7 +149,7 @@ fn perceived_channel_cases() {
     // as length judgements; from memory); stacked areas stay areas (chart-spec design)
     for arrange in [
         Arrange::Stack,
-        Arrange::Fill,
+        Arrange::Share,
         Arrange::SideBySide,
         Arrange::Overlap,
     ] {
@@ -241,7 +247,7 @@ fn only_stacked_layers_lose_the_common_baseline() {
     );
     let filled_area = ChannelContext {
         mark: Mark::Area,
-        arrange: Some(Arrange::Fill),
+        arrange: Some(Arrange::Share),
         ..stacked_bar
     };
     assert_eq!(

@@ -28,7 +28,7 @@ fn file_uri(path: &Path) -> String {
     format!("file://{}", path.display())
 }
 
-/// A spec with one unknown key (`colour` in `style`), which has a rename fix.
+/// A spec with one unknown key (`colur` in `style`), which has a rename fix.
 const FERRY_SPEC_WITH_TYPO: &str = r##"{
   "title": "Departure delays against passengers",
   "source": { "path": "crossings.csv" },
@@ -38,7 +38,7 @@ const FERRY_SPEC_WITH_TYPO: &str = r##"{
     "x": "passengers",
     "y": { "column": "delay_min" }
   },
-  "style": { "colour": "#1b6ca8", "opacity": 0.8 }
+  "style": { "colur": "#1b6ca8", "opacity": 0.8 }
 }
 "##;
 
@@ -153,7 +153,7 @@ fn diagnostics_carry_rule_code_source_version_and_fixes() {
     assert_eq!(unknown["severity"], 1);
     assert_eq!(
         unknown["range"],
-        range_of(FERRY_SPEC_WITH_TYPO, "\"colour\"")
+        range_of(FERRY_SPEC_WITH_TYPO, "\"colur\"")
     );
     let fix = &unknown["data"]["fixes"][0];
     assert_eq!(fix["kind"], "quickfix");
@@ -162,7 +162,7 @@ fn diagnostics_carry_rule_code_source_version_and_fixes() {
             FERRY_SPEC_WITH_TYPO,
             fix["edits"].as_array().expect("edits")
         ),
-        FERRY_SPEC_WITH_TYPO.replace("\"colour\"", "\"color\"")
+        FERRY_SPEC_WITH_TYPO.replace("\"colur\"", "\"colour\"")
     );
     assert!(client.finish().success());
 }
@@ -226,7 +226,7 @@ fn code_action_round_trip_removes_the_diagnostic() {
         );
         text = apply_lsp_edits(&text, std::slice::from_ref(edit));
     }
-    assert!(text.contains("\"color\": \"#1b6ca8\""));
+    assert!(text.contains("\"colour\": \"#1b6ca8\""));
     let after = client.wait_for_publish(&uri, 2);
     assert!(
         !codes(&after).contains(&"unknown-key".to_string()),
@@ -250,7 +250,7 @@ fn hover_explains_a_diagnostic_and_symbols_outline_the_spec() {
     client.initialize(json!({}), Some(&workspace.root_uri()));
     client.open(&uri, FERRY_SPEC_WITH_TYPO, 1);
     client.wait_for_publish(&uri, 1);
-    let key = range_of(FERRY_SPEC_WITH_TYPO, "\"colour\"");
+    let key = range_of(FERRY_SPEC_WITH_TYPO, "\"colur\"");
     let hover = client.request_result(
         "textDocument/hover",
         json!({"textDocument": {"uri": uri}, "position": key["start"]}),
@@ -282,7 +282,7 @@ fn hover_explains_a_diagnostic_and_symbols_outline_the_spec() {
         "textDocument/documentColor",
         json!({"textDocument": {"uri": uri}}),
     );
-    // `style.colour` is an unknown key, so the model has no style colour: no swatch
+    // `style.colur` is an unknown key, so the model has no style colour: no swatch
     assert_eq!(colours, json!([]));
     assert!(client.finish().success());
 }
@@ -486,9 +486,9 @@ fn thousand_rapid_edits_end_in_the_right_diagnostics() {
         text.insert(offset, character);
     }
     // the 1,000th edit fixes the unknown key
-    let key = range_of(&text, "\"colour\"");
-    client.change_range(&uri, 1001, key, "\"color\"");
-    text = text.replacen("\"colour\"", "\"color\"", 1);
+    let key = range_of(&text, "\"colur\"");
+    client.change_range(&uri, 1001, key, "\"colour\"");
+    text = text.replacen("\"colur\"", "\"colour\"", 1);
     let finals = client.wait_for_publish(&uri, 1001);
     assert!(
         !codes(&finals).contains(&"unknown-key".to_string()),
@@ -729,7 +729,7 @@ fn close_clears_and_reopen_with_the_same_version_is_analysed_afresh() {
     });
     assert_eq!(cleared["params"]["diagnostics"], json!([]));
     // a client may reuse version numbers after a reopen: the new text is what counts
-    let fixed = FERRY_SPEC_WITH_TYPO.replace("\"colour\"", "\"color\"");
+    let fixed = FERRY_SPEC_WITH_TYPO.replace("\"colur\"", "\"colour\"");
     client.open(uri, &fixed, 1);
     assert!(!codes(&client.wait_for_publish(uri, 1)).contains(&"unknown-key".to_string()));
     // versions going backwards are still applied in order

@@ -102,7 +102,7 @@ fn sarif_log_of_the_demo_validates_against_the_sarif_2_1_0_schema() {
         .expect("the demo has an unknown key");
     assert_eq!(
         typo["fixes"][0]["artifactChanges"][0]["replacements"][0]["insertedContent"]["text"],
-        "\"color\""
+        "\"colour\""
     );
 }
 

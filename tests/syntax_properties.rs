@@ -21,12 +21,12 @@ const FERRY_SPEC: &str = r##"{
       "mark": "bar",
       "bind": {
         "x": "weekday",
-        "y": { "column": "crossings", "summary": "sum", "scale": { "zero": true } },
+        "y": { "column": "crossings", "summary": "sum", "mapping": { "from": "zero" } },
         "hue": { "column": "ferry", "palette": ["#d9e6f2", "#7fa7cf", "#1f4e79"] }
       },
       "arrange": "stack"
     },
-    { "mark": "rule", "bind": { "y": { "column": "load_pct", "summary": "mean" } },
+    { "mark": "segment", "bind": { "y": { "column": "load_pct", "summary": "mean" } },
       "style": { "opacity": 0.5, "stroke-width": 1.5e0 } }
   ],
   "frame": { "width": 640, "height": 400, "background": "#ffffff" },

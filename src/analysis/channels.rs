@@ -54,16 +54,16 @@ pub fn perceived_for(
 }
 
 /// The channels each mark can draw. A convention of the chart-spec format (no source): a bar
-/// has no shape, an arc has no x and y of its own, a point has no angle.
+/// has no shape, a wedge has no x and y of its own, a point has no angle.
 pub fn channels_for_mark(mark: Mark) -> &'static [Channel] {
     use Channel::*;
     match mark {
         Mark::Point => &[X, Y, Hue, Luminance, Saturation, Area, Shape, Tilt, Label],
         Mark::Line => &[X, Y, Hue, Luminance, Saturation, Texture, Label],
-        Mark::Area | Mark::Bar | Mark::Tile | Mark::Rule => {
+        Mark::Area | Mark::Bar | Mark::Cell | Mark::Segment => {
             &[X, Y, Hue, Luminance, Saturation, Texture, Label]
         }
-        Mark::Arc => &[Angle, Hue, Luminance, Saturation, Texture, Label],
+        Mark::Wedge => &[Angle, Hue, Luminance, Saturation, Texture, Label],
         Mark::Text => &[X, Y, Hue, Luminance, Saturation, Area, Tilt, Label],
     }
 }
@@ -158,7 +158,7 @@ pub fn ordinal(number: u8) -> String {
     format!("{number}{suffix}")
 }
 
-/// A fix that redraws an arc layer as bars: the mark becomes `bar`, the `angle` binding moves
+/// A fix that redraws a wedge layer as bars: the mark becomes `bar`, the `angle` binding moves
 /// to `y` and the binding that splits the slices (the first categorical colour, texture or
 /// label binding) moves to `x`, when those channels are free.
 pub fn arc_to_bar_fix(layer: &LayerFacts<'_>) -> Option<Fix> {
@@ -192,7 +192,7 @@ pub fn arc_to_bar_fix(layer: &LayerFacts<'_>) -> Option<Fix> {
         }
     }
     edits.sort_by_key(|edit| edit.range.start);
-    Some(Fix::quick("draw bars instead of arc slices", edits))
+    Some(Fix::quick("draw bars instead of wedge slices", edits))
 }
 
 /// A fix that sets a stacked layer's `arrange` to side by side (bars) or overlap (areas).
@@ -215,7 +215,7 @@ pub fn unstack_fix(layer: &LayerFacts<'_>) -> Option<Fix> {
 /// bars and areas.
 pub fn magnitude_binding<'l, 'a>(layer: &'l LayerFacts<'a>) -> Option<&'l BindingFacts<'a>> {
     match layer.mark()? {
-        Mark::Arc => layer.binding(Channel::Angle),
+        Mark::Wedge => layer.binding(Channel::Angle),
         Mark::Bar | Mark::Area => layer.binding(layer.value_axis()?),
         _ => None,
     }

@@ -19,7 +19,7 @@ pub enum PerceivedChannel {
     PositionUnalignedScale,
     /// Length (1D size), e.g. a bar read from its baseline.
     Length,
-    /// Angle, e.g. the slices of an arc (pie) mark.
+    /// Angle, e.g. the slices of a wedge (pie) mark.
     Angle,
     /// Area (2D size), e.g. a point whose size encodes a value, or an area mark.
     Area,
@@ -194,7 +194,7 @@ pub struct ChannelContext {
 ///   angle is the primary reading, Cleveland & McGill 1984 rank it above area).
 /// - `x`/`y` of a `bar` on its value axis → [`PerceivedChannel::Length`], read from the
 ///   baseline (Cleveland & McGill 1984, bar charts as length judgements). Stacked (`stack`,
-///   `fill`) bars stay `Length`: the bottom segment sits on the common baseline, the segments
+///   `share`) bars stay `Length`: the bottom segment sits on the common baseline, the segments
 ///   above it on baselines that differ from bar to bar, and Cleveland & McGill (1984) classed
 ///   judgements of such segments of divided bar charts as length judgements (their
 ///   position-length experiment; from memory). That only the bottom series shares a baseline is
@@ -260,7 +260,7 @@ fn perceived_position_channel(context: &ChannelContext) -> PerceivedChannel {
 pub enum BaselineSharing {
     /// Every bar or area starts on the same baseline (unstacked, side by side, overlapping).
     AllSeries,
-    /// Stacked (`stack`, `fill`): only the bottom series starts on the common baseline; the
+    /// Stacked (`stack`, `share`): only the bottom series starts on the common baseline; the
     /// segments above sit on baselines that differ from bar to bar (Cleveland & McGill 1984,
     /// divided bar charts; from memory).
     BottomSeriesOnly,

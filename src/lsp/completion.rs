@@ -606,7 +606,7 @@ mod tests {
         let offered = labels(&candidates);
         assert_eq!(
             offered,
-            ["point", "line", "area", "bar", "arc", "tile", "text", "rule"]
+            ["point", "line", "area", "bar", "wedge", "cell", "text", "segment"]
         );
         let bar = candidates.iter().find(|c| c.label == "bar").expect("bar");
         assert_eq!(&text[bar.replace_range.start..bar.replace_range.end], "ba");

@@ -209,7 +209,7 @@ pub struct ColourOccurrence {
     pub colour: Rgba,
 }
 
-/// Palette entries, layer `style.color` and `frame.background` that parse as hex colours.
+/// Palette entries, layer `style.colour` and `frame.background` that parse as hex colours.
 pub fn document_colours(spec: &ChartSpec) -> Vec<ColourOccurrence> {
     let mut strings: Vec<&Spanned<String>> = Vec::new();
     for layer in &spec.layers {
@@ -218,7 +218,7 @@ pub fn document_colours(spec: &ChartSpec) -> Vec<ColourOccurrence> {
                 strings.extend(palette.value.iter());
             }
         }
-        strings.extend(layer.style.color.iter());
+        strings.extend(layer.style.colour.iter());
     }
     strings.extend(spec.frame.background.iter());
     let mut out: Vec<ColourOccurrence> = strings

@@ -292,7 +292,7 @@ fn lower_style(node: Node<'_>) -> Style {
     };
     for (key, value) in entries(node) {
         match key.as_ref() {
-            "color" => first(&mut style.color, lower_string(value)),
+            "colour" => first(&mut style.colour, lower_string(value)),
             "opacity" => first(&mut style.opacity, lower_number(value)),
             "radius" => first(&mut style.radius, lower_number(value)),
             "stroke-width" => first(&mut style.stroke_width, lower_number(value)),
@@ -325,7 +325,7 @@ fn lower_bindings(bind: Node<'_>) -> Vec<Binding> {
             column: None,
             summary: None,
             bins: None,
-            scale: None,
+            mapping: None,
             palette: None,
             order: None,
         };
@@ -345,7 +345,7 @@ fn lower_bindings(bind: Node<'_>) -> Vec<Binding> {
                             first(&mut binding.summary, lower_keyword(field, Summary::parse))
                         }
                         "bins" => first(&mut binding.bins, lower_count(field)),
-                        "scale" => first(&mut binding.scale, lower_scale(field)),
+                        "mapping" => first(&mut binding.mapping, lower_mapping(field)),
                         "palette" => first(
                             &mut binding.palette,
                             (field.kind() == NodeKind::Array)
@@ -363,34 +363,31 @@ fn lower_bindings(bind: Node<'_>) -> Vec<Binding> {
     bindings
 }
 
-fn lower_scale(node: Node<'_>) -> Option<Scale> {
+fn lower_mapping(node: Node<'_>) -> Option<Mapping> {
     if node.kind() != NodeKind::Object {
         return None;
     }
-    let mut scale = Scale {
+    let mut mapping = Mapping {
         range: node.range(),
-        scale_type: None,
-        domain: None,
-        zero: None,
-        reverse: None,
+        spacing: None,
+        extent: None,
+        from: None,
+        flip: None,
     };
     for (key, value) in entries(node) {
         match key.as_ref() {
-            "type" => first(
-                &mut scale.scale_type,
-                lower_keyword(value, ScaleType::parse),
-            ),
-            "zero" => first(&mut scale.zero, lower_bool(value)),
-            "reverse" => first(&mut scale.reverse, lower_bool(value)),
-            "domain" => first(&mut scale.domain, lower_domain(value)),
+            "spacing" => first(&mut mapping.spacing, lower_keyword(value, Spacing::parse)),
+            "from" => first(&mut mapping.from, lower_keyword(value, MappingFrom::parse)),
+            "flip" => first(&mut mapping.flip, lower_bool(value)),
+            "extent" => first(&mut mapping.extent, lower_extent(value)),
             _ => {}
         }
     }
-    Some(scale)
+    Some(mapping)
 }
 
 /// `[low, high]`: exactly two numbers.
-fn lower_domain(node: Node<'_>) -> Option<Spanned<(f64, f64)>> {
+fn lower_extent(node: Node<'_>) -> Option<Spanned<(f64, f64)>> {
     let mut elements = node.elements();
     let low = elements.next()?.as_f64()?;
     let high = elements.next()?.as_f64()?;

@@ -106,10 +106,10 @@ keyword_enum!(
         Line = "line",
         Area = "area",
         Bar = "bar",
-        Arc = "arc",
-        Tile = "tile",
+        Wedge = "wedge",
+        Cell = "cell",
         Text = "text",
-        Rule = "rule",
+        Segment = "segment",
     }
 );
 
@@ -170,12 +170,21 @@ impl Summary {
 }
 
 keyword_enum!(
-    ScaleType {
-        Linear = "linear",
-        Log = "log",
-        Sqrt = "sqrt",
-        Time = "time",
-        Ordinal = "ordinal",
+    /// How a mapping spaces values along its channel.
+    Spacing {
+        Even = "even",
+        Logarithmic = "logarithmic",
+        SquareRoot = "square-root",
+        Calendar = "calendar",
+        Ranked = "ranked",
+    }
+);
+
+keyword_enum!(
+    /// Where a mapping starts: at zero, or where the data starts.
+    MappingFrom {
+        Zero = "zero",
+        Data = "data",
     }
 );
 
@@ -185,13 +194,13 @@ keyword_enum!(
         Stack = "stack",
         SideBySide = "side-by-side",
         Overlap = "overlap",
-        Fill = "fill",
+        Share = "share",
     }
 );
 
 impl Arrange {
     pub fn is_stacked(self) -> bool {
-        matches!(self, Arrange::Stack | Arrange::Fill)
+        matches!(self, Arrange::Stack | Arrange::Share)
     }
 }
 
@@ -273,13 +282,13 @@ pub struct ColumnDeclaration {
 }
 
 #[derive(Clone, Debug, PartialEq)]
-pub struct Scale {
+pub struct Mapping {
     pub range: TextRange,
-    pub scale_type: Option<Spanned<ScaleType>>,
-    /// `[lo, hi]`; `None` when absent or not two numbers.
-    pub domain: Option<Spanned<(f64, f64)>>,
-    pub zero: Option<Spanned<bool>>,
-    pub reverse: Option<Spanned<bool>>,
+    pub spacing: Option<Spanned<Spacing>>,
+    /// `[low, high]`; `None` when absent or not two numbers.
+    pub extent: Option<Spanned<(f64, f64)>>,
+    pub from: Option<Spanned<MappingFrom>>,
+    pub flip: Option<Spanned<bool>>,
 }
 
 #[derive(Clone, Debug, PartialEq)]
@@ -296,7 +305,7 @@ pub struct Binding {
     pub column: Option<Spanned<String>>,
     pub summary: Option<Spanned<Summary>>,
     pub bins: Option<Spanned<u32>>,
-    pub scale: Option<Scale>,
+    pub mapping: Option<Mapping>,
     pub palette: Option<Spanned<Vec<Spanned<String>>>>,
     pub order: Option<Spanned<SortOrder>>,
 }
@@ -304,7 +313,7 @@ pub struct Binding {
 #[derive(Clone, Debug, PartialEq, Default)]
 pub struct Style {
     pub range: Option<TextRange>,
-    pub color: Option<Spanned<String>>,
+    pub colour: Option<Spanned<String>>,
     pub opacity: Option<Spanned<f64>>,
     pub radius: Option<Spanned<f64>>,
     pub stroke_width: Option<Spanned<f64>>,

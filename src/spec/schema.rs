@@ -338,7 +338,7 @@ fn list_in_backticks(values: &[&str]) -> String {
         .join(", ")
 }
 
-/// "in `bind.y.scale`" / "at the top level".
+/// "in `bind.y.mapping`" / "at the top level".
 fn describe_place(path: &[PathSegment]) -> String {
     if path.is_empty() {
         return "at the top level".to_string();

@@ -61,7 +61,7 @@ mod tests {
     #[test]
     fn separators_do_not_count() {
         assert_eq!(
-            closest_name("side_by_side", ["stack", "side-by-side", "fill"]),
+            closest_name("side_by_side", ["stack", "side-by-side", "share"]),
             Some("side-by-side")
         );
     }

@@ -31,7 +31,7 @@ fn generated_spec(target_bytes: usize) -> String {
     let mut index = 0;
     while size < target_bytes {
         let layer = format!(
-            "    {{\n      \"mark\": \"{}\",\n      \"bind\": {{\n        \"x\": \"month\",\n        \"y\": {{ \"column\": \"passengers\", \"summary\": \"sum\", \"scale\": {{ \"zero\": true }} }},\n        \"hue\": {{ \"column\": \"route\", \"palette\": [\"#1b6ca8\", \"#e08a1e\", \"#2a9d5c\", \"#c23b7a\", \"#6b5b95\"] }}\n      }},\n      \"style\": {{ \"opacity\": 0.{} }}\n    }}",
+            "    {{\n      \"mark\": \"{}\",\n      \"bind\": {{\n        \"x\": \"month\",\n        \"y\": {{ \"column\": \"passengers\", \"summary\": \"sum\", \"mapping\": {{ \"from\": \"zero\" }} }},\n        \"hue\": {{ \"column\": \"route\", \"palette\": [\"#1b6ca8\", \"#e08a1e\", \"#2a9d5c\", \"#c23b7a\", \"#6b5b95\"] }}\n      }},\n      \"style\": {{ \"opacity\": 0.{} }}\n    }}",
             if index % 2 == 0 { "line" } else { "point" },
             index % 9 + 1
         );

@@ -42,7 +42,7 @@ fn typical_spec(rows: &str) -> String {
   "mark": "bar",
   "bind": {{
     "x": "route",
-    "y": {{ "column": "passengers", "summary": "sum", "scale": {{ "zero": true }} }},
+    "y": {{ "column": "passengers", "summary": "sum", "mapping": {{ "from": "zero" }} }},
     "hue": {{ "column": "fare_band", "palette": ["#d9e6f2", "#7fa7cf", "#1f4e79"] }}
   }},
   "arrange": "stack",

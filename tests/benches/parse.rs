@@ -34,7 +34,7 @@ impl Dice {
 }
 
 const MARKS: &[&str] = &[
-    "bar", "line", "point", "area", "tile", "rule", "text", "arc",
+    "bar", "line", "point", "area", "cell", "segment", "text", "wedge",
 ];
 const COLUMNS: &[&str] = &[
     "bakery",
@@ -67,7 +67,7 @@ fn generated_layer(dice: &mut Dice, index: usize) -> Value {
             "y": {
                 "column": dice.pick(COLUMNS),
                 "summary": dice.pick(SUMMARIES),
-                "scale": { "type": "linear", "zero": dice.next() % 2 == 0, "domain": [0, (dice.next() % 900) as f64 + 0.5] }
+                "mapping": { "spacing": "even", "from": if dice.next() % 2 == 0 { "zero" } else { "data" }, "extent": [0, (dice.next() % 900) as f64 + 0.5] }
             },
             "hue": { "column": dice.pick(COLUMNS), "palette": palette },
             "area": { "column": dice.pick(COLUMNS), "bins": 4 + dice.next() % 8 },

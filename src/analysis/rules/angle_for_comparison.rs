@@ -1,4 +1,4 @@
-//! `angle-for-comparison`: arc slices where the chart's purpose is comparison. Documentation:
+//! `angle-for-comparison`: wedge slices where the chart's purpose is comparison. Documentation:
 //! `angle-for-comparison.md`.
 
 use crate::analysis::channels::arc_to_bar_fix;
@@ -12,7 +12,7 @@ pub const RULE: Rule = Rule {
     id: ID,
     default_severity: Severity::Warning,
     group: "effectiveness",
-    summary: "arc slices in a chart meant for comparison",
+    summary: "wedge slices in a chart meant for comparison",
     has_fix: true,
     docs: include_str!("angle-for-comparison.md"),
     check: RuleCheck::Semantic(check),
@@ -29,7 +29,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             .layer
             .mark
             .as_ref()
-            .filter(|mark| mark.value == Mark::Arc)
+            .filter(|mark| mark.value == Mark::Wedge)
         else {
             continue;
         };
@@ -37,7 +37,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             ID,
             Severity::Warning,
             mark.range,
-            "the chart is for comparing, but arc slices are read by angle and area, which readers judge far less accurately than the lengths of bars",
+            "the chart is for comparing, but wedge slices are read by angle and area, which readers judge far less accurately than the lengths of bars",
         );
         if let Some(fix) = arc_to_bar_fix(layer) {
             diagnostic.fixes.push(fix);

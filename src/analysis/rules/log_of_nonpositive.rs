@@ -1,10 +1,10 @@
-//! `log-of-nonpositive`: a log scale over data with zero or negative values. Documentation:
+//! `log-of-nonpositive`: logarithmic spacing over data with zero or negative values. Documentation:
 //! `log-of-nonpositive.md`.
 
 use crate::analysis::rules::part_to_whole_invalid::format_number;
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Fix, Severity, TextEdit};
-use crate::spec::model::ScaleType;
+use crate::spec::model::Spacing;
 use crate::spec::schema::json_string;
 
 pub const ID: &str = "log-of-nonpositive";
@@ -13,7 +13,7 @@ pub const RULE: Rule = Rule {
     id: ID,
     default_severity: Severity::Error,
     group: "expressiveness",
-    summary: "a log scale over data with zero or negative values",
+    summary: "logarithmic spacing over data with zero or negative values",
     has_fix: true,
     docs: include_str!("log-of-nonpositive.md"),
     check: RuleCheck::Semantic(check),
@@ -23,12 +23,12 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
     let mut diagnostics = Vec::new();
     for layer in &context.layers {
         for facts in &layer.bindings {
-            let Some(scale_type) = facts
+            let Some(spacing) = facts
                 .binding
-                .scale
+                .mapping
                 .as_ref()
-                .and_then(|scale| scale.scale_type.as_ref())
-                .filter(|scale_type| scale_type.value == ScaleType::Log)
+                .and_then(|mapping| mapping.spacing.as_ref())
+                .filter(|spacing| spacing.value == Spacing::Logarithmic)
             else {
                 continue;
             };
@@ -51,18 +51,18 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 Diagnostic::new(
                     ID,
                     Severity::Error,
-                    scale_type.range,
+                    spacing.range,
                     format!(
-                        "`{}` goes down to {}, and a log scale has no place for zero or negative values: those marks vanish",
+                        "`{}` goes down to {}, and logarithmic spacing has no place for zero or negative values: those marks vanish",
                         facts.display_name(),
                         format_number(numbers.min)
                     ),
                 )
                 .with_fix(Fix::quick(
-                    "use a linear scale",
+                    "use even spacing",
                     vec![TextEdit {
-                        range: scale_type.range,
-                        new_text: json_string(ScaleType::Linear.as_str()),
+                        range: spacing.range,
+                        new_text: json_string(Spacing::Even.as_str()),
                     }],
                 )),
             );

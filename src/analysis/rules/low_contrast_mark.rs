@@ -1,4 +1,4 @@
-//! `low-contrast-mark`: a mark colour (`style.color`, or a colour of a colour channel's palette)
+//! `low-contrast-mark`: a mark colour (`style.colour`, or a colour of a colour channel's palette)
 //! whose WCAG 2.1 contrast ratio against the frame background is below 3:1 (SC 1.4.11, non-text
 //! contrast). Documentation: `low-contrast-mark.md`.
 
@@ -95,10 +95,10 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             .iter()
             .filter(|facts| facts.binding.channel.is_colour())
             .collect();
-        // a colour channel decides the colour of the marks, so `style.color` counts only when
+        // a colour channel decides the colour of the marks, so `style.colour` counts only when
         // no colour channel is bound
         if colour_bindings.is_empty() {
-            if let Some(written) = &layer.layer.style.color {
+            if let Some(written) = &layer.layer.style.colour {
                 if let Ok(colour) = parse_hex_colour(&written.value) {
                     check_colour(
                         written,
@@ -133,7 +133,7 @@ mod tests {
     #[test]
     fn message_says_when_the_default_background_was_used() {
         let default = messages(
-            r##"{ "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "color": "#959595" } }"##,
+            r##"{ "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "colour": "#959595" } }"##,
         );
         assert_eq!(
             default,
@@ -142,7 +142,7 @@ mod tests {
             ]
         );
         let explicit = messages(
-            r##"{ "frame": { "background": "#ffffff" }, "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "color": "#959595" } }"##,
+            r##"{ "frame": { "background": "#ffffff" }, "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "colour": "#959595" } }"##,
         );
         assert_eq!(
             explicit,
@@ -152,11 +152,11 @@ mod tests {
         );
         // #949494 is 3.03:1: no finding; an invalid background is left to the schema
         assert!(messages(
-            r##"{ "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "color": "#949494" } }"##
+            r##"{ "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "colour": "#949494" } }"##
         )
         .is_empty());
         assert!(messages(
-            r##"{ "frame": { "background": "ivory" }, "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "color": "#fefefe" } }"##
+            r##"{ "frame": { "background": "ivory" }, "mark": "point", "bind": { "x": "a", "y": "b" }, "style": { "colour": "#fefefe" } }"##
         )
         .is_empty());
     }

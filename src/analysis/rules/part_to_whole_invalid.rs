@@ -12,7 +12,7 @@ pub const RULE: Rule = Rule {
     id: ID,
     default_severity: Severity::Error,
     group: "expressiveness",
-    summary: "arc slices or stacks of values that are not parts of a whole",
+    summary: "wedge slices or stacks of values that are not parts of a whole",
     has_fix: true,
     docs: include_str!("part-to-whole-invalid.md"),
     check: RuleCheck::Semantic(check),
@@ -30,7 +30,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             .as_ref()
             .is_some_and(|arrange| arrange.value.is_stacked());
         let whole = match mark {
-            Mark::Arc => "the slices of a pie",
+            Mark::Wedge => "the slices of a pie",
             Mark::Bar | Mark::Area if stacked => "stacked segments",
             _ => continue,
         };
@@ -78,7 +78,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             continue;
         };
         let mut diagnostic = Diagnostic::new(ID, Severity::Error, range, message);
-        let fix = if mark == Mark::Arc {
+        let fix = if mark == Mark::Wedge {
             arc_to_bar_fix(layer)
         } else {
             unstack_fix(layer)

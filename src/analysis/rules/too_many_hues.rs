@@ -28,7 +28,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         .iter()
         .filter_map(|layer| {
             // on arcs every hue is a slice: `too-many-slices` speaks about them
-            if layer.mark() == Some(crate::spec::model::Mark::Arc) {
+            if layer.mark() == Some(crate::spec::model::Mark::Wedge) {
                 return None;
             }
             let facts = layer.binding(Channel::Hue)?;

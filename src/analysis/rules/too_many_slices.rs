@@ -16,7 +16,7 @@ pub const RULE: Rule = Rule {
     id: ID,
     default_severity: Severity::Warning,
     group: "capacity",
-    summary: "more arc slices than can be compared",
+    summary: "more wedge slices than can be compared",
     has_fix: false,
     docs: include_str!("too-many-slices.md"),
     check: RuleCheck::Semantic(check),
@@ -29,7 +29,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             .layer
             .mark
             .as_ref()
-            .filter(|mark| mark.value == Mark::Arc)
+            .filter(|mark| mark.value == Mark::Wedge)
         else {
             continue;
         };

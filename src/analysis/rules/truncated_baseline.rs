@@ -1,4 +1,4 @@
-//! `truncated-baseline`: bars or areas whose value scale does not start at zero, with Tufte's
+//! `truncated-baseline`: bars or areas whose value axis does not start at zero, with Tufte's
 //! lie factor computed from the data. Documentation: `truncated-baseline.md`.
 
 use crate::analysis::facts::BindingFacts;
@@ -6,7 +6,8 @@ use crate::analysis::rules::part_to_whole_invalid::format_number;
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Fix, Severity, TextEdit};
 use crate::knowledge::stevens::truncated_baseline_lie_factor;
-use crate::spec::model::{Mark, Summary};
+use crate::spec::model::{MappingFrom, Mark, Summary};
+use crate::spec::schema::json_string;
 use crate::text_range::TextRange;
 
 pub const ID: &str = "truncated-baseline";
@@ -33,12 +34,15 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         let Some(facts) = layer.binding(axis) else {
             continue;
         };
-        let Some(scale) = &facts.binding.scale else {
+        let Some(mapping) = &facts.binding.mapping else {
             continue;
         };
-        let zero_off = scale.zero.as_ref().filter(|zero| !zero.value);
-        let domain = scale
-            .domain
+        let zero_off = mapping
+            .from
+            .as_ref()
+            .filter(|from| from.value == MappingFrom::Data);
+        let domain = mapping
+            .extent
             .as_ref()
             .filter(|domain| domain.value.0 > 0.0 || domain.value.1 < 0.0);
         if zero_off.is_none() && domain.is_none() {
@@ -64,7 +68,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 )
             }
             None => {
-                let zero = zero_off.map_or(scale.range, |zero| zero.range);
+                let zero = zero_off.map_or(mapping.range, |from| from.range);
                 let smallest = facts
                     .profile
                     .and_then(|profile| profile.numeric.as_ref())
@@ -74,7 +78,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 (
                     zero,
                     format!(
-                        "`zero` is false, so the {mark_word} of `{}` start near the smallest value{smallest} instead of 0: the shortest almost vanish and differences look many times larger than they are",
+                        "`from` is `data`, so the {mark_word} of `{}` start near the smallest value{smallest} instead of 0: the shortest almost vanish and differences look many times larger than they are",
                         facts.display_name()
                     ),
                 )
@@ -84,12 +88,12 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         if let Some(zero) = zero_off {
             edits.push(TextEdit {
                 range: zero.range,
-                new_text: "true".to_string(),
+                new_text: json_string(MappingFrom::Zero.as_str()),
             });
         }
         if let Some(domain) = domain {
             if let Some(bound_range) =
-                domain_bound_range(context.text(), domain.range, domain.value.0 > 0.0)
+                extent_bound_range(context.text(), domain.range, domain.value.0 > 0.0)
             {
                 edits.push(TextEdit {
                     range: bound_range,
@@ -102,7 +106,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             edits.sort_by_key(|edit| edit.range.start);
             diagnostic
                 .fixes
-                .push(Fix::quick("start the scale at zero", edits));
+                .push(Fix::quick("start the axis at zero", edits));
         }
         diagnostics.push(diagnostic);
     }
@@ -143,7 +147,7 @@ fn lie_factor_clause(facts: &BindingFacts<'_>, baseline: f64) -> String {
 }
 
 /// The range of the lower (`first = true`) or upper bound number inside a `[low, high]` domain.
-fn domain_bound_range(text: &str, domain: TextRange, first: bool) -> Option<TextRange> {
+fn extent_bound_range(text: &str, domain: TextRange, first: bool) -> Option<TextRange> {
     let inner = text.get(domain.start..domain.end)?;
     let mut numbers = Vec::new();
     let mut start = None;
