@@ -108,7 +108,7 @@ fn every_demo_spec_meant_to_be_valid_validates() {
 }
 
 /// Walk every subschema: each property and each definition has a description (directly, or on
-/// the definition its `$ref` points to), and each enum lists a description for every value.
+/// the definition its `$ref` points to), and each allowed value is a `const` with a description.
 #[test]
 fn every_key_and_value_is_described() {
     let schema = schema();
@@ -136,16 +136,24 @@ fn walk(root: &Value, node: &Value, path: &str, missing: &mut Vec<String>) {
     let Some(object) = node.as_object() else {
         return;
     };
-    if let Some(values) = object.get("enum").and_then(Value::as_array) {
-        let descriptions = object.get("valueDescriptions");
-        for value in values {
-            let key = value.as_str().unwrap_or_default();
-            if descriptions
-                .and_then(|d| d.get(key))
+    // values are described in standard JSON Schema (a `oneOf` of `const` + `description`), so
+    // editors without markwell show them; a bare `enum` would leave its values undescribed
+    if object.contains_key("enum") || object.contains_key("valueDescriptions") {
+        missing.push(format!(
+            "{path}: values listed without a `oneOf` of described `const`s"
+        ));
+    }
+    if let Some(branches) = object.get("oneOf").and_then(Value::as_array) {
+        for (index, branch) in branches.iter().enumerate() {
+            let value = branch.get("const").and_then(Value::as_str);
+            let described = branch
+                .get("description")
                 .and_then(Value::as_str)
-                .is_none()
-            {
-                missing.push(format!("{path}: enum value `{key}`"));
+                .is_some_and(|d| !d.is_empty());
+            match value {
+                Some(value) if described => {}
+                Some(value) => missing.push(format!("{path}: value `{value}`")),
+                None => missing.push(format!("{path}/oneOf/{index}: not a `const` branch")),
             }
         }
     }

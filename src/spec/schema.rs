@@ -154,16 +154,30 @@ pub fn description_at_path(path: &[PathSegment]) -> Option<&'static str> {
         .as_str()
 }
 
-/// Allowed enum values at `path`, with their descriptions when the schema has them.
+/// Allowed values at `path` with their descriptions: the `const` branches of a `oneOf` (how the
+/// schema describes each value in standard JSON Schema), or a plain `enum` without descriptions.
 pub fn enum_values_at_path(path: &[PathSegment]) -> Vec<(&'static str, Option<&'static str>)> {
-    let Some(schema) = schema_at_path(schema_document(), path) else {
-        return Vec::new();
+    schema_at_path(schema_document(), path)
+        .map(allowed_values)
+        .unwrap_or_default()
+}
+
+/// The allowed values of one schema object (looking into `then` for a conditional like `order`).
+fn allowed_values(schema: &Value) -> Vec<(&str, Option<&str>)> {
+    let has_values = |schema: &Value| schema.get("oneOf").is_some() || schema.get("enum").is_some();
+    let schema = match schema.get("then") {
+        Some(then) if !has_values(schema) => then,
+        _ => schema,
     };
-    let schema = schema
-        .get("then")
-        .filter(|_| schema.get("enum").is_none())
-        .unwrap_or(schema);
-    let descriptions = schema.get("valueDescriptions");
+    if let Some(branches) = schema.get("oneOf").and_then(Value::as_array) {
+        return branches
+            .iter()
+            .filter_map(|branch| {
+                let value = branch.get("const")?.as_str()?;
+                Some((value, branch.get("description").and_then(Value::as_str)))
+            })
+            .collect();
+    }
     schema
         .get("enum")
         .and_then(Value::as_array)
@@ -171,12 +185,7 @@ pub fn enum_values_at_path(path: &[PathSegment]) -> Vec<(&'static str, Option<&'
             values
                 .iter()
                 .filter_map(Value::as_str)
-                .map(|value| {
-                    let description = descriptions
-                        .and_then(|d| d.get(value))
-                        .and_then(Value::as_str);
-                    (value, description)
-                })
+                .map(|value| (value, None))
                 .collect()
         })
         .unwrap_or_default()
@@ -234,11 +243,15 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                     diagnostics.push(diagnostic);
                 }
             }
-            ValidationErrorKind::Enum { options } => {
-                let allowed: Vec<&str> = options
-                    .as_array()
-                    .map(|values| values.iter().filter_map(Value::as_str).collect())
-                    .unwrap_or_default();
+            ValidationErrorKind::Enum { .. } | ValidationErrorKind::OneOfNotValid { .. } => {
+                let allowed: Vec<&str> = enum_values_at_path(&path)
+                    .into_iter()
+                    .map(|(value, _)| value)
+                    .collect();
+                // a value of the wrong type already has its type error
+                if allowed.is_empty() || node.kind() != NodeKind::String {
+                    continue;
+                }
                 let written = node.as_str().map(|text| text.into_owned());
                 let shown = written
                     .as_deref()
@@ -361,4 +374,28 @@ fn describe_place(path: &[PathSegment]) -> String {
 /// A JSON string literal for `text`.
 pub fn json_string(text: &str) -> String {
     Value::String(text.to_string()).to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn values_and_their_descriptions_come_from_one_of_const_branches() {
+        let marks = enum_values_at_path(&[PathSegment::Key("mark".to_string())]);
+        let names: Vec<&str> = marks.iter().map(|(value, _)| *value).collect();
+        assert_eq!(
+            names,
+            ["point", "line", "area", "bar", "wedge", "cell", "text", "segment"]
+        );
+        assert!(marks.iter().all(|(_, description)| description.is_some()));
+        // `order` lists its words under `then` of a conditional
+        let order = enum_values_at_path(&[
+            PathSegment::Key("bind".to_string()),
+            PathSegment::Key("x".to_string()),
+            PathSegment::Key("order".to_string()),
+        ]);
+        assert_eq!(order.len(), 3);
+        assert_eq!(order[0], ("ascending", Some("Smallest first.")));
+    }
 }
