@@ -4,6 +4,7 @@ pub mod lower;
 pub mod model;
 pub mod schema;
 pub mod suggest;
+pub mod synonyms;
 
 pub use lower::lower_document;
 pub use model::*;

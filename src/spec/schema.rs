@@ -11,6 +11,7 @@ use serde_json::{Map, Number, Value};
 
 use crate::diagnostic::{Diagnostic, Fix, Severity, TextEdit};
 use crate::spec::suggest::closest_name;
+use crate::spec::synonyms::{key_synonym, value_synonym};
 use crate::syntax::{Node, NodeKind, SyntaxTree};
 use crate::text_range::TextRange;
 
@@ -229,16 +230,46 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                         range,
                         format!("unknown key `{key}` {place}"),
                     );
-                    if let Some(suggestion) = closest_name(key, valid.iter().copied()) {
-                        diagnostic.message =
-                            format!("{}; did you mean `{suggestion}`?", diagnostic.message);
-                        diagnostic.fixes.push(Fix::quick(
-                            format!("rename to `{suggestion}`"),
-                            vec![TextEdit {
-                                range,
-                                new_text: json_string(suggestion),
-                            }],
-                        ));
+                    // a word from elsewhere first, then a near spelling; never a key the
+                    // object already has
+                    let synonym = key_synonym(&path, key)
+                        .filter(|name| valid.contains(name) && node.member(name).is_none());
+                    let suggestion = synonym.or_else(|| {
+                        closest_name(key, valid.iter().copied())
+                            .filter(|name| node.member(name).is_none())
+                    });
+                    if let Some(suggestion) = suggestion {
+                        diagnostic.message = if synonym.is_some() {
+                            format!(
+                                "{}; this format calls it `{suggestion}`",
+                                diagnostic.message
+                            )
+                        } else {
+                            format!("{}; did you mean `{suggestion}`?", diagnostic.message)
+                        };
+                        let mut edits = vec![TextEdit {
+                            range,
+                            new_text: json_string(suggestion),
+                        }];
+                        let mut title = format!("rename to `{suggestion}`");
+                        // `"zero": true` was a switch; `from` names where the axis starts
+                        if suggestion == "from" {
+                            if let Some(value) = member.and_then(|member| member.value()) {
+                                let new_value = match value.kind() {
+                                    NodeKind::True => Some("zero"),
+                                    NodeKind::False => Some("data"),
+                                    _ => None,
+                                };
+                                if let Some(new_value) = new_value {
+                                    title = format!("rename to `from` and write `\"{new_value}\"`");
+                                    edits.push(TextEdit {
+                                        range: value.range(),
+                                        new_text: json_string(new_value),
+                                    });
+                                }
+                            }
+                        }
+                        diagnostic.fixes.push(Fix::quick(title, edits));
                     }
                     diagnostics.push(diagnostic);
                 }
@@ -266,12 +297,27 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                         list_in_backticks(&allowed)
                     ),
                 );
-                if let Some(suggestion) = written
+                let holder = match path.last() {
+                    Some(PathSegment::Key(key)) => key.as_str(),
+                    _ => "",
+                };
+                let synonym = written
                     .as_deref()
-                    .and_then(|text| closest_name(text, allowed.iter().copied()))
-                {
-                    diagnostic.message =
-                        format!("{shown} is not allowed {place}; did you mean `{suggestion}`?");
+                    .and_then(|text| value_synonym(holder, text))
+                    .filter(|value| allowed.contains(value));
+                let suggestion = synonym.or_else(|| {
+                    written
+                        .as_deref()
+                        .and_then(|text| closest_name(text, allowed.iter().copied()))
+                });
+                if let Some(suggestion) = suggestion {
+                    diagnostic.message = if synonym.is_some() {
+                        format!(
+                            "{shown} is not allowed {place}; this format calls it `{suggestion}`"
+                        )
+                    } else {
+                        format!("{shown} is not allowed {place}; did you mean `{suggestion}`?")
+                    };
                     diagnostic.fixes.push(Fix::quick(
                         format!("change to `{suggestion}`"),
                         vec![TextEdit {
@@ -397,5 +443,157 @@ mod tests {
         ]);
         assert_eq!(order.len(), 3);
         assert_eq!(order[0], ("ascending", Some("Smallest first.")));
+    }
+
+    fn apply(text: &str, fix: &Fix) -> String {
+        let mut edits = fix.edits.clone();
+        edits.sort_by_key(|edit| std::cmp::Reverse(edit.range.start));
+        let mut text = text.to_string();
+        for edit in edits {
+            text.replace_range(edit.range.start..edit.range.end, &edit.new_text);
+        }
+        text
+    }
+
+    fn findings(text: &str) -> Vec<Diagnostic> {
+        check_schema(&crate::syntax::parse(text))
+    }
+
+    #[test]
+    fn words_from_elsewhere_get_the_format_name_as_a_fix() {
+        let cases = [
+            (r#"{ "data": { "path": "a.csv" } }"#, "data", r#""source""#),
+            (r#"{ "encoding": {} }"#, "encoding", r#""bind""#),
+            (
+                r#"{ "bind": { "x": { "field": "a" } } }"#,
+                "field",
+                r#""column""#,
+            ),
+            (
+                r##"{ "style": { "color": "#123" } }"##,
+                "color",
+                r#""colour""#,
+            ),
+            (r#"{ "bind": { "color": "route" } }"#, "color", r#""hue""#),
+            (r#"{ "bind": { "size": "route" } }"#, "size", r#""area""#),
+            (
+                r#"{ "columns": { "a": { "type": "time" } } }"#,
+                "type",
+                r#""kind""#,
+            ),
+            (
+                r#"{ "bind": { "x": { "column": "a", "scale": {} } } }"#,
+                "scale",
+                r#""mapping""#,
+            ),
+            (
+                r#"{ "bind": { "x": { "mapping": { "type": "even" } } } }"#,
+                "type",
+                r#""spacing""#,
+            ),
+            (
+                r#"{ "bind": { "x": { "mapping": { "domain": [0, 1] } } } }"#,
+                "domain",
+                r#""extent""#,
+            ),
+            (
+                r#"{ "bind": { "x": { "mapping": { "reverse": true } } } }"#,
+                "reverse",
+                r#""flip""#,
+            ),
+            (
+                r#"{ "bind": { "x": { "aggregate": "sum" } } }"#,
+                "aggregate",
+                r#""summary""#,
+            ),
+        ];
+        for (text, key, new_text) in cases {
+            let found = findings(text);
+            let unknown = found
+                .iter()
+                .find(|d| d.rule == UNKNOWN_KEY)
+                .unwrap_or_else(|| panic!("no unknown-key in {text}: {found:?}"));
+            assert!(
+                unknown.message.contains(&format!("`{key}`")),
+                "{}",
+                unknown.message
+            );
+            assert!(
+                unknown.message.contains("this format calls it"),
+                "{}",
+                unknown.message
+            );
+            assert_eq!(unknown.fixes[0].edits[0].new_text, new_text, "{text}");
+            let fixed = apply(text, &unknown.fixes[0]);
+            assert!(
+                findings(&fixed).iter().all(|d| d.rule != UNKNOWN_KEY),
+                "{fixed}"
+            );
+        }
+    }
+
+    #[test]
+    fn zero_switch_becomes_from_with_its_value() {
+        let text = r#"{ "bind": { "y": { "mapping": { "zero": false } } } }"#;
+        let found = findings(text);
+        let fix = &found[0].fixes[0];
+        assert_eq!(fix.title, "rename to `from` and write `\"data\"`");
+        assert_eq!(
+            apply(text, fix),
+            r#"{ "bind": { "y": { "mapping": { "from": "data" } } } }"#
+        );
+    }
+
+    #[test]
+    fn value_words_get_the_format_value_as_a_fix() {
+        let cases = [
+            (
+                r#"{ "columns": { "a": { "kind": "ordinal" } } }"#,
+                r#""ordered""#,
+            ),
+            (
+                r#"{ "columns": { "a": { "kind": "nominal" } } }"#,
+                r#""categorical""#,
+            ),
+            (
+                r#"{ "columns": { "a": { "kind": "temporal" } } }"#,
+                r#""time""#,
+            ),
+            (r#"{ "bind": { "x": { "summary": "total" } } }"#, r#""sum""#),
+            (
+                r#"{ "bind": { "x": { "summary": "average" } } }"#,
+                r#""mean""#,
+            ),
+            (r#"{ "mark": "arc" }"#, r#""wedge""#),
+            (r#"{ "mark": "pie" }"#, r#""wedge""#),
+            (r#"{ "mark": "tile" }"#, r#""cell""#),
+            (r#"{ "mark": "rule" }"#, r#""segment""#),
+            (r#"{ "arrange": "fill" }"#, r#""share""#),
+            (
+                r#"{ "bind": { "x": { "mapping": { "spacing": "log" } } } }"#,
+                r#""logarithmic""#,
+            ),
+            (
+                r#"{ "bind": { "x": { "mapping": { "spacing": "ordinal" } } } }"#,
+                r#""ranked""#,
+            ),
+        ];
+        for (text, new_text) in cases {
+            let found = findings(text);
+            let invalid = found
+                .iter()
+                .find(|d| d.rule == INVALID_VALUE)
+                .unwrap_or_else(|| panic!("no invalid-value in {text}: {found:?}"));
+            assert!(
+                invalid.message.contains("this format calls it"),
+                "{}",
+                invalid.message
+            );
+            assert_eq!(invalid.fixes[0].edits[0].new_text, new_text, "{text}");
+            assert!(
+                findings(&apply(text, &invalid.fixes[0])).is_empty(),
+                "{text}"
+            );
+        }
     }
 }
