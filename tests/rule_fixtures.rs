@@ -2,6 +2,7 @@
 //! (must trigger the rule) and `miss-*` (near misses that must not). Beside each spec, a
 //! `.expect` file lists every diagnostic the spec must produce, one per line, as
 //! `rule-id: exact source text of the range` (an empty or absent file: no diagnostics at all).
+//! A line `    message: ...` (four spaces) under an expectation also pins its exact message.
 //! Specs read invented data from `tests/fixtures/data/`.
 //!
 //! The test reports true positives, false positives and false negatives per rule and fails on
@@ -26,8 +27,8 @@ struct Tally {
     miss_files: usize,
 }
 
-/// (rule, source text) pairs a spec produces.
-fn actual_findings(path: &Path, cache: &ProfileCache) -> Vec<(String, String)> {
+/// (rule, source text, message) a spec produces.
+fn actual_findings(path: &Path, cache: &ProfileCache) -> Vec<(String, String, String)> {
     let text = std::fs::read_to_string(path).unwrap_or_default();
     let document = parse_document(&text);
     let options = ResolveOptions {
@@ -43,21 +44,28 @@ fn actual_findings(path: &Path, cache: &ProfileCache) -> Vec<(String, String)> {
                 .get(diagnostic.range.start..diagnostic.range.end)
                 .unwrap_or("<bad range>")
                 .to_string();
-            (diagnostic.rule.to_string(), snippet)
+            (diagnostic.rule.to_string(), snippet, diagnostic.message)
         })
         .collect()
 }
 
-fn expected_findings(spec: &Path) -> Vec<(String, String)> {
+/// (rule, source text, exact message if pinned) a spec must produce.
+fn expected_findings(spec: &Path) -> Vec<(String, String, Option<String>)> {
     let expect = spec.with_extension("").with_extension("expect");
     let text = std::fs::read_to_string(expect).unwrap_or_default();
-    text.lines()
-        .filter(|line| !line.trim().is_empty())
-        .filter_map(|line| {
-            let (rule, snippet) = line.split_once(": ")?;
-            Some((rule.trim().to_string(), snippet.to_string()))
-        })
-        .collect()
+    let mut expected: Vec<(String, String, Option<String>)> = Vec::new();
+    for line in text.lines().filter(|line| !line.trim().is_empty()) {
+        if let Some(message) = line.strip_prefix("    message: ") {
+            if let Some(last) = expected.last_mut() {
+                last.2 = Some(message.to_string());
+            }
+            continue;
+        }
+        if let Some((rule, snippet)) = line.split_once(": ") {
+            expected.push((rule.trim().to_string(), snippet.to_string(), None));
+        }
+    }
+    expected
 }
 
 #[test]
@@ -92,35 +100,46 @@ fn every_rule_fixture_produces_exactly_its_expected_diagnostics() {
             let tally = tallies.entry(rule.clone()).or_default();
             if name.starts_with("hit-") {
                 tally.hit_files += 1;
-                if !expected.iter().any(|(r, _)| *r == rule) {
+                if !expected.iter().any(|(r, _, _)| *r == rule) {
                     failures.push(format!("{name}: a hit fixture must expect `{rule}`"));
                 }
             } else if name.starts_with("miss-") {
                 tally.miss_files += 1;
-                if expected.iter().any(|(r, _)| *r == rule) {
+                if expected.iter().any(|(r, _, _)| *r == rule) {
                     failures.push(format!("{name}: a near miss must not expect `{rule}`"));
                 }
             }
             for finding in &expected {
                 let counted = tallies.entry(finding.0.clone()).or_default();
-                if let Some(index) = actual.iter().position(|found| found == finding) {
+                if let Some(index) = actual.iter().position(|found| {
+                    found.0 == finding.0
+                        && found.1 == finding.1
+                        && finding.2.as_ref().is_none_or(|message| *message == found.2)
+                }) {
                     actual.remove(index);
                     counted.true_positives += 1;
                 } else {
                     counted.false_negatives += 1;
                     failures.push(format!(
-                        "{}/{name}: missing `{}: {}`",
-                        rule, finding.0, finding.1
+                        "{}/{name}: missing `{}: {}`{}",
+                        rule,
+                        finding.0,
+                        finding.1,
+                        finding
+                            .2
+                            .as_ref()
+                            .map(|message| format!(" with message `{message}`"))
+                            .unwrap_or_default()
                     ));
                 }
             }
-            for (found_rule, snippet) in actual {
+            for (found_rule, snippet, message) in actual {
                 tallies
                     .entry(found_rule.clone())
                     .or_default()
                     .false_positives += 1;
                 failures.push(format!(
-                    "{rule}/{name}: unexpected `{found_rule}: {snippet}`"
+                    "{rule}/{name}: unexpected `{found_rule}: {snippet}` ({message})"
                 ));
             }
         }

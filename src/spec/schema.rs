@@ -330,11 +330,11 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
             }
             ValidationErrorKind::Type { kind } => {
                 let expected = match kind {
-                    TypeKind::Single(single) => article_type(&single.to_string()),
+                    TypeKind::Single(single) => type_words(&single.to_string()).to_string(),
                     TypeKind::Multiple(multiple) => {
-                        let names: Vec<String> = multiple
+                        let names: Vec<&str> = multiple
                             .iter()
-                            .map(|single| article_type(&single.to_string()))
+                            .map(|single| type_words(&single.to_string()))
                             .collect();
                         names.join(" or ")
                     }
@@ -343,7 +343,11 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                     SCHEMA_MISMATCH,
                     Severity::Error,
                     node.range(),
-                    format!("expected {expected} {place}"),
+                    format!(
+                        "{} must be {expected}, not {}",
+                        subject(&path),
+                        written_kind(node)
+                    ),
                 ));
             }
             ValidationErrorKind::Required { property } => {
@@ -352,20 +356,25 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                     node.range().start,
                     (node.range().start + 1).min(node.range().end),
                 );
+                let owner = match path.as_slice() {
+                    [PathSegment::Key(layers), PathSegment::Index(index)] if layers == "layers" => {
+                        format!("layer {} of `layers`", index + 1)
+                    }
+                    _ => format!("this object {place}"),
+                };
                 diagnostics.push(Diagnostic::new(
                     SCHEMA_MISMATCH,
                     Severity::Error,
                     range,
-                    format!("missing required key `{name}` {place}"),
+                    format!("{owner} has no `{name}`, which it needs"),
                 ));
             }
-            _ => {
-                let message = error.to_string();
+            other => {
                 diagnostics.push(Diagnostic::new(
                     SCHEMA_MISMATCH,
                     Severity::Error,
                     node.range(),
-                    format!("{} {place}", lowercase_first(&message)),
+                    plain_message(other, &path, node),
                 ));
             }
         }
@@ -373,19 +382,178 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
     diagnostics
 }
 
-fn article_type(name: &str) -> String {
+/// What a schema type asks for, in words.
+fn type_words(name: &str) -> &'static str {
     match name {
-        "object" | "array" | "integer" => format!("an {name}"),
-        "null" => "null".to_string(),
-        other => format!("a {other}"),
+        "string" => "text in quotes",
+        "number" => "a number",
+        "integer" => "a whole number",
+        "boolean" => "`true` or `false`",
+        "object" => "an object (`{ ... }`)",
+        "array" => "a list (`[ ... ]`)",
+        "null" => "`null`",
+        _ => "another kind of value",
     }
 }
 
-fn lowercase_first(text: &str) -> String {
-    let mut chars = text.chars();
-    match chars.next() {
-        Some(first) => first.to_lowercase().chain(chars).collect(),
-        None => String::new(),
+/// What the document has, in words.
+fn written_kind(node: Node<'_>) -> String {
+    match node.kind() {
+        NodeKind::String => "text".to_string(),
+        NodeKind::Number => format!("the number {}", node.text()),
+        NodeKind::True => "`true`".to_string(),
+        NodeKind::False => "`false`".to_string(),
+        NodeKind::Null => "`null`".to_string(),
+        NodeKind::Object => "an object".to_string(),
+        NodeKind::Array => "a list".to_string(),
+        _ => "this value".to_string(),
+    }
+}
+
+/// "`opacity` in `style`", "entry 2 of `bind.hue.palette`", "the chart" for the root.
+fn subject(path: &[PathSegment]) -> String {
+    match path.split_last() {
+        None => "the chart".to_string(),
+        Some((PathSegment::Key(key), parent)) if parent.is_empty() => format!("`{key}`"),
+        Some((PathSegment::Key(key), parent)) => {
+            format!("`{key}` {}", describe_place(parent))
+        }
+        Some((PathSegment::Index(index), parent)) => {
+            format!("entry {} of `{}`", index + 1, dotted(parent))
+        }
+    }
+}
+
+/// The key that holds the value at `path` (the last key, skipping list positions).
+fn holder(path: &[PathSegment]) -> &str {
+    path.iter()
+        .rev()
+        .find_map(|segment| match segment {
+            PathSegment::Key(key) => Some(key.as_str()),
+            PathSegment::Index(_) => None,
+        })
+        .unwrap_or("")
+}
+
+fn number_text(value: &Value) -> String {
+    match value.as_f64() {
+        Some(number) if number.fract() == 0.0 && number.abs() < 1e15 => {
+            format!("{}", number as i64)
+        }
+        Some(number) => format!("{number}"),
+        None => value.to_string(),
+    }
+}
+
+/// Our own sentence for each kind of schema error that has no branch of its own above.
+fn plain_message(kind: &ValidationErrorKind, path: &[PathSegment], node: Node<'_>) -> String {
+    let subject = subject(path);
+    let key = holder(path);
+    let inside_bind = path
+        .iter()
+        .any(|segment| matches!(segment, PathSegment::Key(key) if key == "bind"));
+    let schema = schema_at_path(schema_document(), path);
+    let bound = |name: &str| schema.and_then(|schema| schema.get(name)).map(number_text);
+    let written = || {
+        node.as_str()
+            .map(|text| format!("`{text}`"))
+            .unwrap_or_else(|| format!("`{}`", node.text()))
+    };
+    match kind {
+        ValidationErrorKind::Pattern { .. } => {
+            let colour = schema
+                .and_then(|schema| schema.get("pattern"))
+                .zip(schema_document().pointer("/$defs/colour/pattern"))
+                .is_some_and(|(here, colour)| here == colour);
+            if colour {
+                format!(
+                    "{} is not a colour: colours are written `#rgb` or `#rrggbb` with hex digits (0-9, a-f), e.g. `#1b6ca8`",
+                    written()
+                )
+            } else {
+                format!("{} is not written the way {subject} needs", written())
+            }
+        }
+        ValidationErrorKind::MinLength { .. } => {
+            let what = match key {
+                "column" | "by" => "name a column",
+                _ if inside_bind => "name a column",
+                "path" => "name a data file",
+                "delimiter" => "give the one character that separates fields",
+                _ => "write something or leave the key out",
+            };
+            format!("{subject} is empty: {what}")
+        }
+        ValidationErrorKind::MaxLength { limit } => {
+            let length = node.as_str().map_or(0, |text| text.chars().count());
+            if *limit == 1 {
+                format!(
+                    "{subject} must be one character; {} has {length}",
+                    written()
+                )
+            } else {
+                format!(
+                    "{subject} can be at most {limit} characters; {} has {length}",
+                    written()
+                )
+            }
+        }
+        ValidationErrorKind::MinItems { limit } | ValidationErrorKind::MaxItems { limit } => {
+            let count = node.elements().count();
+            let has = match count {
+                0 => "it is empty".to_string(),
+                1 => "it has 1".to_string(),
+                _ => format!("it has {count}"),
+            };
+            match key {
+                "extent" => format!("{subject} needs two numbers, low and high; {has}"),
+                "layers" => format!("{subject} needs at least one layer; {has}"),
+                _ if matches!(kind, ValidationErrorKind::MinItems { .. }) => {
+                    format!("{subject} needs at least {limit} entries; {has}")
+                }
+                _ => format!("{subject} can hold at most {limit} entries; {has}"),
+            }
+        }
+        ValidationErrorKind::Minimum { limit } | ValidationErrorKind::Maximum { limit } => {
+            let shown = node.text();
+            match (bound("minimum"), bound("maximum")) {
+                (Some(low), Some(high)) => {
+                    format!("{subject} must be between {low} and {high}; {shown} is outside")
+                }
+                _ if matches!(kind, ValidationErrorKind::Minimum { .. }) => {
+                    if number_text(limit) == "0" {
+                        format!("{subject} cannot be negative; it is {shown}")
+                    } else {
+                        format!(
+                            "{subject} must be at least {}; it is {shown}",
+                            number_text(limit)
+                        )
+                    }
+                }
+                _ => format!(
+                    "{subject} can be at most {}; it is {shown}",
+                    number_text(limit)
+                ),
+            }
+        }
+        ValidationErrorKind::ExclusiveMinimum { limit } => {
+            format!(
+                "{subject} must be more than {}; it is {}",
+                number_text(limit),
+                node.text()
+            )
+        }
+        ValidationErrorKind::ExclusiveMaximum { limit } => {
+            format!(
+                "{subject} must be less than {}; it is {}",
+                number_text(limit),
+                node.text()
+            )
+        }
+        ValidationErrorKind::Constant { expected_value } => {
+            format!("{subject} must be {expected_value}")
+        }
+        _ => format!("{subject} does not fit the chart-spec format here"),
     }
 }
 
@@ -402,6 +570,11 @@ fn describe_place(path: &[PathSegment]) -> String {
     if path.is_empty() {
         return "at the top level".to_string();
     }
+    format!("in `{}`", dotted(path))
+}
+
+/// `bind.y.mapping`, `layers[0].bind`.
+fn dotted(path: &[PathSegment]) -> String {
     let mut dotted = String::new();
     for segment in path {
         match segment {
@@ -414,7 +587,7 @@ fn describe_place(path: &[PathSegment]) -> String {
             PathSegment::Index(index) => dotted.push_str(&format!("[{index}]")),
         }
     }
-    format!("in `{dotted}`")
+    dotted
 }
 
 /// A JSON string literal for `text`.
