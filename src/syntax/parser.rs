@@ -129,6 +129,16 @@ impl<'t> Parser<'t> {
         }
     }
 
+    /// The last character of the value pushed last: where a missing `,` belongs.
+    fn end_of_previous_value(&self) -> TextRange {
+        let end = self.last_significant_end;
+        let start = self.text[..end]
+            .char_indices()
+            .next_back()
+            .map_or(end, |(index, _)| index);
+        TextRange::new(start, end)
+    }
+
     /// The kind of the first significant token after the current one, without consuming.
     fn kind_after_current(&mut self) -> Option<TokenKind> {
         let mut index = 0;
@@ -307,8 +317,8 @@ impl<'t> Parser<'t> {
                 }
                 _ => {
                     if !expecting_member {
-                        self.builder
-                            .error(token.range, "expected `,` between members");
+                        let range = self.end_of_previous_value();
+                        self.builder.error(range, "missing `,` after this member");
                     }
                     self.parse_member(&mut seen_keys);
                     expecting_member = false;
@@ -456,8 +466,8 @@ impl<'t> Parser<'t> {
                 TokenKind::Colon => self.stray_token_node(token),
                 _ => {
                     if !expecting_value {
-                        self.builder
-                            .error(token.range, "expected `,` between elements");
+                        let range = self.end_of_previous_value();
+                        self.builder.error(range, "missing `,` after this value");
                     }
                     self.parse_value();
                     expecting_value = false;
@@ -695,7 +705,7 @@ mod tests {
         let tree = check(
             r#"
 {"mark": "bar" "bind": {}}
-               ^^^^^^ expected `,` between members
+             ^ missing `,` after this member
 "#,
         );
         let spec = root(&tree);
@@ -709,11 +719,29 @@ mod tests {
         let tree = check(
             r#"
 [1 2, 3]
-   ^ expected `,` between elements
+ ^ missing `,` after this value
 "#,
         );
         let values: Vec<f64> = root(&tree).elements().filter_map(|e| e.as_f64()).collect();
         assert_eq!(values, vec![1.0, 2.0, 3.0]);
+    }
+
+    #[test]
+    fn a_missing_comma_is_reported_at_the_end_of_the_value_that_needs_it() {
+        // not at the start of the next line: the `,` belongs after `"bar"`
+        let text = "{\n  \"mark\": \"bar\"\n  \"bind\": {}\n}\n";
+        let tree = parse(text);
+        assert_eq!(tree.errors().len(), 1);
+        assert_eq!(tree.errors()[0].message, "missing `,` after this member");
+        assert_eq!(tree.errors()[0].range, TextRange::new(16, 17));
+        assert_eq!(&text[16..17], "\"");
+        assert_eq!(text.find("\"bar\"").map(|start| start + 5), Some(17));
+        // after a nested value, the error sits on its closing bracket
+        let text = "[[1, 2]\n [3]]";
+        let tree = parse(text);
+        assert_eq!(tree.errors().len(), 1);
+        assert_eq!(tree.errors()[0].range, TextRange::new(6, 7));
+        assert_eq!(&text[6..7], "]");
     }
 
     #[test]
@@ -732,7 +760,7 @@ mod tests {
             r#"
 {"a" "b": 2}
  ^^^ expected `:` after key
-     ^^^ expected `,` between members
+   ^ missing `,` after this member
 "#,
         );
         assert_eq!(keys(root(&tree)), vec![Some("a".into()), Some("b".into())]);
@@ -854,7 +882,7 @@ mod tests {
             r#"
 [1 : 2]
    ^ unexpected `:`
-     ^ expected `,` between elements
+   ^ missing `,` after this value
 "#,
         );
         assert_eq!(root(&tree).elements().count(), 2);
@@ -986,8 +1014,8 @@ mod tests {
             r#"
 {"a": "open,
       ^^^^^^ unterminated string
+           ^ missing `,` after this member
  "b": 2}
- ^^^ expected `,` between members
 "#,
         );
         assert_eq!(
