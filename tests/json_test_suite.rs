@@ -195,3 +195,79 @@ fn nesting_up_to_the_bound_is_accepted() {
     let tree = parse_with_time_limit("nesting one past the bound", text);
     assert_eq!(tree.errors().len(), 1);
 }
+
+/// The real binary over the suite: `markwell check --format json` gives no `syntax-error` for
+/// any of the 95 must-accept cases (duplicate keys there are `duplicate-key`, not a syntax
+/// error) and at least one for each of the 188 must-reject cases. Source of the cases and of
+/// their expected results: Nicolas Seriot's JSONTestSuite (2016), file-name prefixes `y_`/`n_`
+/// as its README defines them; copy and notes in `tests/json-test-suite/SOURCES.md`.
+#[test]
+fn the_cli_reports_syntax_errors_exactly_for_the_must_reject_cases() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let mut expected = std::collections::BTreeMap::new();
+    for case in load_cases() {
+        let Some(stem) = case.file_name.strip_suffix(".json") else {
+            continue;
+        };
+        if !(stem.starts_with("y_") || stem.starts_with("n_")) {
+            continue;
+        }
+        // `check` looks for `*.chart.json` in a folder; the bytes are copied unchanged
+        let name = format!("{stem}.chart.json");
+        std::fs::write(dir.path().join(&name), &case.bytes).expect("write case");
+        expected.insert(name, stem.starts_with("n_"));
+    }
+    let output = std::process::Command::new(env!("CARGO_BIN_EXE_markwell"))
+        .current_dir(dir.path())
+        .env("NO_COLOR", "1")
+        .args(["check", "--format", "json", "."])
+        .output()
+        .expect("markwell runs");
+    let report: serde_json::Value =
+        serde_json::from_slice(&output.stdout).expect("a JSON report on stdout");
+    let files = report["files"].as_array().expect("files in the report");
+    let mut seen = 0;
+    let mut wrong = Vec::new();
+    let (mut y_count, mut n_count) = (0, 0);
+    for file in files {
+        let path = file["path"].as_str().unwrap_or_default();
+        let name = Path::new(path)
+            .file_name()
+            .map(|name| name.to_string_lossy().into_owned())
+            .unwrap_or_default();
+        let Some(must_reject) = expected.get(&name) else {
+            continue;
+        };
+        seen += 1;
+        let syntax_errors = file["diagnostics"]
+            .as_array()
+            .map(|all| all.iter().filter(|d| d["rule"] == "syntax-error").count())
+            .unwrap_or(0);
+        if *must_reject {
+            n_count += 1;
+            if syntax_errors == 0 {
+                wrong.push(format!("{name}: accepted"));
+            }
+        } else {
+            y_count += 1;
+            if syntax_errors > 0 {
+                wrong.push(format!("{name}: {syntax_errors} syntax errors"));
+            }
+        }
+    }
+    assert_eq!(seen, expected.len(), "every case is in the report");
+    assert_eq!((y_count, n_count), (95, 188));
+    assert!(wrong.is_empty(), "{wrong:#?}");
+    // the two must-accept cases with a repeated key get `duplicate-key` instead
+    let duplicates: Vec<&str> = files
+        .iter()
+        .filter(|file| {
+            file["diagnostics"]
+                .as_array()
+                .is_some_and(|all| all.iter().any(|d| d["rule"] == "duplicate-key"))
+        })
+        .filter_map(|file| file["path"].as_str())
+        .filter(|path| path.contains("y_"))
+        .collect();
+    assert_eq!(duplicates.len(), 2, "{duplicates:?}");
+}

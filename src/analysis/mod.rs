@@ -41,12 +41,27 @@ pub fn parse_document(text: &str) -> ParsedDocument {
         .iter()
         .take(MAX_SYNTAX_ERRORS)
         .map(|error| {
-            Diagnostic::new(
-                rules::SYNTAX_ERROR,
+            // a duplicate key is valid JSON (RFC 8259 section 4: names SHOULD be unique) but
+            // ambiguous, so it has its own rule
+            let rule = match error.kind {
+                crate::syntax::SyntaxErrorKind::DuplicateKey => rules::DUPLICATE_KEY,
+                _ => rules::SYNTAX_ERROR,
+            };
+            let mut diagnostic = Diagnostic::new(
+                rule,
                 crate::diagnostic::Severity::Error,
                 error.range,
                 error.message.clone(),
-            )
+            );
+            if rule == rules::DUPLICATE_KEY {
+                diagnostic
+                    .message
+                    .push_str(": markwell reads the first one, other readers may take this one");
+                if let Some(fix) = remove_duplicate_member(&tree, error.range) {
+                    diagnostic.fixes.push(fix);
+                }
+            }
+            diagnostic
         })
         .collect();
     if let Some(first_hidden) = errors.get(MAX_SYNTAX_ERRORS) {
@@ -68,6 +83,40 @@ pub fn parse_document(text: &str) -> ParsedDocument {
         spec,
         diagnostics,
     }
+}
+
+/// The fix for a duplicate key at `key_range`: remove its member together with the comma
+/// before it (a duplicate always has an earlier member in the same object).
+fn remove_duplicate_member(
+    tree: &SyntaxTree,
+    key_range: crate::TextRange,
+) -> Option<crate::diagnostic::Fix> {
+    let mut node = tree.node_at_offset(key_range.start);
+    while node.kind() != crate::syntax::NodeKind::Member {
+        node = node.parent()?;
+    }
+    let object = node.parent()?;
+    let mut previous = None;
+    for member in object.members() {
+        if member.range() == node.range() {
+            break;
+        }
+        previous = Some(member.range());
+    }
+    let previous = previous?;
+    let key = tree
+        .text()
+        .get(key_range.start..key_range.end)
+        .unwrap_or_default();
+    let key = key.trim_matches('"');
+    let shown = key.get(..40).unwrap_or(key);
+    Some(crate::diagnostic::Fix::quick(
+        format!("remove the second `{shown}` and its value"),
+        vec![crate::diagnostic::TextEdit {
+            range: crate::TextRange::new(previous.end, node.range().end),
+            new_text: String::new(),
+        }],
+    ))
 }
 
 /// All diagnostics for a document: those of parsing and lowering, then the rules', with the

@@ -40,6 +40,9 @@ use crate::spec::model::ChartSpec;
 /// Id of syntax errors (reported by the parser).
 pub const SYNTAX_ERROR: &str = "syntax-error";
 
+/// Id of duplicate keys (found by the parser; valid JSON, but readers disagree on which wins).
+pub const DUPLICATE_KEY: &str = "duplicate-key";
+
 /// Everything a rule may look at.
 pub struct RuleContext<'a> {
     pub document: &'a ParsedDocument,
@@ -116,6 +119,15 @@ pub fn registry() -> &'static [Rule] {
             summary: "JSON that does not parse",
             has_fix: false,
             docs: include_str!("syntax-error.md"),
+            check: RuleCheck::Document,
+        },
+        Rule {
+            id: DUPLICATE_KEY,
+            default_severity: Severity::Error,
+            group: "document",
+            summary: "a key written twice in one object",
+            has_fix: true,
+            docs: include_str!("duplicate-key.md"),
             check: RuleCheck::Document,
         },
         Rule {
