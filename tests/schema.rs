@@ -151,7 +151,7 @@ fn walk(root: &Value, node: &Value, path: &str, missing: &mut Vec<String>) {
                 .and_then(Value::as_str)
                 .is_some_and(|d| !d.is_empty());
             match value {
-                Some(value) if described => {}
+                Some(_) if described => {}
                 Some(value) => missing.push(format!("{path}: value `{value}`")),
                 None => missing.push(format!("{path}/oneOf/{index}: not a `const` branch")),
             }

@@ -53,19 +53,10 @@ pub fn perceived_for(
     Some(perceived_channel(&context))
 }
 
-/// The channels each mark can draw. A convention of the chart-spec format (no source): a bar
-/// has no shape, a wedge has no x and y of its own, a point has no angle.
+/// The channels each mark can draw: the knowledge table
+/// [`crate::knowledge::perceived::MARK_CHANNELS`].
 pub fn channels_for_mark(mark: Mark) -> &'static [Channel] {
-    use Channel::*;
-    match mark {
-        Mark::Point => &[X, Y, Hue, Luminance, Saturation, Area, Shape, Tilt, Label],
-        Mark::Line => &[X, Y, Hue, Luminance, Saturation, Texture, Label],
-        Mark::Area | Mark::Bar | Mark::Cell | Mark::Segment => {
-            &[X, Y, Hue, Luminance, Saturation, Texture, Label]
-        }
-        Mark::Wedge => &[Angle, Hue, Luminance, Saturation, Texture, Label],
-        Mark::Text => &[X, Y, Hue, Luminance, Saturation, Area, Tilt, Label],
-    }
+    crate::knowledge::perceived::channels_of_mark(mark)
 }
 
 /// Channels of the layer's mark that no binding uses.
@@ -262,4 +253,45 @@ pub struct MisleadingBinding<'c, 'a> {
     pub kind: AttributeKind,
     pub perceived: PerceivedChannel,
     pub better_free_channel: Option<Channel>,
+}
+
+/// The range that removes the member at `member_range` from its object together with the comma
+/// that separates it from a neighbour (the one before it, else the one after it).
+pub fn member_removal_range(
+    tree: &crate::syntax::SyntaxTree,
+    member_range: crate::text_range::TextRange,
+) -> Option<crate::text_range::TextRange> {
+    use crate::syntax::NodeKind;
+    use crate::text_range::TextRange;
+    let mut node = tree.node_at_offset(member_range.start);
+    while !(node.kind() == NodeKind::Member && node.range() == member_range) {
+        node = node.parent()?;
+    }
+    let object = node.parent()?;
+    let members: Vec<TextRange> = object.members().map(|member| member.range()).collect();
+    let index = members.iter().position(|range| *range == member_range)?;
+    Some(match (index.checked_sub(1), members.get(index + 1)) {
+        (Some(previous), _) => TextRange::new(members[previous].end, member_range.end),
+        (None, Some(next)) => TextRange::new(member_range.start, next.start),
+        (None, None) => member_range,
+    })
+}
+
+/// A fix that removes a binding (and its separating comma) from `bind`.
+pub fn remove_binding_fix(
+    tree: &crate::syntax::SyntaxTree,
+    facts: &BindingFacts<'_>,
+) -> Option<Fix> {
+    let range = member_removal_range(tree, facts.binding.member_range)?;
+    Some(Fix::quick(
+        format!(
+            "remove the `{}` binding of `{}`",
+            facts.binding.channel.as_str(),
+            facts.display_name()
+        ),
+        vec![TextEdit {
+            range,
+            new_text: String::new(),
+        }],
+    ))
 }

@@ -62,7 +62,11 @@ pub struct LayerFacts<'a> {
     pub source: Option<&'a Source>,
     /// The profile of the layer's data, when it was read.
     pub data: Option<&'a DataProfile>,
+    /// The bindings the layer's mark can show (all of them while the mark is not known).
     pub bindings: Vec<BindingFacts<'a>>,
+    /// Bindings on channels the mark cannot show (`angle` on a point): not drawn, so only
+    /// `channel-not-on-mark` looks at them.
+    pub unshown: Vec<BindingFacts<'a>>,
 }
 
 impl<'a> LayerFacts<'a> {
@@ -100,16 +104,22 @@ pub fn layer_facts<'a>(spec: &'a ChartSpec, data: &'a DataContext) -> Vec<LayerF
                 .and_then(|source| data.for_source(source))
                 .and_then(|result| result.as_ref().ok())
                 .map(|profile| profile.as_ref());
-            let bindings = layer
+            let mark = layer.mark.as_ref().map(|mark| mark.value);
+            let (bindings, unshown) = layer
                 .bindings
                 .iter()
                 .map(|binding| binding_facts(spec, profile, binding))
-                .collect();
+                .partition(|facts| {
+                    mark.is_none_or(|mark| {
+                        crate::knowledge::perceived::mark_shows(mark, facts.binding.channel)
+                    })
+                });
             LayerFacts {
                 layer,
                 source,
                 data: profile,
                 bindings,
+                unshown,
             }
         })
         .collect()

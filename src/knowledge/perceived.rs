@@ -163,6 +163,70 @@ impl std::fmt::Display for PerceivedChannel {
     }
 }
 
+/// Which channels each mark can show. Where this comes from: the chart-spec format's own
+/// definition of its marks (what `schema/chart-spec.schema.json` says each mark draws), not a
+/// publication. A bar has no symbol shape and no size of its own (its length is the value), a
+/// wedge sits in a ring rather than on axes, a point has no angle, a line no size or shape.
+pub const MARK_CHANNELS: &[(Mark, &[Channel])] = {
+    use Channel::*;
+    &[
+        (
+            Mark::Point,
+            &[X, Y, Hue, Luminance, Saturation, Area, Shape, Tilt, Label],
+        ),
+        (
+            Mark::Line,
+            &[X, Y, Hue, Luminance, Saturation, Texture, Label],
+        ),
+        (
+            Mark::Area,
+            &[X, Y, Hue, Luminance, Saturation, Texture, Label],
+        ),
+        (
+            Mark::Bar,
+            &[X, Y, Hue, Luminance, Saturation, Texture, Label],
+        ),
+        (
+            Mark::Wedge,
+            &[Angle, Hue, Luminance, Saturation, Texture, Label],
+        ),
+        (
+            Mark::Cell,
+            &[X, Y, Hue, Luminance, Saturation, Texture, Label],
+        ),
+        (
+            Mark::Text,
+            &[X, Y, Hue, Luminance, Saturation, Area, Tilt, Label],
+        ),
+        (
+            Mark::Segment,
+            &[X, Y, Hue, Luminance, Saturation, Texture, Label],
+        ),
+    ]
+};
+
+/// The channels `mark` can show (see [`MARK_CHANNELS`]).
+pub fn channels_of_mark(mark: Mark) -> &'static [Channel] {
+    MARK_CHANNELS
+        .iter()
+        .find(|(candidate, _)| *candidate == mark)
+        .map_or(&[], |(_, channels)| channels)
+}
+
+/// Whether `mark` can show `channel`.
+pub fn mark_shows(mark: Mark, channel: Channel) -> bool {
+    channels_of_mark(mark).contains(&channel)
+}
+
+/// The marks that can show every one of `channels`, in the order of [`MARK_CHANNELS`].
+pub fn marks_showing(channels: &[Channel]) -> Vec<Mark> {
+    MARK_CHANNELS
+        .iter()
+        .filter(|(_, shown)| channels.iter().all(|channel| shown.contains(channel)))
+        .map(|(mark, _)| *mark)
+        .collect()
+}
+
 /// Everything [`perceived_channel`] needs to know about one binding.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct ChannelContext {
@@ -296,6 +360,23 @@ mod tests {
             value_axis: None,
             binding_is_summarised: false,
         }
+    }
+
+    #[test]
+    fn every_mark_has_its_channels_and_angle_belongs_to_wedges_alone() {
+        for mark in Mark::ALL {
+            assert!(!channels_of_mark(*mark).is_empty(), "{mark:?}");
+            assert!(
+                mark_shows(*mark, Channel::Label),
+                "every mark can carry a label"
+            );
+        }
+        assert_eq!(MARK_CHANNELS.len(), Mark::ALL.len());
+        assert_eq!(marks_showing(&[Channel::Angle]), vec![Mark::Wedge]);
+        assert_eq!(marks_showing(&[Channel::Shape]), vec![Mark::Point]);
+        assert!(!mark_shows(Mark::Point, Channel::Angle));
+        assert!(!mark_shows(Mark::Line, Channel::Area));
+        assert!(marks_showing(&[Channel::Angle, Channel::X]).is_empty());
     }
 
     #[test]

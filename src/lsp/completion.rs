@@ -306,7 +306,7 @@ fn rank_channel_keys(
     data: &DataContext,
     offset: usize,
     ranking: Option<&str>,
-    candidates: &mut [CompletionCandidate],
+    candidates: &mut Vec<CompletionCandidate>,
 ) {
     use crate::analysis::facts::layer_facts;
     use crate::knowledge::expressiveness::{expresses, Expressiveness};
@@ -326,6 +326,12 @@ fn rank_channel_keys(
     let Some(mark) = layer.mark() else {
         return;
     };
+    // a channel the mark cannot show is never offered (`angle` on a point)
+    candidates.retain(|candidate| {
+        candidate.kind != CandidateKind::Key
+            || Channel::parse(&candidate.label)
+                .is_none_or(|channel| crate::knowledge::perceived::mark_shows(mark, channel))
+    });
     // the column of the member under the cursor, if it names one
     let column = document
         .tree
@@ -579,6 +585,33 @@ mod tests {
             .and_then(|c| c.detail.clone())
             .unwrap_or_default();
         assert!(detail.contains("1 of"), "{detail}");
+    }
+
+    #[test]
+    fn channels_the_mark_cannot_show_are_not_offered() {
+        let data = bakery_data();
+        let (_, candidates) = complete(
+            r#"{ "source": { "path": "loaves.csv" }, "mark": "point", "bind": { "x": "loaves", "|": "branch" } }"#,
+            &data,
+        );
+        let offered = labels(&candidates);
+        assert!(offered.contains(&"shape"), "{offered:?}");
+        assert!(
+            !offered.contains(&"angle"),
+            "a point has no angle: {offered:?}"
+        );
+        assert!(!offered.contains(&"texture"), "{offered:?}");
+        let (_, candidates) = complete(
+            r#"{ "source": { "path": "loaves.csv" }, "mark": "wedge", "bind": { "|": "loaves" } }"#,
+            &data,
+        );
+        let offered = labels(&candidates);
+        assert!(offered.contains(&"angle"), "{offered:?}");
+        assert!(
+            !offered.contains(&"x") && !offered.contains(&"y"),
+            "a wedge has no axes: {offered:?}"
+        );
+        assert_eq!(ranked_channels(&candidates).first(), Some(&"angle"));
     }
 
     #[test]

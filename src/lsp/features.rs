@@ -387,9 +387,13 @@ pub struct HoverContent {
     pub markdown: String,
 }
 
-/// The first section of a rule's documentation ("What it checks"), without its heading.
+/// The first section of a rule's documentation ("What it checks", or "What readers get wrong"
+/// on pages in the chart layout), without its heading.
 fn rule_explanation(docs: &str) -> Option<&str> {
-    let start = docs.find("## What it checks")? + "## What it checks".len();
+    let (position, heading) = ["## What it checks", "## What readers get wrong"]
+        .into_iter()
+        .find_map(|heading| docs.find(heading).map(|position| (position, heading)))?;
+    let start = position + heading.len();
     let rest = &docs[start..];
     let end = rest.find("\n## ").unwrap_or(rest.len());
     Some(rest[..end].trim())
@@ -406,8 +410,23 @@ pub fn channel_markdown(
 ) -> Option<String> {
     let facts = layer_facts(spec, data);
     let layer = facts.get(layer_index)?;
-    let binding = layer.binding(channel)?;
     let mut text = format!("**channel `{}`**", channel.as_str());
+    if let (Some(mark), Some(unshown)) = (
+        layer.mark(),
+        layer
+            .unshown
+            .iter()
+            .find(|facts| facts.binding.channel == channel),
+    ) {
+        // not drawn, so not read as anything and not ranked
+        text.push_str(&format!(
+            ": a `{}` mark cannot show it, so `{}` is not drawn",
+            mark.as_str(),
+            unshown.display_name()
+        ));
+        return Some(text);
+    }
+    let binding = layer.binding(channel)?;
     let Some(mark) = layer.mark() else {
         text.push_str(": the layer has no mark, so what the eye reads is not known yet");
         return Some(text);
@@ -871,6 +890,27 @@ mod tests {
             .find(|line| line.starts_with("| ") && !line.starts_with("| ranking"))
             .unwrap_or_default();
         assert!(first_row.contains("(active)"), "{first_row}");
+    }
+
+    #[test]
+    fn hover_on_a_channel_the_mark_cannot_show_says_so_and_ranks_nothing() {
+        let spec = ORCHARD.replace(r#""x": "orchard","#, r#""x": "orchard", "angle": "grade","#);
+        let document = parse_document(&spec);
+        let data = harvest_data();
+        let offset = spec.find("\"angle\"").expect("angle key") + 1;
+        let hover = hover_at(&document, &data, &[], offset, None).expect("a hover");
+        assert!(
+            hover.markdown.starts_with(
+                "**channel `angle`**: a `bar` mark cannot show it, so `grade` is not drawn"
+            ),
+            "{}",
+            hover.markdown
+        );
+        assert!(!hover.markdown.contains("| ranking"), "{}", hover.markdown);
+        // the mark hover lists only the channels a bar shows
+        let offset = spec.find("\"bar\"").expect("mark") + 1;
+        let hover = hover_at(&document, &data, &[], offset, None).expect("a hover");
+        assert!(!hover.markdown.contains("`angle`"), "{}", hover.markdown);
     }
 
     #[test]

@@ -414,7 +414,7 @@ fn written_kind(node: Node<'_>) -> String {
 fn subject(path: &[PathSegment]) -> String {
     match path.split_last() {
         None => "the chart".to_string(),
-        Some((PathSegment::Key(key), parent)) if parent.is_empty() => format!("`{key}`"),
+        Some((PathSegment::Key(key), [])) => format!("`{key}`"),
         Some((PathSegment::Key(key), parent)) => {
             format!("`{key}` {}", describe_place(parent))
         }

@@ -6,6 +6,7 @@ mod angle_for_comparison;
 mod area_perception;
 mod better_channel_free;
 mod capacity;
+mod channel_not_on_mark;
 mod connected_unordered;
 mod emphasis_order;
 mod kind_conflict;
@@ -167,6 +168,7 @@ pub fn registry() -> &'static [Rule] {
             check: RuleCheck::Document,
         },
         missing_source::RULE,
+        channel_not_on_mark::RULE,
         unknown_column::RULE,
         levels_mismatch::RULE,
         kind_conflict::RULE,
