@@ -13,8 +13,10 @@ mod levels_mismatch;
 mod log_of_nonpositive;
 mod low_contrast_mark;
 mod magnitude_of_interval;
+mod malformed_data;
 mod missing_source;
 mod negative_area;
+mod no_data_source;
 mod ordered_channel_for_categories;
 mod palette_cvd_collision;
 mod palette_too_short;
@@ -155,6 +157,8 @@ pub fn registry() -> &'static [Rule] {
             check: RuleCheck::Document,
         },
         missing_source::RULE,
+        malformed_data::RULE,
+        no_data_source::RULE,
         unknown_column::RULE,
         levels_mismatch::RULE,
         kind_conflict::RULE,
