@@ -224,7 +224,7 @@ fn rules_and_explain_print_the_registry_and_docs() {
     assert!(text.contains("unknown-column"), "{text}");
     let explain = markwell(&["explain", "unknown-column"], &root());
     let docs = String::from_utf8_lossy(&explain.stdout);
-    for section in ["## What it checks", "## Why it matters", "## Source"] {
+    for section in markwell::analysis::rules::DOC_SECTIONS {
         assert!(docs.contains(section), "{docs}");
     }
 }
@@ -364,4 +364,26 @@ fn a_spec_without_source_is_not_reported_clean() {
         .map(|all| all.iter().filter_map(|d| d["rule"].as_str()).collect())
         .unwrap_or_default();
     assert_eq!(rules, vec!["no-data-source"]);
+}
+
+#[test]
+fn sources_says_once_which_tables_are_unchecked_and_rule_pages_do_not() {
+    let sources = markwell(&["sources"], &root());
+    assert_eq!(sources.status.code(), Some(0));
+    let page = String::from_utf8_lossy(&sources.stdout);
+    assert!(
+        page.contains("## Not yet checked against the publication"),
+        "{page}"
+    );
+    for publication in [
+        "Mackinlay, J. (1986)",
+        "Stevens, S. S. (1957)",
+        "Bertin, J. (1967)",
+    ] {
+        assert!(page.contains(publication), "{page}");
+    }
+    let explain = markwell(&["explain", "better-channel-free"], &root());
+    let docs = String::from_utf8_lossy(&explain.stdout);
+    assert!(docs.contains("markwell sources"), "{docs}");
+    assert!(!docs.contains("memory") && !docs.contains("src/"), "{docs}");
 }

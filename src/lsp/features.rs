@@ -387,12 +387,9 @@ pub struct HoverContent {
     pub markdown: String,
 }
 
-/// The first section of a rule's documentation ("What it checks"), without its heading.
+/// What readers get wrong, from a rule's documentation (its first section, without heading).
 fn rule_explanation(docs: &str) -> Option<&str> {
-    let start = docs.find("## What it checks")? + "## What it checks".len();
-    let rest = &docs[start..];
-    let end = rest.find("\n## ").unwrap_or(rest.len());
-    Some(rest[..end].trim())
+    crate::analysis::rules::doc_section(docs, crate::analysis::rules::DOC_SECTIONS[0])
 }
 
 /// What the eye reads for a binding, and how each published ranking places that channel for
@@ -967,7 +964,7 @@ mod tests {
         let docs = rule_by_id("unknown-key")
             .map(|rule| rule.docs)
             .unwrap_or_default();
-        let explanation = rule_explanation(docs).expect("a What it checks section");
+        let explanation = rule_explanation(docs).expect("a first section");
         assert!(hover.markdown.contains(explanation), "{}", hover.markdown);
     }
 
