@@ -56,7 +56,12 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 ),
             )
             .with_fix(Fix::quick(
-                format!("draw {}s instead", replacement.as_str()),
+                format!(
+                    "draw {}s, which are not joined: mark `{}`->`{}`",
+                    replacement.as_str(),
+                    mark.value.as_str(),
+                    replacement.as_str()
+                ),
                 vec![TextEdit {
                     range: mark.range,
                     new_text: json_string(replacement.as_str()),

@@ -1,6 +1,7 @@
 //! `log-of-nonpositive`: a log scale over data with zero or negative values. Documentation:
 //! `log-of-nonpositive.md`.
 
+use crate::analysis::channels::drawn_nouns;
 use crate::analysis::rules::part_to_whole_invalid::format_number;
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Fix, Severity, TextEdit};
@@ -53,13 +54,20 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                     Severity::Error,
                     scale_type.range,
                     format!(
-                        "`{}` goes down to {}, and a log scale has no place for zero or negative values: those marks vanish",
+                        "`{}` goes down to {}, and a logarithmic `{}` has no place for zero or negative values: those {} vanish",
                         facts.display_name(),
-                        format_number(numbers.min)
+                        format_number(numbers.min),
+                        facts.binding.channel.as_str(),
+                        drawn_nouns(layer).1
                     ),
                 )
                 .with_fix(Fix::quick(
-                    "use a linear scale",
+                    format!(
+                        "space `{}` evenly: `{}`->`{}`",
+                        facts.binding.channel.as_str(),
+                        ScaleType::Log.as_str(),
+                        ScaleType::Linear.as_str()
+                    ),
                     vec![TextEdit {
                         range: scale_type.range,
                         new_text: json_string(ScaleType::Linear.as_str()),
