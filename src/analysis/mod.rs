@@ -90,16 +90,16 @@ pub fn analyze(
         return diagnostics;
     }
     let before = rule_counts(&diagnostics);
-    for index in 0..diagnostics.len() {
+    for diagnostic in &mut diagnostics {
         let checked = matches!(
-            rules::rule_by_id(diagnostics[index].rule).map(|rule| rule.check),
+            rules::rule_by_id(diagnostic.rule).map(|rule| rule.check),
             Some(rules::RuleCheck::Semantic(_))
         );
-        if !checked || diagnostics[index].fixes.is_empty() {
+        if !checked || diagnostic.fixes.is_empty() {
             continue;
         }
-        let fixes = std::mem::take(&mut diagnostics[index].fixes);
-        diagnostics[index].fixes = fixes
+        let fixes = std::mem::take(&mut diagnostic.fixes);
+        diagnostic.fixes = fixes
             .into_iter()
             .filter(|fix| adds_no_finding(text, &before, &fix.edits, data, config).is_some())
             .collect();
