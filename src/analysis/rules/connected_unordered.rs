@@ -49,8 +49,8 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 Severity::Warning,
                 mark.range,
                 format!(
-                    "a {} joins the values of `{}` in sequence, but `{}` is categorical: the slopes between them mean nothing",
-                    mark.value.as_str(),
+                    "{} joins the values of `{}` in sequence, but `{}` is categorical: the slopes between them mean nothing",
+                    if mark.value == Mark::Line { "a line" } else { "an area" },
                     facts.display_name(),
                     facts.display_name()
                 ),
