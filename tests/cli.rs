@@ -224,7 +224,7 @@ fn rules_and_explain_print_the_registry_and_docs() {
     assert!(text.contains("unknown-column"), "{text}");
     let explain = markwell(&["explain", "unknown-column"], &root());
     let docs = String::from_utf8_lossy(&explain.stdout);
-    for section in ["## What it checks", "## Why it matters", "## Source"] {
+    for section in markwell::analysis::rules::DOC_SECTIONS {
         assert!(docs.contains(section), "{docs}");
     }
 }
@@ -289,13 +289,101 @@ fn a_ragged_row_is_a_warning_pointing_at_the_data_file_line() {
     let report: Value = serde_json::from_slice(&output.stdout).expect("JSON report");
     let diagnostic = report["files"][0]["diagnostics"]
         .as_array()
-        .and_then(|all| all.iter().find(|d| d["rule"] == "missing-source").cloned())
-        .expect("the ragged row is reported");
+        .and_then(|all| all.iter().find(|d| d["rule"] == "malformed-data").cloned())
+        .expect("the ragged row is reported under its own rule");
     assert_eq!(diagnostic["severity"], "warning");
+    // said once, with the right plural, and the related location does not repeat it
+    let message = diagnostic["message"].as_str().unwrap_or("");
+    assert_eq!(
+        message,
+        "line 3 of the data: a row of 3 cells but the header names 2 columns; the extra cells are ignored"
+    );
+    assert_eq!(diagnostic["related"][0]["message"], "this row");
     // `South,4,extra` is the third line of the file (1-based, as editors count)
     assert_eq!(diagnostic["related"][0]["line"], 3);
     assert!(diagnostic["related"][0]["file"]
         .as_str()
         .unwrap_or("")
         .ends_with("piers.csv"));
+}
+
+#[test]
+fn switching_off_absent_files_keeps_data_corruption_visible() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    write(
+        dir.path(),
+        "markwell.toml",
+        "[rules]\nmissing-source = \"off\"\n",
+    );
+    write(dir.path(), "piers.csv", "pier,boats\nNorth\nSouth,4\n");
+    write(
+        dir.path(),
+        "piers.chart.json",
+        r#"{ "source": { "path": "piers.csv" }, "mark": "bar", "bind": { "x": "pier", "y": "boats" } }"#,
+    );
+    let output = markwell(
+        &["check", "--format", "json", "piers.chart.json"],
+        dir.path(),
+    );
+    let report: Value = serde_json::from_slice(&output.stdout).expect("JSON report");
+    let diagnostics = report["files"][0]["diagnostics"]
+        .as_array()
+        .cloned()
+        .unwrap_or_default();
+    let ragged: Vec<&Value> = diagnostics
+        .iter()
+        .filter(|d| d["rule"] == "malformed-data")
+        .collect();
+    assert_eq!(ragged.len(), 1, "{diagnostics:#?}");
+    assert_eq!(
+        ragged[0]["message"],
+        "line 2 of the data: a row of 1 cell but the header names 2 columns; the missing cells count as missing values"
+    );
+}
+
+#[test]
+fn a_spec_without_source_is_not_reported_clean() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    write(
+        dir.path(),
+        "draft.chart.json",
+        r#"{ "mark": "bar", "bind": { "x": "pier", "y": "boats" } }"#,
+    );
+    let output = markwell(
+        &["check", "--format", "json", "draft.chart.json"],
+        dir.path(),
+    );
+    assert_eq!(
+        output.status.code(),
+        Some(0),
+        "a note does not fail the run"
+    );
+    let report: Value = serde_json::from_slice(&output.stdout).expect("JSON report");
+    let rules: Vec<&str> = report["files"][0]["diagnostics"]
+        .as_array()
+        .map(|all| all.iter().filter_map(|d| d["rule"].as_str()).collect())
+        .unwrap_or_default();
+    assert_eq!(rules, vec!["no-data-source"]);
+}
+
+#[test]
+fn sources_says_once_which_tables_are_unchecked_and_rule_pages_do_not() {
+    let sources = markwell(&["sources"], &root());
+    assert_eq!(sources.status.code(), Some(0));
+    let page = String::from_utf8_lossy(&sources.stdout);
+    assert!(
+        page.contains("## Not yet checked against the publication"),
+        "{page}"
+    );
+    for publication in [
+        "Mackinlay, J. (1986)",
+        "Stevens, S. S. (1957)",
+        "Bertin, J. (1967)",
+    ] {
+        assert!(page.contains(publication), "{page}");
+    }
+    let explain = markwell(&["explain", "better-channel-free"], &root());
+    let docs = String::from_utf8_lossy(&explain.stdout);
+    assert!(docs.contains("markwell sources"), "{docs}");
+    assert!(!docs.contains("memory") && !docs.contains("src/"), "{docs}");
 }

@@ -254,3 +254,39 @@ fn a_folder_path_is_refused_at_resolution() {
     let error = resolve_source_path("data", &options_in(folder.path())).err();
     assert_eq!(error.map(|e| e.kind), Some(DataErrorKind::IsDirectory));
 }
+
+/// Which rule reports which data error: absent or unreachable data is `missing-source`, data
+/// that is there but broken is `malformed-data`, so that switching one off never hides the other.
+#[test]
+fn absent_and_broken_data_are_reported_under_different_rules() {
+    use markwell::analysis::{analyze, parse_document, AnalysisConfig};
+    let folder = temp_folder();
+    write_file(folder.path(), "header.csv", b"pier,boats\n");
+    write_file(folder.path(), "latin1.csv", b"pier,boats\nM\xfcnster,3\n");
+    write_file(folder.path(), "short.csv", b"pier,boats\nNorth\n");
+    let cases = [
+        ("absent.csv", "missing-source"),
+        ("header.csv", "malformed-data"),
+        ("latin1.csv", "malformed-data"),
+        ("short.csv", "malformed-data"),
+    ];
+    let cache = ProfileCache::new();
+    let options = ResolveOptions {
+        spec_dir: folder.path().to_path_buf(),
+        workspace_root: Some(folder.path().to_path_buf()),
+        allow_outside_workspace: false,
+    };
+    for (file, rule) in cases {
+        let text = format!(
+            r#"{{ "source": {{ "path": "{file}" }}, "mark": "bar", "bind": {{ "x": "pier", "y": "boats" }} }}"#
+        );
+        let document = parse_document(&text);
+        let data = cache.load_for_spec(&document.spec, &options);
+        let rules: Vec<&str> = analyze(&document, &data, &AnalysisConfig::default())
+            .iter()
+            .map(|d| d.rule)
+            .filter(|id| *id == "missing-source" || *id == "malformed-data")
+            .collect();
+        assert_eq!(rules, vec![rule], "{file}");
+    }
+}

@@ -65,6 +65,13 @@ fn every_fix_removes_its_diagnostic_and_adds_no_error() {
             for diagnostic in &before {
                 for fix in &diagnostic.fixes {
                     let name = format!("{}: `{}` / {}", spec.display(), diagnostic.rule, fix.title);
+                    // the title lists every edit: each new text appears in it, in backticks
+                    for edit in &fix.edits {
+                        let shown = edit.new_text.trim_matches('"');
+                        if !shown.is_empty() && !fix.title.contains(&format!("`{shown}`")) {
+                            failures.push(format!("{name}: the title hides the edit to `{shown}`"));
+                        }
+                    }
                     let Some(fixed) = fix.apply(&text) else {
                         failures.push(format!("{name}: edits do not apply"));
                         continue;

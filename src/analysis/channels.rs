@@ -151,18 +151,28 @@ pub fn ordinal(number: u8) -> String {
 
 /// A fix that redraws a wedge layer as bars: the mark becomes `bar`, the `angle` binding moves
 /// to `y` and the binding that splits the slices (the first categorical colour, texture or
-/// label binding) moves to `x`, when those channels are free.
+/// label binding) moves to `x`, when those channels are free. The title lists every edit.
 pub fn arc_to_bar_fix(layer: &LayerFacts<'_>) -> Option<Fix> {
     let mark = layer.layer.mark.as_ref()?;
     let mut edits = vec![TextEdit {
         range: mark.range,
         new_text: json_string(Mark::Bar.as_str()),
     }];
+    let mut changes = vec![format!(
+        "mark `{}`->`{}`",
+        mark.value.as_str(),
+        Mark::Bar.as_str()
+    )];
     if let (Some(angle), None) = (layer.binding(Channel::Angle), layer.binding(Channel::Y)) {
         edits.push(TextEdit {
             range: angle.binding.key_range,
             new_text: json_string(Channel::Y.as_str()),
         });
+        changes.push(format!(
+            "`{}`->`{}`",
+            Channel::Angle.as_str(),
+            Channel::Y.as_str()
+        ));
     }
     if layer.binding(Channel::X).is_none() {
         let splitter = [
@@ -180,10 +190,18 @@ pub fn arc_to_bar_fix(layer: &LayerFacts<'_>) -> Option<Fix> {
                 range: splitter.binding.key_range,
                 new_text: json_string(Channel::X.as_str()),
             });
+            changes.push(format!(
+                "`{}`->`{}`",
+                splitter.binding.channel.as_str(),
+                Channel::X.as_str()
+            ));
         }
     }
     edits.sort_by_key(|edit| edit.range.start);
-    Some(Fix::quick("draw bars instead of wedge slices", edits))
+    Some(Fix::quick(
+        format!("draw bars: {}", changes.join(", ")),
+        edits,
+    ))
 }
 
 /// A fix that sets a stacked layer's `arrange` to side by side (bars) or overlap (areas).
@@ -194,7 +212,11 @@ pub fn unstack_fix(layer: &LayerFacts<'_>) -> Option<Fix> {
         _ => crate::spec::model::Arrange::SideBySide,
     };
     Some(Fix::quick(
-        format!("arrange the series `{}`", replacement.as_str()),
+        format!(
+            "stop stacking the series: arrange `{}`->`{}`",
+            arrange.value.as_str(),
+            replacement.as_str()
+        ),
         vec![TextEdit {
             range: arrange.range,
             new_text: json_string(replacement.as_str()),
@@ -294,4 +316,40 @@ pub fn remove_binding_fix(
             new_text: String::new(),
         }],
     ))
+}
+
+/// The names of what a layer draws, one and many, for messages: `bar`/`bars`, `circle`/`circles`
+/// (points sized by `area`; `symbol` when `shape` varies), `label`/`labels` (text), `slice` for
+/// the parts of a pie.
+pub fn drawn_nouns(layer: &LayerFacts<'_>) -> (String, String) {
+    let (one, many) = match layer.mark() {
+        Some(Mark::Bar) => ("bar", "bars"),
+        Some(Mark::Area) => ("filled area", "filled areas"),
+        Some(Mark::Line) => ("line", "lines"),
+        Some(Mark::Wedge) => ("slice", "slices"),
+        Some(Mark::Point) if layer.binding(Channel::Shape).is_some() => ("symbol", "symbols"),
+        Some(Mark::Point) => ("circle", "circles"),
+        Some(Mark::Text) => ("label", "labels"),
+        Some(mark) => return (mark.as_str().to_string(), format!("{}s", mark.as_str())),
+        None => ("mark", "marks"),
+    };
+    (one.to_string(), many.to_string())
+}
+
+/// "a bar twice as long", "a circle twice the size", "an area twice as large": how a doubled
+/// value looks for what the layer draws on a channel read as `perceived`.
+pub fn twice_as_much_phrase(layer: &LayerFacts<'_>, perceived: PerceivedChannel) -> String {
+    let (one, _) = drawn_nouns(layer);
+    let article = if one.starts_with(['a', 'e', 'i', 'o', 'u']) {
+        "an"
+    } else {
+        "a"
+    };
+    let how = match perceived {
+        PerceivedChannel::Length => "twice as long",
+        PerceivedChannel::Angle => "twice as wide",
+        PerceivedChannel::Area if layer.mark() == Some(Mark::Area) => "twice as large",
+        _ => "twice the size",
+    };
+    format!("{article} {one} {how}")
 }

@@ -118,10 +118,72 @@ fn remove_duplicate_member(
         }],
     ))
 }
+/// Documents up to this size have every fix of a semantic rule checked by applying it and
+/// analysing the result (one analysis per fix); larger ones keep their fixes unchecked, so that
+/// a megabyte spec is not analysed once per fix on every keystroke. markwell's choice, no source.
+pub const MAX_TEXT_FOR_FIX_CHECK: usize = 256 * 1024;
 
 /// All diagnostics for a document: those of parsing and lowering, then the rules', with the
-/// configuration's severities applied, sorted by position.
+/// configuration's severities applied, sorted by position. A fix of a semantic rule is kept only
+/// when applying it adds no finding (no rule reports more than before); see
+/// [`MAX_TEXT_FOR_FIX_CHECK`].
 pub fn analyze(
+    document: &ParsedDocument,
+    data: &DataContext,
+    config: &AnalysisConfig,
+) -> Vec<Diagnostic> {
+    let mut diagnostics = analyze_unchecked(document, data, config);
+    let text = document.tree.text();
+    if text.len() > MAX_TEXT_FOR_FIX_CHECK {
+        return diagnostics;
+    }
+    let before = rule_counts(&diagnostics);
+    for diagnostic in &mut diagnostics {
+        let checked = matches!(
+            rules::rule_by_id(diagnostic.rule).map(|rule| rule.check),
+            Some(rules::RuleCheck::Semantic(_))
+        );
+        if !checked || diagnostic.fixes.is_empty() {
+            continue;
+        }
+        let fixes = std::mem::take(&mut diagnostic.fixes);
+        diagnostic.fixes = fixes
+            .into_iter()
+            .filter(|fix| adds_no_finding(text, &before, &fix.edits, data, config).is_some())
+            .collect();
+    }
+    diagnostics
+}
+
+/// How many findings each rule reports.
+pub fn rule_counts(diagnostics: &[Diagnostic]) -> HashMap<&'static str, usize> {
+    let mut counts = HashMap::new();
+    for diagnostic in diagnostics {
+        *counts.entry(diagnostic.rule).or_insert(0) += 1;
+    }
+    counts
+}
+
+/// Apply `edits` to `text` and analyse the result (fixes unchecked): the new text and its
+/// diagnostics when no rule reports more findings than in `before`, `None` otherwise (or when
+/// the edits do not apply). The data is the same: edits that change a `source` are not meant.
+pub fn adds_no_finding(
+    text: &str,
+    before: &HashMap<&'static str, usize>,
+    edits: &[crate::diagnostic::TextEdit],
+    data: &DataContext,
+    config: &AnalysisConfig,
+) -> Option<(String, Vec<Diagnostic>)> {
+    let edited = crate::diagnostic::apply_edits(text, edits)?;
+    let after = analyze_unchecked(&parse_document(&edited), data, config);
+    let grew = rule_counts(&after)
+        .into_iter()
+        .any(|(rule, count)| count > before.get(rule).copied().unwrap_or(0));
+    (!grew).then_some((edited, after))
+}
+
+/// [`analyze`] without checking the fixes.
+pub fn analyze_unchecked(
     document: &ParsedDocument,
     data: &DataContext,
     config: &AnalysisConfig,

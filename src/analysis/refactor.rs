@@ -2,22 +2,150 @@
 //!
 //! - **swap channels**: exchange the channels of the binding at the cursor and another binding
 //!   of the same layer;
-//! - **re-encode**: the best assignment of all of a layer's bound columns to the channels of its
-//!   mark under the active ranking, respecting expressiveness and the `emphasis` order — an
-//!   optimal assignment problem solved with the Hungarian method (Kuhn 1955; Munkres 1957).
+//! - **re-encode**: the best assignment of a layer's bound columns to the channels of its mark
+//!   under the active ranking, respecting expressiveness and the `emphasis` order — an optimal
+//!   assignment problem solved with the Hungarian method (Kuhn 1955; Munkres 1957).
+//!
+//! Users can trust them: a refactor is offered only when markwell's own rules accept the result
+//! on the same data (the edit is applied and the document analysed again; no rule may report
+//! more findings than before), never on a document with syntax errors, never twice and never as
+//! a copy of a quick fix. Time columns and the first `emphasis` column stay on the position
+//! channel they are on. Titles say what moves and why: each column's rank under the active
+//! ranking before and after.
 
-use crate::analysis::channels::{active_ranking, channels_for_mark, swap_bindings_fix};
+use std::collections::HashMap;
+
+use crate::analysis::channels::{active_ranking, channels_for_mark, ordinal, perceived_for};
 use crate::analysis::facts::{BindingFacts, LayerFacts};
-use crate::analysis::rules::RuleContext;
+use crate::analysis::rules::{RuleContext, SYNTAX_ERROR};
+use crate::analysis::{adds_no_finding, analyze, analyze_unchecked, parse_document, rule_counts};
 use crate::analysis::{AnalysisConfig, ParsedDocument};
 use crate::data::DataContext;
-use crate::diagnostic::{Fix, FixKind, TextEdit};
+use crate::diagnostic::{Diagnostic, Fix, FixKind, TextEdit};
 use crate::knowledge::expressiveness::{expresses, Expressiveness};
 use crate::knowledge::perceived::{perceived_channel, ChannelContext};
 use crate::knowledge::rankings::Ranking;
-use crate::spec::model::{Channel, ChartSpec};
+use crate::spec::model::{AttributeKind, Channel, ChartSpec};
 use crate::spec::schema::json_string;
 use crate::text_range::TextRange;
+
+/// How many times a re-encoding that the rules reject is recomputed with the placements they
+/// objected to forbidden. markwell's choice, no source.
+const REENCODE_ATTEMPTS: usize = 4;
+
+/// One binding moving to another channel.
+#[derive(Clone, Debug)]
+struct Move {
+    name: String,
+    column: Option<String>,
+    from: Channel,
+    to: Channel,
+    key_range: TextRange,
+}
+
+impl Move {
+    fn of(facts: &BindingFacts<'_>, to: Channel) -> Move {
+        Move {
+            name: facts.display_name(),
+            column: facts.column_name().map(str::to_string),
+            from: facts.binding.channel,
+            to,
+            key_range: facts.binding.key_range,
+        }
+    }
+}
+
+/// A time column, or the first `emphasis` column, on a position channel: refactors leave it
+/// where it is.
+fn is_pinned(spec: &ChartSpec, facts: &BindingFacts<'_>) -> bool {
+    if !facts.binding.channel.is_position() {
+        return false;
+    }
+    let time =
+        facts.kind == Some(AttributeKind::Time) || facts.column_kind == Some(AttributeKind::Time);
+    let first_emphasis = facts
+        .column_name()
+        .is_some_and(|name| spec.emphasis_rank(name) == Some(0));
+    time || first_emphasis
+}
+
+fn edits_for(moves: &[Move]) -> Vec<TextEdit> {
+    let mut edits: Vec<TextEdit> = moves
+        .iter()
+        .filter(|m| m.from != m.to)
+        .map(|m| TextEdit {
+            range: m.key_range,
+            new_text: json_string(m.to.as_str()),
+        })
+        .collect();
+    edits.sort_by_key(|edit| (edit.range.start, edit.range.end));
+    edits
+}
+
+/// A comparable form of a set of edits.
+fn edit_key(edits: &[TextEdit]) -> Vec<(usize, usize, String)> {
+    let mut key: Vec<(usize, usize, String)> = edits
+        .iter()
+        .map(|edit| (edit.range.start, edit.range.end, edit.new_text.clone()))
+        .collect();
+    key.sort();
+    key
+}
+
+/// "7th" for the rank of a binding's kind on what the eye reads, "unranked" when the ranking
+/// does not list it.
+fn rank_word(
+    ranking: &Ranking,
+    spec: &ChartSpec,
+    layer: &LayerFacts<'_>,
+    facts: &BindingFacts<'_>,
+) -> String {
+    facts
+        .kind
+        .zip(perceived_for(spec, layer, facts))
+        .and_then(|(kind, perceived)| ranking.rank(kind, perceived))
+        .map_or_else(|| "unranked".to_string(), |rank| ordinal(rank.level))
+}
+
+/// "`crates` `hue`->`y` (7th->1st)" for each move, ranks read from the document before and
+/// after the edit.
+fn describe_moves(
+    moves: &[Move],
+    ranking: &Ranking,
+    before: &RuleContext<'_>,
+    layer_index: usize,
+    edited: &str,
+    data: &DataContext,
+    config: &AnalysisConfig,
+) -> String {
+    let after_document = parse_document(edited);
+    let after = RuleContext::new(&after_document, data, config);
+    let before_layer = before.layers.get(layer_index);
+    let after_layer = after.layers.get(layer_index);
+    moves
+        .iter()
+        .filter(|m| m.from != m.to)
+        .map(|m| {
+            let was = before_layer
+                .and_then(|layer| layer.binding(m.from).map(|facts| (layer, facts)))
+                .map(|(layer, facts)| rank_word(ranking, before.spec(), layer, facts));
+            let now = after_layer
+                .and_then(|layer| layer.binding(m.to).map(|facts| (layer, facts)))
+                .map(|(layer, facts)| rank_word(ranking, after.spec(), layer, facts));
+            let ranks = match (was, now) {
+                (Some(was), Some(now)) => format!(" ({was}->{now})"),
+                _ => String::new(),
+            };
+            format!(
+                "`{}` `{}`->`{}`{ranks}",
+                m.name,
+                m.from.as_str(),
+                m.to.as_str()
+            )
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
 
 /// Refactors available at `range` (a cursor or a selection).
 pub fn refactors_at(
@@ -26,19 +154,81 @@ pub fn refactors_at(
     config: &AnalysisConfig,
     range: TextRange,
 ) -> Vec<Fix> {
+    if document.diagnostics.iter().any(|d| d.rule == SYNTAX_ERROR) {
+        return Vec::new();
+    }
     let context = RuleContext::new(document, data, config);
     let spec = context.spec();
+    let ranking = active_ranking(config);
+    let layers: Vec<&LayerFacts<'_>> = context
+        .layers
+        .iter()
+        .filter(|layer| {
+            layer
+                .layer
+                .bind_range
+                .is_some_and(|bind| bind.intersects(range))
+        })
+        .collect();
+    if layers.is_empty() {
+        return Vec::new();
+    }
+    let text = document.tree.text();
+    let baseline = analyze(document, data, config);
+    let before = rule_counts(&baseline);
+    // quick fixes are offered with their diagnostics; a refactor never repeats one
+    let mut offered: Vec<Vec<(usize, usize, String)>> = baseline
+        .iter()
+        .flat_map(|diagnostic| diagnostic.fixes.iter())
+        .map(|fix| edit_key(&fix.edits))
+        .collect();
     let mut fixes = Vec::new();
-    for layer in &context.layers {
-        let Some(bind_range) = layer.layer.bind_range else {
-            continue;
+    // offers the moves when the rules accept them; returns the findings when they do not
+    let mut offer = |moves: &[Move],
+                     layer_index: usize,
+                     intent: &str,
+                     fixes: &mut Vec<Fix>|
+     -> Option<Vec<Diagnostic>> {
+        let edits = edits_for(moves);
+        if edits.is_empty() {
+            return None;
+        }
+        let key = edit_key(&edits);
+        if offered.contains(&key) {
+            return None;
+        }
+        let Some((edited, _)) = adds_no_finding(text, &before, &edits, data, config) else {
+            // the rules object: what they found, for a re-encode to avoid
+            let edited = crate::diagnostic::apply_edits(text, &edits)?;
+            return Some(analyze_unchecked(&parse_document(&edited), data, config));
         };
-        if !bind_range.intersects(range) {
-            continue;
+        offered.push(key);
+        let changes = describe_moves(moves, ranking, &context, layer_index, &edited, data, config);
+        fixes.push(Fix {
+            title: format!("{intent} under {}: {changes}", ranking.citation.short),
+            kind: FixKind::Refactor,
+            edits,
+        });
+        None
+    };
+    for layer in layers {
+        let index = layer.layer.index;
+        // re-encode: the optimum, recomputed without the placements the rules objected to
+        let mut forbidden: Vec<(String, Channel)> = Vec::new();
+        for _ in 0..REENCODE_ATTEMPTS {
+            let Some(moves) = reencode_moves(spec, layer, ranking, &forbidden) else {
+                break;
+            };
+            let Some(objections) = offer(&moves, index, "re-encode by rank", &mut fixes) else {
+                break;
+            };
+            let new_forbidden = objected_placements(&moves, &before, &objections);
+            if new_forbidden.is_empty() || new_forbidden.iter().all(|f| forbidden.contains(f)) {
+                break;
+            }
+            forbidden.extend(new_forbidden);
         }
-        if let Some(fix) = reencode_layer(spec, layer, active_ranking(config)) {
-            fixes.push(fix);
-        }
+        // swaps from the binding at the cursor
         let Some(at_cursor) = layer
             .bindings
             .iter()
@@ -46,15 +236,71 @@ pub fn refactors_at(
         else {
             continue;
         };
+        if is_pinned(spec, at_cursor) {
+            continue;
+        }
         for other in &layer.bindings {
-            if other.binding.channel != at_cursor.binding.channel {
-                let mut fix = swap_bindings_fix(at_cursor, other);
-                fix.kind = FixKind::Refactor;
-                fixes.push(fix);
+            if other.binding.channel == at_cursor.binding.channel || is_pinned(spec, other) {
+                continue;
             }
+            let moves = [
+                Move::of(at_cursor, other.binding.channel),
+                Move::of(other, at_cursor.binding.channel),
+            ];
+            let intent = format!(
+                "swap `{}` and `{}`",
+                at_cursor.display_name(),
+                other.display_name()
+            );
+            offer(&moves, index, &intent, &mut fixes);
         }
     }
     fixes
+}
+
+/// The (column, channel) placements of `moves` that the findings new after the edit point at.
+fn objected_placements(
+    moves: &[Move],
+    before: &HashMap<&'static str, usize>,
+    after: &[Diagnostic],
+) -> Vec<(String, Channel)> {
+    let after_counts = rule_counts(after);
+    let grown: Vec<&str> = after_counts
+        .iter()
+        .filter(|(rule, count)| **count > before.get(**rule).copied().unwrap_or(0))
+        .map(|(rule, _)| *rule)
+        .collect();
+    // where each moved key sits in the edited text: edits keep their order, shifting later text
+    let mut shift: isize = 0;
+    let mut placed: Vec<(TextRange, &Move)> = Vec::new();
+    let mut sorted: Vec<&Move> = moves.iter().filter(|m| m.from != m.to).collect();
+    sorted.sort_by_key(|m| m.key_range.start);
+    for m in sorted {
+        let new_len = json_string(m.to.as_str()).len() as isize;
+        let start = (m.key_range.start as isize + shift).max(0) as usize;
+        placed.push((TextRange::new(start, start + new_len as usize), m));
+        shift += new_len - (m.key_range.end - m.key_range.start) as isize;
+    }
+    let mut out = Vec::new();
+    for diagnostic in after.iter().filter(|d| grown.contains(&d.rule)) {
+        for (range, m) in &placed {
+            if diagnostic.range.intersects(*range) || range.intersects(diagnostic.range) {
+                if let Some(column) = &m.column {
+                    out.push((column.clone(), m.to));
+                }
+            }
+        }
+    }
+    // a finding elsewhere (a whole-layer one): forbid every move, so the next try changes less
+    if out.is_empty() {
+        out = moves
+            .iter()
+            .filter(|m| m.from != m.to)
+            .filter_map(|m| m.column.clone().map(|column| (column, m.to)))
+            .take(1)
+            .collect();
+    }
+    out
 }
 
 /// What the eye would read for `facts` on `channel`, assuming a magnitude on a position channel
@@ -103,14 +349,24 @@ fn placement_cost(
     })
 }
 
-/// The optimal re-encoding of a layer as key renames, when it differs from the current one.
-pub fn reencode_layer(spec: &ChartSpec, layer: &LayerFacts<'_>, ranking: &Ranking) -> Option<Fix> {
+/// The optimal re-encoding of a layer as moves, when it differs from the current one. Pinned
+/// bindings (see [`is_pinned`]) keep their channel; `forbidden` placements are not used.
+fn reencode_moves(
+    spec: &ChartSpec,
+    layer: &LayerFacts<'_>,
+    ranking: &Ranking,
+    forbidden: &[(String, Channel)],
+) -> Option<Vec<Move>> {
     let mark = layer.mark()?;
-    // bindings that take part: known kind, a perceptual channel
+    // bindings that take part: known kind, a perceptual channel, not pinned
     let mut movable: Vec<&BindingFacts<'_>> = layer
         .bindings
         .iter()
-        .filter(|facts| facts.kind.is_some() && facts.binding.channel != Channel::Label)
+        .filter(|facts| {
+            facts.kind.is_some()
+                && facts.binding.channel != Channel::Label
+                && !is_pinned(spec, facts)
+        })
         .collect();
     if movable.len() < 2 {
         return None;
@@ -142,6 +398,14 @@ pub fn reencode_layer(spec: &ChartSpec, layer: &LayerFacts<'_>, ranking: &Rankin
             slots
                 .iter()
                 .map(|channel| {
+                    let banned = facts.column_name().is_some_and(|name| {
+                        forbidden
+                            .iter()
+                            .any(|(column, to)| column == name && to == channel)
+                    });
+                    if banned && *channel != facts.binding.channel {
+                        return None;
+                    }
                     placement_cost(spec, layer, facts, *channel, ranking).or(
                         // a column no channel expresses well may stay where it is
                         (*channel == facts.binding.channel).then_some(2.0),
@@ -195,7 +459,6 @@ pub fn reencode_layer(spec: &ChartSpec, layer: &LayerFacts<'_>, ranking: &Rankin
         })
         .collect();
     let assignment = hungarian(&cost)?;
-    let mut edits = Vec::new();
     let mut moves = Vec::new();
     for (row, column) in assignment.iter().enumerate() {
         if cost[row][*column] >= UNASSIGNABLE {
@@ -204,30 +467,13 @@ pub fn reencode_layer(spec: &ChartSpec, layer: &LayerFacts<'_>, ranking: &Rankin
         let facts = movable[row];
         let target = slots[*column];
         if target != facts.binding.channel {
-            edits.push(TextEdit {
-                range: facts.binding.key_range,
-                new_text: json_string(target.as_str()),
-            });
-            moves.push(format!(
-                "`{}` to `{}`",
-                facts.display_name(),
-                target.as_str()
-            ));
+            moves.push(Move::of(facts, target));
         }
     }
-    if edits.is_empty() {
+    if moves.is_empty() {
         return None;
     }
-    edits.sort_by_key(|edit| edit.range.start);
-    Some(Fix {
-        title: format!(
-            "re-encode for {}: {}",
-            ranking.citation.short,
-            moves.join(", ")
-        ),
-        kind: FixKind::Refactor,
-        edits,
-    })
+    Some(moves)
 }
 
 /// Whether every row can get a distinct allowed column.

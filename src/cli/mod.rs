@@ -1,4 +1,5 @@
-//! The command-line front end: `markwell check`, `profile`, `rules`, `explain`, `serve`.
+//! The command-line front end: `markwell check`, `profile`, `rules`, `explain`, `sources`,
+//! `serve`.
 //! A thin shell: it finds files, reads them, calls the analysis and prints.
 
 mod check;
@@ -58,6 +59,8 @@ enum Command {
         /// Rule id, as printed in brackets by `check`.
         id: String,
     },
+    /// Where the numbers come from, and which tables are not yet checked against their source.
+    Sources,
     /// Run the language server over stdin/stdout (LSP).
     Serve,
 }
@@ -80,6 +83,10 @@ pub fn main() -> ExitCode {
         Command::Profile(args) => profile::run(&args),
         Command::Rules => list_rules(),
         Command::Explain { id } => explain(&id),
+        Command::Sources => {
+            print!("{}", crate::knowledge::SOURCES_PAGE);
+            EXIT_CLEAN
+        }
         Command::Serve => return crate::lsp::run_stdio(),
     };
     ExitCode::from(code)

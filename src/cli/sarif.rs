@@ -145,7 +145,7 @@ pub fn render_sarif(files: &[CheckedFile]) -> String {
             json!({
                 "id": rule.id,
                 "shortDescription": { "text": rule.summary },
-                "fullDescription": { "text": first_paragraph_of_section(rule.docs, "## What it checks") },
+                "fullDescription": { "text": first_paragraph_of_section(rule.docs, crate::analysis::rules::DOC_SECTIONS[1]) },
                 "help": { "text": rule.docs, "markdown": rule.docs },
                 "defaultConfiguration": { "level": level(rule.default_severity) },
                 "properties": { "group": rule.group, "hasFix": rule.has_fix },

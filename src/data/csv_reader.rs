@@ -539,7 +539,9 @@ pub fn scan_records<R: Read>(
         } else if cell_count != width {
             table.add_problem(DataProblem {
                 message: format!(
-                    "this row has {cell_count} cells but the header has {width}; {}",
+                    "a row of {} but the header names {}; {}",
+                    plural(cell_count, "cell", "cells"),
+                    plural(width, "column", "columns"),
                     if cell_count < width {
                         "the missing cells count as missing values"
                     } else {
@@ -752,4 +754,13 @@ pub fn scan_bytes(
     scan.table
         .shift_problem_lines(header.lines_before_data as usize);
     Ok((header, scan.table))
+}
+
+/// `1 cell`, `3 cells`.
+fn plural(count: usize, one: &str, many: &str) -> String {
+    if count == 1 {
+        format!("1 {one}")
+    } else {
+        format!("{count} {many}")
+    }
 }

@@ -18,6 +18,10 @@ pub mod perceived;
 pub mod rankings;
 pub mod stevens;
 
+/// The page `markwell sources` prints: where the numbers come from and which tables have not
+/// been checked against their publication.
+pub const SOURCES_PAGE: &str = include_str!("SOURCES.md");
+
 pub use expressiveness::{expresses, Expressiveness};
 pub use perceived::{perceived_channel, ChannelContext, PerceivedChannel};
 pub use rankings::{ranking_by_id, Rank, Ranking, ALL_RANKINGS, DEFAULT_RANKING_ID};

@@ -387,16 +387,9 @@ pub struct HoverContent {
     pub markdown: String,
 }
 
-/// The first section of a rule's documentation ("What it checks", or "What readers get wrong"
-/// on pages in the chart layout), without its heading.
+/// What readers get wrong, from a rule's documentation (its first section, without heading).
 fn rule_explanation(docs: &str) -> Option<&str> {
-    let (position, heading) = ["## What it checks", "## What readers get wrong"]
-        .into_iter()
-        .find_map(|heading| docs.find(heading).map(|position| (position, heading)))?;
-    let start = position + heading.len();
-    let rest = &docs[start..];
-    let end = rest.find("\n## ").unwrap_or(rest.len());
-    Some(rest[..end].trim())
+    crate::analysis::rules::doc_section(docs, crate::analysis::rules::DOC_SECTIONS[0])
 }
 
 /// What the eye reads for a binding, and how each published ranking places that channel for
@@ -1007,7 +1000,7 @@ mod tests {
         let docs = rule_by_id("unknown-key")
             .map(|rule| rule.docs)
             .unwrap_or_default();
-        let explanation = rule_explanation(docs).expect("a What it checks section");
+        let explanation = rule_explanation(docs).expect("a first section");
         assert!(hover.markdown.contains(explanation), "{}", hover.markdown);
     }
 

@@ -1,6 +1,7 @@
 //! `area-perception`: sizes over a wide range look less different than they are (Stevens'
 //! power law for area). Documentation: `area-perception.md`.
 
+use crate::analysis::channels::{drawn_nouns, free_channels};
 use crate::analysis::rules::part_to_whole_invalid::format_number;
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
@@ -47,12 +48,27 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             continue;
         }
         let looks = apparent_ratio(exponent.exponent, ratio);
+        let (_, many) = drawn_nouns(layer);
+        let instead = match free_channels(layer)
+            .into_iter()
+            .find(|channel| channel.is_position())
+        {
+            Some(free) => format!(
+                "move `{}` to the free `{}`, where values are read nearly in proportion",
+                facts.display_name(),
+                free.as_str()
+            ),
+            None => format!(
+                "to show the differences as they are, draw `{}` on a position or as the length of bars",
+                facts.display_name()
+            ),
+        };
         diagnostics.push(Diagnostic::new(
             ID,
             Severity::Info,
             facts.binding.key_range,
             format!(
-                "the largest `{}` ({}) is {:.1}x the smallest ({}), but areas {:.1}x apart look only about {:.1}x apart (Stevens' exponent for area {}); scaling radii by value^{} (Flannery 1971) compensates",
+                "the largest `{}` ({}) is {:.1}x the smallest ({}), but {many} {:.1}x apart in size look only about {:.1}x apart (Stevens' exponent for area {}); radii drawn in proportion to value^{} make up for this (Flannery 1971), which the format cannot express: {instead}",
                 facts.display_name(),
                 format_number(numbers.max),
                 ratio,

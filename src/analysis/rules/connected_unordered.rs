@@ -49,14 +49,19 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 Severity::Warning,
                 mark.range,
                 format!(
-                    "a {} joins the values of `{}` in sequence, but `{}` is categorical: the slopes between them mean nothing",
-                    mark.value.as_str(),
+                    "{} joins the values of `{}` in sequence, but `{}` is categorical: the slopes between them mean nothing",
+                    if mark.value == Mark::Line { "a line" } else { "an area" },
                     facts.display_name(),
                     facts.display_name()
                 ),
             )
             .with_fix(Fix::quick(
-                format!("draw {}s instead", replacement.as_str()),
+                format!(
+                    "draw {}s, which are not joined: mark `{}`->`{}`",
+                    replacement.as_str(),
+                    mark.value.as_str(),
+                    replacement.as_str()
+                ),
                 vec![TextEdit {
                     range: mark.range,
                     new_text: json_string(replacement.as_str()),

@@ -57,8 +57,9 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         if profile.kind != kind.value {
             diagnostic.fixes.push(Fix::quick(
                 format!(
-                    "declare `{}` {}",
+                    "declare `{}` as the data reads it: kind `{}`->`{}`",
                     declaration.name.value,
+                    kind.value.as_str(),
                     profile.kind.as_str()
                 ),
                 vec![TextEdit {

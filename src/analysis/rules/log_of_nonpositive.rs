@@ -1,6 +1,7 @@
 //! `log-of-nonpositive`: logarithmic spacing over data with zero or negative values. Documentation:
 //! `log-of-nonpositive.md`.
 
+use crate::analysis::channels::drawn_nouns;
 use crate::analysis::rules::part_to_whole_invalid::format_number;
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Fix, Severity, TextEdit};
@@ -53,13 +54,20 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                     Severity::Error,
                     spacing.range,
                     format!(
-                        "`{}` goes down to {}, and logarithmic spacing has no place for zero or negative values: those marks vanish",
+                        "`{}` goes down to {}, and a logarithmic `{}` has no place for zero or negative values: those {} vanish",
                         facts.display_name(),
-                        format_number(numbers.min)
+                        format_number(numbers.min),
+                        facts.binding.channel.as_str(),
+                        drawn_nouns(layer).1
                     ),
                 )
                 .with_fix(Fix::quick(
-                    "use even spacing",
+                    format!(
+                        "space `{}` evenly: `{}`->`{}`",
+                        facts.binding.channel.as_str(),
+                        Spacing::Logarithmic.as_str(),
+                        Spacing::Even.as_str()
+                    ),
                     vec![TextEdit {
                         range: spacing.range,
                         new_text: json_string(Spacing::Even.as_str()),

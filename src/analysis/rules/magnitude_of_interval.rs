@@ -1,7 +1,7 @@
 //! `magnitude-of-interval`: lengths or areas drawn for values without a true zero.
 //! Documentation: `magnitude-of-interval.md`.
 
-use crate::analysis::channels::perceived_for;
+use crate::analysis::channels::{drawn_nouns, perceived_for, twice_as_much_phrase};
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Fix, Severity, TextEdit};
 use crate::knowledge::perceived::PerceivedChannel;
@@ -50,17 +50,23 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 Severity::Warning,
                 facts.binding.key_range,
                 format!(
-                    "`{}`{unit} has no true zero, yet `{}` draws it as {}: a bar twice as long does not mean twice as much",
+                    "`{}`{unit} has no true zero, yet `{}` draws it as the {} of {}: {} does not mean twice as much",
                     facts.display_name(),
                     facts.binding.channel.as_str(),
-                    perceived.description()
+                    perceived.description(),
+                    drawn_nouns(layer).1,
+                    twice_as_much_phrase(layer, perceived)
                 ),
             );
             if let Some(mark) = layer.layer.mark.as_ref().filter(|mark| {
                 matches!(mark.value, Mark::Bar | Mark::Area) && facts.binding.channel.is_position()
             }) {
                 diagnostic.fixes.push(Fix::quick(
-                    "draw points instead (position needs no zero)",
+                    format!(
+                        "draw points (a position needs no zero): mark `{}`->`{}`",
+                        mark.value.as_str(),
+                        Mark::Point.as_str()
+                    ),
                     vec![TextEdit {
                         range: mark.range,
                         new_text: json_string(Mark::Point.as_str()),

@@ -1,6 +1,6 @@
 //! The rule registry. Each rule lives in its own file with its documentation beside it (a
-//! Markdown file of the same name with the sections What it checks / Why it matters / Example /
-//! Instead / Source); `markwell explain ID` prints it.
+//! Markdown file of the same name with the sections of [`DOC_SECTIONS`]); `markwell explain ID`
+//! prints it.
 
 mod angle_for_comparison;
 mod area_perception;
@@ -14,8 +14,10 @@ mod levels_mismatch;
 mod log_of_nonpositive;
 mod low_contrast_mark;
 mod magnitude_of_interval;
+mod malformed_data;
 mod missing_source;
 mod negative_area;
+mod no_data_source;
 mod ordered_channel_for_categories;
 mod palette_cvd_collision;
 mod palette_too_short;
@@ -101,14 +103,24 @@ pub struct Rule {
     pub check: RuleCheck,
 }
 
-/// The sections every rule's documentation must have, in order.
+/// The sections every rule's documentation has, exactly these and in this order: what readers
+/// misjudge, what in the spec and the data triggers the rule, a spec with the problem, one
+/// without, and the evidence (full citations, or "Common practice; no published source").
 pub const DOC_SECTIONS: [&str; 5] = [
-    "## What it checks",
-    "## Why it matters",
-    "## Example",
-    "## Instead",
-    "## Source",
+    "## What readers get wrong",
+    "## What sets it off",
+    "## A spec that has it",
+    "## A spec that does not",
+    "## Evidence",
 ];
+
+/// The body of one section of a rule's documentation (without its heading), trimmed.
+pub fn doc_section<'d>(docs: &'d str, heading: &str) -> Option<&'d str> {
+    let start = docs.find(heading)? + heading.len();
+    let rest = &docs[start..];
+    let end = rest.find("\n## ").unwrap_or(rest.len());
+    Some(rest[..end].trim())
+}
 
 /// All rules, in catalogue order.
 pub fn registry() -> &'static [Rule] {
@@ -169,6 +181,8 @@ pub fn registry() -> &'static [Rule] {
         },
         missing_source::RULE,
         channel_not_on_mark::RULE,
+        malformed_data::RULE,
+        no_data_source::RULE,
         unknown_column::RULE,
         levels_mismatch::RULE,
         kind_conflict::RULE,

@@ -1,5 +1,6 @@
 //! `negative-area`: the area channel over negative values. Documentation: `negative-area.md`.
 
+use crate::analysis::channels::drawn_nouns;
 use crate::analysis::rules::part_to_whole_invalid::format_number;
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
@@ -42,9 +43,10 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             Severity::Error,
             facts.binding.key_range,
             format!(
-                "`{}` goes down to {}, but a mark cannot have a negative area: those values are drawn as small or hidden",
+                "`{}` goes down to {}, but {many} cannot be smaller than nothing: the negative values are drawn as tiny {many}, as large as their opposites, or not at all",
                 facts.display_name(),
-                format_number(numbers.min)
+                format_number(numbers.min),
+                many = drawn_nouns(layer).1
             ),
         ));
     }

@@ -31,7 +31,8 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             .is_some_and(|arrange| arrange.value.is_stacked());
         let whole = match mark {
             Mark::Wedge => "the slices of a pie",
-            Mark::Bar | Mark::Area if stacked => "stacked segments",
+            Mark::Bar if stacked => "stacked bar segments",
+            Mark::Area if stacked => "stacked areas",
             _ => continue,
         };
         let Some(facts) = magnitude_binding(layer) else {
@@ -46,8 +47,8 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             Some((
                 summary.range,
                 format!(
-                    "{whole} add up to a whole, but {}s of `{}` do not add up to anything",
-                    summary.value.as_str(),
+                    "{whole} add up to a whole, but {} of `{}` do not add up to anything",
+                    summary_plural(summary.value),
                     facts.column_name().unwrap_or("the values")
                 ),
             ))
@@ -98,4 +99,16 @@ pub fn format_number(value: f64) -> String {
     }
     let text = format!("{value:.3}");
     text.trim_end_matches('0').trim_end_matches('.').to_string()
+}
+
+/// "means", "medians", "minimums", ... for messages.
+fn summary_plural(summary: crate::spec::model::Summary) -> String {
+    use crate::spec::model::Summary;
+    match summary {
+        Summary::Min => "minimums".to_string(),
+        Summary::Max => "maximums".to_string(),
+        Summary::Count => "counts".to_string(),
+        Summary::Distinct => "distinct counts".to_string(),
+        other => format!("{}s", other.as_str()),
+    }
 }

@@ -48,7 +48,12 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 .into_iter()
                 .map(|replacement| {
                     Fix::quick(
-                        format!("use `{}` instead", replacement.as_str()),
+                        format!(
+                            "summarise by `{}`: `{}`->`{}`",
+                            replacement.as_str(),
+                            summary.value.as_str(),
+                            replacement.as_str()
+                        ),
                         vec![TextEdit {
                             range: summary.range,
                             new_text: json_string(replacement.as_str()),

@@ -85,28 +85,36 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             }
         };
         let mut edits = Vec::new();
+        let mut changes = Vec::new();
         if let Some(zero) = zero_off {
             edits.push(TextEdit {
                 range: zero.range,
                 new_text: json_string(MappingFrom::Zero.as_str()),
             });
+            changes.push("`from` `data`->`zero`".to_string());
         }
         if let Some(domain) = domain {
             if let Some(bound_range) =
                 extent_bound_range(context.text(), domain.range, domain.value.0 > 0.0)
             {
+                let old = context
+                    .text()
+                    .get(bound_range.start..bound_range.end)
+                    .unwrap_or("");
                 edits.push(TextEdit {
                     range: bound_range,
                     new_text: "0".to_string(),
                 });
+                changes.push(format!("`extent` bound `{old}`->`0`"));
             }
         }
         let mut diagnostic = Diagnostic::new(ID, Severity::Warning, range, message);
         if !edits.is_empty() {
             edits.sort_by_key(|edit| edit.range.start);
-            diagnostic
-                .fixes
-                .push(Fix::quick("start the axis at zero", edits));
+            diagnostic.fixes.push(Fix::quick(
+                format!("start the {mark_word} at zero: {}", changes.join(", ")),
+                edits,
+            ));
         }
         diagnostics.push(diagnostic);
     }

@@ -94,7 +94,10 @@ fn check_name(name: &Spanned<String>, profiles: &[&DataProfile], out: &mut Vec<D
         Some(suggestion) => {
             diagnostic.message = format!("{}; did you mean `{suggestion}`?", diagnostic.message);
             diagnostic.fixes.push(Fix::quick(
-                format!("use column `{suggestion}`"),
+                format!(
+                    "use column `{suggestion}`: `{}`->`{suggestion}`",
+                    name.value
+                ),
                 vec![TextEdit {
                     range: name.range,
                     new_text: json_string(suggestion),
