@@ -50,10 +50,50 @@ impl BindingFacts<'_> {
         }
     }
 
+    /// The kind of the values on the channel in the words every surface uses: for a plain
+    /// column the same phrase as the column's own ([`kind_phrase`]), for a summary or bins what
+    /// they turn the column into.
+    pub fn kind_phrase(&self) -> Option<String> {
+        match self.kind_origin? {
+            KindOrigin::Summary => {
+                let summary = self.binding.summary.as_ref()?.value.as_str();
+                Some(format!("quantitative (the `{summary}` of each group)"))
+            }
+            KindOrigin::Bins => {
+                Some("ordered (`bins` turn the numbers into intervals)".to_string())
+            }
+            KindOrigin::Declared | KindOrigin::Data => kind_phrase(
+                self.declaration
+                    .and_then(|declaration| declaration.kind.as_ref())
+                    .map(|kind| kind.value),
+                self.profile.map(|profile| profile.kind),
+            ),
+        }
+    }
+
     /// Values are numbers with a magnitude (quantitative, or a summary).
     pub fn is_magnitude(&self) -> bool {
         self.kind == Some(AttributeKind::Quantitative)
     }
+}
+
+/// A column's effective kind, said the same way in every hover: the declaration wins, and what
+/// the data looks like is said beside it when the two differ, e.g. "ordered (declared; the data
+/// looks categorical)".
+pub fn kind_phrase(
+    declared: Option<AttributeKind>,
+    inferred: Option<AttributeKind>,
+) -> Option<String> {
+    Some(match (declared, inferred) {
+        (Some(declared), Some(inferred)) if declared != inferred => format!(
+            "{} (declared; the data looks {})",
+            declared.as_str(),
+            inferred.as_str()
+        ),
+        (Some(declared), _) => format!("{} (declared)", declared.as_str()),
+        (None, Some(inferred)) => format!("{} (from the data)", inferred.as_str()),
+        (None, None) => return None,
+    })
 }
 
 #[derive(Debug)]
@@ -160,5 +200,28 @@ fn binding_facts<'a>(
         kind_origin,
         column_kind,
         zero,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_declared_kind_leads_and_the_data_is_said_beside_it() {
+        use AttributeKind::*;
+        assert_eq!(
+            kind_phrase(Some(Ordered), Some(Categorical)).as_deref(),
+            Some("ordered (declared; the data looks categorical)")
+        );
+        assert_eq!(
+            kind_phrase(Some(Ordered), Some(Ordered)).as_deref(),
+            Some("ordered (declared)")
+        );
+        assert_eq!(
+            kind_phrase(None, Some(Time)).as_deref(),
+            Some("time (from the data)")
+        );
+        assert_eq!(kind_phrase(None, None), None);
     }
 }

@@ -335,9 +335,16 @@ pub fn column_brief(profile: &ColumnProfile) -> String {
     }
 }
 
-/// A markdown description of a column profile, for hovers.
-pub fn column_markdown(profile: &ColumnProfile, path: Option<&PathBuf>) -> String {
-    let mut text = format!("**column `{}`**: {}", profile.name, profile.kind.as_str());
+/// A markdown description of a column profile, for hovers. The kind is the effective one (the
+/// declaration in `columns` wins), worded as in the channel hover.
+pub fn column_markdown(
+    profile: &ColumnProfile,
+    path: Option<&PathBuf>,
+    declared: Option<crate::spec::model::AttributeKind>,
+) -> String {
+    let kind = crate::analysis::facts::kind_phrase(declared, Some(profile.kind))
+        .unwrap_or_else(|| profile.kind.as_str().to_string());
+    let mut text = format!("**column `{}`**: {kind}", profile.name);
     if let Some(path) = path {
         let file = path.file_name().map_or_else(
             || path.display().to_string(),
@@ -392,6 +399,19 @@ fn rule_explanation(docs: &str) -> Option<&str> {
     crate::analysis::rules::doc_section(docs, crate::analysis::rules::DOC_SECTIONS[0])
 }
 
+/// The mark a misspelt or borrowed mark name most likely means (`bars` -> `bar`, `pie` ->
+/// `wedge`).
+fn closest_mark(written: &str) -> Option<&'static str> {
+    crate::spec::synonyms::value_synonym("mark", written).or_else(|| {
+        crate::spec::suggest::closest_name(
+            written,
+            crate::spec::model::Mark::ALL
+                .iter()
+                .map(|mark| mark.as_str()),
+        )
+    })
+}
+
 /// What the eye reads for a binding, and how each published ranking places that channel for
 /// the column's kind, the active ranking first.
 pub fn channel_markdown(
@@ -421,7 +441,21 @@ pub fn channel_markdown(
     }
     let binding = layer.binding(channel)?;
     let Some(mark) = layer.mark() else {
-        text.push_str(": the layer has no mark, so what the eye reads is not known yet");
+        match &layer.layer.unknown_mark {
+            Some(written) => {
+                text.push_str(&format!(
+                    ": the mark `{}` is not one markwell knows",
+                    written.value
+                ));
+                if let Some(closest) = closest_mark(&written.value) {
+                    text.push_str(&format!(" (the closest is `{closest}`)"));
+                }
+                text.push_str(", so what the eye reads is not known yet");
+            }
+            None => {
+                text.push_str(": the layer has no mark, so what the eye reads is not known yet")
+            }
+        }
         return Some(text);
     };
     let context = ChannelContext {
@@ -438,14 +472,13 @@ pub fn channel_markdown(
         mark.as_str(),
         perceived.description()
     ));
-    let Some(kind) = binding.kind else {
+    let (Some(kind), Some(phrase)) = (binding.kind, binding.kind_phrase()) else {
         text.push_str("\n\nthe column's kind is not known (no data profile or declaration)");
         return Some(text);
     };
     text.push_str(&format!(
-        "; `{}` is {}\n\n| ranking | this channel | best channel for {} |\n|---|---|---|\n",
+        "; `{}` is {phrase}\n\n| ranking | this channel | best channel for {} |\n|---|---|---|\n",
         binding.display_name(),
-        kind.as_str(),
         kind.as_str()
     ));
     let active = active_ranking.unwrap_or(DEFAULT_RANKING_ID);
@@ -551,7 +584,13 @@ pub fn hover_at(
     {
         range = Some(reference.range);
         match profile_of(data, reference) {
-            Some((profile, path)) => sections.push(column_markdown(profile, path)),
+            Some((profile, path)) => {
+                let declared = spec
+                    .column_declaration(reference.name)
+                    .and_then(|declaration| declaration.kind.as_ref())
+                    .map(|kind| kind.value);
+                sections.push(column_markdown(profile, path, declared));
+            }
             None => sections.push(format!(
                 "**column `{}`**: no profile (the data could not be read, or has no such column)",
                 reference.name
@@ -883,6 +922,67 @@ mod tests {
             .find(|line| line.starts_with("| ") && !line.starts_with("| ranking"))
             .unwrap_or_default();
         assert!(first_row.contains("(active)"), "{first_row}");
+    }
+
+    #[test]
+    fn column_and_channel_hovers_say_the_same_effective_kind() {
+        // `orchard` is declared ordered; its data looks categorical
+        let spec = ORCHARD.replace(
+            r#""columns": {"#,
+            r#""columns": { "orchard": { "kind": "ordered" },"#,
+        );
+        let document = parse_document(&spec);
+        let data = harvest_data();
+        let phrase = "ordered (declared; the data looks categorical)";
+        let value = spec.find("\"x\": \"orchard\"").expect("binding") + 7;
+        let column = hover_at(&document, &data, &[], value, None).expect("column hover");
+        assert!(
+            column
+                .markdown
+                .starts_with(&format!("**column `orchard`**: {phrase}")),
+            "{}",
+            column.markdown
+        );
+        let key = spec.find("\"x\"").expect("channel key") + 1;
+        let channel = hover_at(&document, &data, &[], key, None).expect("channel hover");
+        assert!(
+            channel.markdown.contains(&format!("`orchard` is {phrase}")),
+            "{}",
+            channel.markdown
+        );
+        // a column whose declaration agrees with the data
+        let grade = spec.find("\"column\": \"grade\"").expect("grade") + 11;
+        let hover = hover_at(&document, &data, &[], grade, None).expect("grade hover");
+        assert!(
+            hover
+                .markdown
+                .starts_with("**column `grade`**: ordered (declared)"),
+            "{}",
+            hover.markdown
+        );
+    }
+
+    #[test]
+    fn after_a_misspelt_mark_the_channel_hover_names_it_and_the_closest_mark() {
+        let data = harvest_data();
+        for (written, closest) in [("bars", "bar"), ("pie", "wedge")] {
+            let spec = ORCHARD.replace(r#""mark": "bar""#, &format!(r#""mark": "{written}""#));
+            let document = parse_document(&spec);
+            let key = spec.find("\"y\"").expect("channel key") + 1;
+            let hover = hover_at(&document, &data, &[], key, None).expect("channel hover");
+            assert!(
+                hover.markdown.contains(&format!(
+                    "the mark `{written}` is not one markwell knows (the closest is `{closest}`)"
+                )),
+                "{}",
+                hover.markdown
+            );
+            assert!(
+                !hover.markdown.contains("has no mark"),
+                "{}",
+                hover.markdown
+            );
+        }
     }
 
     #[test]

@@ -256,6 +256,7 @@ fn lower_layer(index: usize, node: Node<'_>, range_node: Node<'_>) -> Layer {
         index,
         range: range_node.range(),
         mark: None,
+        unknown_mark: None,
         bind_range: None,
         bindings: Vec::new(),
         arrange: None,
@@ -265,7 +266,12 @@ fn lower_layer(index: usize, node: Node<'_>, range_node: Node<'_>) -> Layer {
     let (mut bind_seen, mut style_seen) = (false, false);
     for (key, value) in entries(node) {
         match key.as_ref() {
-            "mark" => first(&mut layer.mark, lower_keyword(value, Mark::parse)),
+            "mark" if layer.mark.is_none() && layer.unknown_mark.is_none() => {
+                layer.mark = lower_keyword(value, Mark::parse);
+                if layer.mark.is_none() {
+                    layer.unknown_mark = lower_string(value);
+                }
+            }
             "arrange" => first(&mut layer.arrange, lower_keyword(value, Arrange::parse)),
             "source" => first(&mut layer.source, lower_source(value)),
             "bind" if !bind_seen => {

@@ -326,6 +326,8 @@ pub struct Layer {
     /// Range of the layer object (the whole document for a single-layer chart).
     pub range: TextRange,
     pub mark: Option<Spanned<Mark>>,
+    /// A `mark` written as text that names no mark (`"bars"`), so hovers can say so.
+    pub unknown_mark: Option<Spanned<String>>,
     /// Range of the `bind` object.
     pub bind_range: Option<TextRange>,
     pub bindings: Vec<Binding>,
