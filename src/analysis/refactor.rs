@@ -18,7 +18,10 @@ use std::collections::HashMap;
 use crate::analysis::channels::{active_ranking, channels_for_mark, ordinal, perceived_for};
 use crate::analysis::facts::{BindingFacts, LayerFacts};
 use crate::analysis::rules::{RuleContext, SYNTAX_ERROR};
-use crate::analysis::{adds_no_finding, analyze, analyze_unchecked, parse_document, rule_counts};
+use crate::analysis::{
+    adds_no_finding, analyze, analyze_unchecked, parse_document, rule_counts,
+    MAX_TEXT_FOR_FIX_CHECK,
+};
 use crate::analysis::{AnalysisConfig, ParsedDocument};
 use crate::data::DataContext;
 use crate::diagnostic::{Diagnostic, Fix, FixKind, TextEdit};
@@ -32,6 +35,10 @@ use crate::text_range::TextRange;
 /// How many times a re-encoding that the rules reject is recomputed with the placements they
 /// objected to forbidden. markwell's choice, no source.
 const REENCODE_ATTEMPTS: usize = 4;
+
+/// Layers a request considers (a selection over a long `layers` list would otherwise cost one
+/// analysis per candidate of every layer). markwell's choice, no source.
+const MAX_LAYERS_PER_REQUEST: usize = 8;
 
 /// One binding moving to another channel.
 #[derive(Clone, Debug)]
@@ -154,7 +161,10 @@ pub fn refactors_at(
     config: &AnalysisConfig,
     range: TextRange,
 ) -> Vec<Fix> {
-    if document.diagnostics.iter().any(|d| d.rule == SYNTAX_ERROR) {
+    // a refactor is offered only after checking it, which the size limit of fix checks rules out
+    if document.diagnostics.iter().any(|d| d.rule == SYNTAX_ERROR)
+        || document.tree.text().len() > MAX_TEXT_FOR_FIX_CHECK
+    {
         return Vec::new();
     }
     let context = RuleContext::new(document, data, config);
@@ -169,6 +179,7 @@ pub fn refactors_at(
                 .bind_range
                 .is_some_and(|bind| bind.intersects(range))
         })
+        .take(MAX_LAYERS_PER_REQUEST)
         .collect();
     if layers.is_empty() {
         return Vec::new();
