@@ -226,6 +226,7 @@ pub fn reencode_layer(spec: &ChartSpec, layer: &LayerFacts<'_>, ranking: &Rankin
             moves.join(", ")
         ),
         kind: FixKind::Refactor,
+        safe: false,
         edits,
     })
 }

@@ -223,13 +223,16 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                     if let Some(suggestion) = closest_name(key, valid.iter().copied()) {
                         diagnostic.message =
                             format!("{}; did you mean `{suggestion}`?", diagnostic.message);
-                        diagnostic.fixes.push(Fix::quick(
-                            format!("rename to `{suggestion}`"),
-                            vec![TextEdit {
-                                range,
-                                new_text: json_string(suggestion),
-                            }],
-                        ));
+                        diagnostic.fixes.push(
+                            Fix::quick(
+                                format!("rename to `{suggestion}`"),
+                                vec![TextEdit {
+                                    range,
+                                    new_text: json_string(suggestion),
+                                }],
+                            )
+                            .marked_safe(),
+                        );
                     }
                     diagnostics.push(diagnostic);
                 }
@@ -259,13 +262,16 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                 {
                     diagnostic.message =
                         format!("{shown} is not allowed {place}; did you mean `{suggestion}`?");
-                    diagnostic.fixes.push(Fix::quick(
-                        format!("change to `{suggestion}`"),
-                        vec![TextEdit {
-                            range: node.range(),
-                            new_text: json_string(suggestion),
-                        }],
-                    ));
+                    diagnostic.fixes.push(
+                        Fix::quick(
+                            format!("change to `{suggestion}`"),
+                            vec![TextEdit {
+                                range: node.range(),
+                                new_text: json_string(suggestion),
+                            }],
+                        )
+                        .marked_safe(),
+                    );
                 }
                 diagnostics.push(diagnostic);
             }
