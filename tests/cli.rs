@@ -76,8 +76,8 @@ fn misspelled_key_is_an_error_at_its_exact_place_with_the_closest_key_as_fix() {
         .unwrap_or("")
         .contains("did you mean `bind`"));
 
-    let human = markwell(&["check", "typo.chart.json"], dir.path());
-    let text = String::from_utf8_lossy(&human.stdout);
+    let report = markwell(&["check", "typo.chart.json"], dir.path());
+    let text = String::from_utf8_lossy(&report.stdout);
     assert!(
         text.lines()
             .any(|line| line.starts_with("typo.chart.json:4:3  error  unknown-key")),
