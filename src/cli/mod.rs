@@ -88,14 +88,15 @@ pub fn main() -> ExitCode {
     let mut err = io::stderr();
     let code = match run(std::env::args_os(), &mut out, &mut err) {
         Ok(code) => code,
-        Err(_) => EXIT_TROUBLE,
+        Err(_) => ExitCode::from(EXIT_TROUBLE),
     };
     let _ = out.flush();
-    ExitCode::from(code)
+    code
 }
 
-/// Parse `args` and run the command, writing through `out` and `err`.
-pub fn run<I, T>(args: I, out: &mut dyn Write, err: &mut dyn Write) -> io::Result<u8>
+/// Parse `args` and run the command, writing through `out` and `err`. The language server
+/// (`serve`) speaks over the process's own stdin and stdout and keeps its own exit codes.
+pub fn run<I, T>(args: I, out: &mut dyn Write, err: &mut dyn Write) -> io::Result<ExitCode>
 where
     I: IntoIterator<Item = T>,
     T: Into<std::ffi::OsString> + Clone,
@@ -105,26 +106,24 @@ where
         Err(error) => {
             if error.use_stderr() {
                 writeln!(err, "markwell: {}", argument_error_message(&error))?;
-                return Ok(EXIT_TROUBLE);
+                return Ok(ExitCode::from(EXIT_TROUBLE));
             }
             // help and version
             write!(out, "{}", error.render())?;
-            return Ok(EXIT_CLEAN);
+            return Ok(ExitCode::from(EXIT_CLEAN));
         }
     };
-    match cli.command {
-        Command::Check(args) => check::run(&args, out, err),
-        Command::Profile(args) => profile::run(&args, out, err),
-        Command::Rules => list_rules(out),
-        Command::Explain { id } => explain(&id, out, err),
+    let code = match cli.command {
+        Command::Check(args) => check::run(&args, out, err)?,
+        Command::Profile(args) => profile::run(&args, out, err)?,
+        Command::Rules => list_rules(out)?,
+        Command::Explain { id } => explain(&id, out, err)?,
         Command::Serve => {
             out.flush()?;
-            Ok(match crate::lsp::run_stdio() {
-                code if code == ExitCode::SUCCESS => EXIT_CLEAN,
-                _ => EXIT_TROUBLE,
-            })
+            return Ok(crate::lsp::run_stdio());
         }
-    }
+    };
+    Ok(ExitCode::from(code))
 }
 
 fn context_text(value: Option<&ContextValue>) -> Option<String> {
@@ -165,7 +164,7 @@ pub fn argument_error_message(error: &clap::Error) -> String {
         .as_deref()
         .map(|arg| arg.split(' ').next().unwrap_or(arg).to_string());
     let value = context_text(error.get(ContextKind::InvalidValue));
-    let hint = "`markwell --help` lists the commands, `markwell COMMAND --help` their options";
+    let hint = "see `markwell --help`";
     let sentence = match error.kind() {
         ErrorKind::UnknownArgument => {
             let arg = arg.unwrap_or_default();
@@ -199,8 +198,18 @@ pub fn argument_error_message(error: &clap::Error) -> String {
             }
         }
         ErrorKind::MissingRequiredArgument => {
-            let missing = arg.unwrap_or_else(|| "an argument".to_string());
-            format!("{missing} is needed")
+            let missing = arg.unwrap_or_default();
+            let missing = missing
+                .split(", ")
+                .map(|name| {
+                    format!(
+                        "`{}`",
+                        name.trim_end_matches("...").trim_matches(['<', '>'])
+                    )
+                })
+                .collect::<Vec<_>>()
+                .join(" and ");
+            format!("{missing} is missing")
         }
         ErrorKind::MissingSubcommand | ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand => {
             "say what to do: `check`, `profile`, `rules`, `explain` or `serve`".to_string()
