@@ -402,6 +402,23 @@ fn invalid_configuration_exits_two_with_a_suggestion() {
         assert!(text.contains("markwell.toml"), "{text}");
         assert!(text.contains(expected), "{config}: {text}");
         assert!(output.stdout.is_empty(), "no report on defaults");
+
+        let json = markwell(
+            &["check", "--format", "json", "rows.chart.json"],
+            dir.path(),
+        );
+        assert_eq!(json.status.code(), Some(2), "{config}");
+        let report: Value = serde_json::from_slice(&json.stdout).expect("JSON report");
+        assert_eq!(report["files"].as_array().map(Vec::len), Some(0));
+        let problem = &report["errors"][0];
+        assert!(problem["path"]
+            .as_str()
+            .unwrap_or("")
+            .ends_with("markwell.toml"));
+        assert!(
+            problem["message"].as_str().unwrap_or("").contains(expected),
+            "{problem}"
+        );
     }
 }
 

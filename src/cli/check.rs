@@ -101,7 +101,7 @@ impl Checker<'_> {
         path: &Path,
         text: &str,
         encoding_diagnostics: Vec<Diagnostic>,
-    ) -> Result<(Vec<Diagnostic>, SpecOutline), String> {
+    ) -> Result<(Vec<Diagnostic>, SpecOutline), Vec<RunError>> {
         let workspace_root = self
             .args
             .workspace
@@ -211,6 +211,8 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
     let palette = Palette::for_stdout();
     let mut checked = Vec::new();
     let mut previews: Vec<u8> = Vec::new();
+    // an invalid `markwell.toml` stops the run: no report on defaults
+    let mut config_problems: Vec<RunError> = Vec::new();
     for path in files {
         if is_data_file(&path, None) {
             errors.push(RunError {
@@ -239,9 +241,9 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
         let (mut diagnostics, mut spec_outline) =
             match checker.analyse(&path, &text.text, text.encoding_diagnostics) {
                 Ok(result) => result,
-                Err(message) => {
-                    writeln!(err, "markwell: {message}")?;
-                    return Ok(EXIT_TROUBLE);
+                Err(problems) => {
+                    config_problems = problems;
+                    break;
                 }
             };
         let mut spec_text = text.text;
@@ -286,9 +288,9 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
                         (diagnostics, spec_outline) =
                             match checker.analyse(&path, &new_text, Vec::new()) {
                                 Ok(result) => result,
-                                Err(message) => {
-                                    writeln!(err, "markwell: {message}")?;
-                                    return Ok(EXIT_TROUBLE);
+                                Err(problems) => {
+                                    config_problems = problems;
+                                    break;
                                 }
                             };
                         spec_text = new_text;
@@ -302,6 +304,22 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
             diagnostics,
             outline: spec_outline,
         });
+    }
+
+    if !config_problems.is_empty() {
+        if args.format == OutputFormat::Report {
+            for problem in &config_problems {
+                writeln!(
+                    err,
+                    "markwell: {}: {}",
+                    super::report::printable(&problem.path),
+                    super::report::printable(&problem.message)
+                )?;
+            }
+            return Ok(EXIT_TROUBLE);
+        }
+        checked.clear();
+        errors.extend(config_problems);
     }
 
     let fail_on = args.fail_on.severity();
@@ -469,31 +487,29 @@ pub fn find_workspace_root(spec_path: &Path) -> PathBuf {
 fn load_project_config(
     explicit: Option<&Path>,
     workspace_root: &Path,
-) -> Result<ProjectConfig, String> {
+) -> Result<ProjectConfig, Vec<RunError>> {
     let (path, required) = match explicit {
         Some(path) => (path.to_path_buf(), true),
         None => (workspace_root.join(CONFIG_FILE_NAME), false),
+    };
+    let problem = |message: String| RunError {
+        path: path.display().to_string(),
+        message,
     };
     let text = match std::fs::read_to_string(&path) {
         Ok(text) => text,
         Err(error) if !required && error.kind() == std::io::ErrorKind::NotFound => {
             return Ok(ProjectConfig::default())
         }
-        Err(error) => return Err(format!("{}: {}", path.display(), describe_io_error(&error))),
+        Err(error) => return Err(vec![problem(describe_io_error(&error))]),
     };
     let (config, warnings) =
-        parse_project_config(&text).map_err(|message| format!("{}: {message}", path.display()))?;
+        parse_project_config(&text).map_err(|message| vec![problem(message)])?;
     if !warnings.is_empty() {
         // a misspelt rule, severity or key is not silently replaced by the defaults
-        let lines: Vec<String> = warnings
-            .iter()
-            .map(|warning| format!("{}: {warning}", path.display()))
-            .collect();
-        return Err(format!(
-            "{}\nmarkwell: {}: fix the configuration and run again",
-            lines.join("\nmarkwell: "),
-            path.display()
-        ));
+        let mut problems: Vec<RunError> = warnings.into_iter().map(problem).collect();
+        problems.push(problem("fix the configuration and run again".to_string()));
+        return Err(problems);
     }
     Ok(config)
 }
