@@ -220,11 +220,14 @@ pub fn argument_error_message(error: &clap::Error) -> String {
             value.unwrap_or_default()
         ),
         ErrorKind::ArgumentConflict => {
+            let flag = flag.unwrap_or_default();
             let other = context_text(error.get(ContextKind::PriorArg)).unwrap_or_default();
-            format!(
-                "`{}` cannot be used with `{other}`",
-                flag.unwrap_or_default()
-            )
+            let other = other.split(' ').next().unwrap_or("").to_string();
+            if other == flag {
+                format!("`{flag}` is given twice")
+            } else {
+                format!("`{flag}` cannot be used with `{other}`")
+            }
         }
         _ => {
             // the first line of clap's own text, with its label removed and our quotes

@@ -284,49 +284,54 @@ fn floor_boundary(text: &str, mut offset: usize) -> usize {
     offset
 }
 
-/// At most `limit` characters of the end of `text`, with `…` in front when cut.
+/// At most `limit` characters of the end of `text`, with `…` in front when cut; cut before
+/// anything else is done to it, so a minified spec's megabyte line costs little.
 fn tail(text: &str, limit: usize) -> String {
-    let count = text.chars().count();
-    if count <= limit {
-        text.to_string()
-    } else {
-        let skip = count - limit;
-        format!("…{}", text.chars().skip(skip).collect::<String>())
+    match text.char_indices().rev().nth(limit) {
+        Some((index, c)) => format!("…{}", printable(&text[index + c.len_utf8()..])),
+        None => printable(text),
     }
 }
 
 /// At most `limit` characters of the start of `text`, with `…` behind when cut.
 fn head(text: &str, limit: usize) -> String {
-    if text.chars().count() <= limit {
-        text.to_string()
-    } else {
-        format!("{}…", text.chars().take(limit).collect::<String>())
+    match text.char_indices().nth(limit) {
+        Some((index, _)) => format!("{}…", printable(&text[..index])),
+        None => printable(text),
     }
 }
 
 /// The middle of a long range shortened to `…`.
 fn middle(text: &str, limit: usize) -> String {
-    let count = text.chars().count();
-    if count <= limit {
-        text.to_string()
-    } else {
-        let keep = limit / 2;
-        let start: String = text.chars().take(keep).collect();
-        let end: String = text.chars().skip(count - keep).collect();
-        format!("{start}…{end}")
+    if text.char_indices().nth(limit).is_none() {
+        return printable(text);
     }
+    let keep = limit / 2;
+    let start_end = text
+        .char_indices()
+        .nth(keep)
+        .map_or(text.len(), |(index, _)| index);
+    let end_start = text
+        .char_indices()
+        .rev()
+        .nth(keep.saturating_sub(1))
+        .map_or(0, |(index, _)| index)
+        .max(start_end);
+    format!(
+        "{}…{}",
+        printable(&text[..start_end]),
+        printable(&text[end_start..])
+    )
 }
 
 const CONTEXT_CHARS: usize = 48;
 const MARKED_CHARS: usize = 72;
 
 fn line_bounds(text: &str, offset: usize) -> (usize, usize) {
-    let start = text[..offset]
-        .rfind(['\n', '\r'])
-        .map_or(0, |index| index + 1);
-    let end = text[offset..]
-        .find(['\n', '\r'])
-        .map_or(text.len(), |index| offset + index);
+    let bytes = text.as_bytes();
+    let start = memchr::memrchr2(b'\n', b'\r', &bytes[..offset]).map_or(0, |index| index + 1);
+    let end =
+        memchr::memchr2(b'\n', b'\r', &bytes[offset..]).map_or(text.len(), |index| offset + index);
     (start, end)
 }
 
@@ -342,13 +347,10 @@ pub fn excerpt(
     let end = floor_boundary(text, range.end).max(start);
     let (first_start, first_end) = line_bounds(text, start);
     let (line, _) = line_and_column(text, start);
-    let before = tail(
-        printable(&text[first_start..start]).trim_start(),
-        CONTEXT_CHARS,
-    );
-    let marked = |piece: &str| palette.marked(severity, &middle(&printable(piece), MARKED_CHARS));
+    let before = tail(text[first_start..start].trim_start(), CONTEXT_CHARS);
+    let marked = |piece: &str| palette.marked(severity, &middle(piece, MARKED_CHARS));
     if end <= first_end {
-        let after = head(&printable(&text[end..first_end]), CONTEXT_CHARS);
+        let after = head(&text[end..first_end], CONTEXT_CHARS);
         return vec![(
             Some(line),
             format!(
@@ -366,8 +368,8 @@ pub fn excerpt(
     if last_line > line + 1 {
         lines.push((None, "⋮".to_string()));
     }
-    let last_piece = printable(&text[last_start..end]);
-    let after = head(&printable(&text[end..last_end]), CONTEXT_CHARS);
+    let last_piece = &text[last_start..end];
+    let after = head(&text[end..last_end], CONTEXT_CHARS);
     lines.push((
         Some(last_line),
         format!(
