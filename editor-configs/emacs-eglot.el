@@ -15,8 +15,23 @@
 (with-eval-after-load 'eglot
   ;; the language id sent in didOpen is derived from the mode name: "chartspec"
   (add-to-list 'eglot-server-programs '(chartspec-mode . ("markwell" "serve")))
-  ;; settings for the `markwell' section of workspace/configuration
-  (setq-default eglot-workspace-configuration
-                '(:markwell (:rules (:sparse-column "warning")))))
+  ;; settings for the `markwell' section of workspace/configuration, added to what is there:
+  ;; the sections of other servers stay as they are.  The value may be a plist
+  ;; (:SECTION VALUE ...), an alist ((SECTION . VALUE) ...) as older Eglot had it, or a function
+  ;; of the server returning either (newer Eglot).
+  (defun markwell-eglot--add-section (configuration)
+    "CONFIGURATION with the `markwell' section set; other sections kept."
+    (let ((section '(:rules (:sparse-column "warning"))))
+      (cond
+       ((and (consp configuration) (consp (car configuration)))   ; alist
+        (cons (cons :markwell section)
+              (assq-delete-all :markwell (copy-sequence configuration))))
+       (t (plist-put (copy-sequence configuration) :markwell section)))))
+  (let ((current (default-value 'eglot-workspace-configuration)))
+    (setq-default eglot-workspace-configuration
+                  (if (functionp current)
+                      (lambda (server)
+                        (markwell-eglot--add-section (funcall current server)))
+                    (markwell-eglot--add-section current)))))
 
 (add-hook 'chartspec-mode-hook #'eglot-ensure)

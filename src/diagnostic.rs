@@ -56,6 +56,10 @@ pub struct Fix {
     pub title: String,
     pub kind: FixKind,
     pub edits: Vec<TextEdit>,
+    /// The fix cannot change what the chart means (it only corrects a spelling to the one name
+    /// it must have meant), so `markwell check --fix` applies it without asking. Default: false.
+    /// The criterion is in DEVELOPERS.md ("Safe fixes").
+    pub safe: bool,
 }
 
 impl Fix {
@@ -64,7 +68,14 @@ impl Fix {
             title: title.into(),
             kind: FixKind::QuickFix,
             edits,
+            safe: false,
         }
+    }
+
+    /// Mark the fix as safe to apply unattended (see [`Fix::safe`]).
+    pub fn marked_safe(mut self) -> Fix {
+        self.safe = true;
+        self
     }
 
     /// Apply the edits to `text`; edits are applied from the last to the first.

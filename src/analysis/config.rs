@@ -54,7 +54,19 @@ pub fn parse_severity_setting(text: &str) -> Result<Option<Severity>, String> {
         return Ok(None);
     }
     Severity::parse(text).map(Some).ok_or_else(|| {
-        format!("`{text}` is not a severity; use `error`, `warning`, `info`, `hint` or `off`")
+        let words = ["error", "warning", "info", "hint", "off"];
+        // a shortened word (`warn`) or a near spelling (`eror`)
+        let shortened = words
+            .into_iter()
+            .find(|word| text.len() >= 2 && word.starts_with(text));
+        match shortened.or_else(|| crate::spec::suggest::closest_name(text, words)) {
+            Some(suggestion) => format!(
+                "`{text}` is not a severity; did you mean `{suggestion}`? (use `error`, `warning`, `info`, `hint` or `off`)"
+            ),
+            None => format!(
+                "`{text}` is not a severity; use `error`, `warning`, `info`, `hint` or `off`"
+            ),
+        }
     })
 }
 
@@ -65,8 +77,10 @@ pub struct ProjectConfig {
     pub allow_outside_workspace: bool,
 }
 
-/// Read `markwell.toml` text. Problems that still leave a usable configuration come back as
-/// warnings; a file that is not TOML at all is an error.
+/// Read `markwell.toml` text. Problems that still leave a usable configuration (a misspelt rule,
+/// severity or key) come back as a list, each with a suggestion where one is close; the CLI
+/// refuses to run with any of them, the language server logs them. A file that is not TOML at all
+/// is an error.
 pub fn parse_project_config(text: &str) -> Result<(ProjectConfig, Vec<String>), String> {
     let table: toml::Table = text
         .parse()
@@ -80,7 +94,7 @@ pub fn parse_project_config(text: &str) -> Result<(ProjectConfig, Vec<String>), 
                     config.analysis.ranking = Some(id.clone());
                 } else {
                     warnings.push(format!(
-                        "ranking `{id}` does not exist; using the default. Choose one of {}",
+                        "ranking `{id}` does not exist; choose one of {}",
                         crate::knowledge::rankings::ranking_ids().join(", ")
                     ));
                 }
@@ -115,11 +129,41 @@ pub fn parse_project_config(text: &str) -> Result<(ProjectConfig, Vec<String>), 
                         ("allow-outside-workspace", toml::Value::Boolean(allow)) => {
                             config.allow_outside_workspace = *allow
                         }
-                        _ => warnings.push(format!("data.{data_key}: unknown setting")),
+                        ("allow-outside-workspace", _) => warnings.push(
+                            "data.allow-outside-workspace: expected `true` or `false`".to_string(),
+                        ),
+                        _ => warnings.push(
+                            match crate::spec::suggest::closest_name(
+                                data_key,
+                                ["allow-outside-workspace"],
+                            ) {
+                                Some(suggestion) => format!(
+                                    "data.{data_key}: no such setting; did you mean `{suggestion}`?"
+                                ),
+                                None => format!(
+                                    "data.{data_key}: no such setting; `[data]` has only `allow-outside-workspace`"
+                                ),
+                            },
+                        ),
                     }
                 }
             }
-            _ => warnings.push(format!("`{key}`: unknown setting or wrong type")),
+            ("ranking", _) => {
+                warnings.push("`ranking`: expected a ranking id in quotes".to_string())
+            }
+            ("rules", _) | ("data", _) => {
+                warnings.push(format!("`{key}`: expected a table `[{key}]`"))
+            }
+            _ => warnings.push(
+                match crate::spec::suggest::closest_name(key, ["ranking", "rules", "data"]) {
+                    Some(suggestion) => {
+                        format!("`{key}`: no such setting; did you mean `{suggestion}`?")
+                    }
+                    None => format!(
+                        "`{key}`: no such setting; the file has `ranking`, `[rules]` and `[data]`"
+                    ),
+                },
+            ),
         }
     }
     Ok((config, warnings))

@@ -1,5 +1,6 @@
 //! `markwell check`: find spec files, load their data, analyse, print, choose the exit code.
 
+use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 
 use crate::analysis::config::{
@@ -9,8 +10,10 @@ use crate::analysis::{analyze, parse_document};
 use crate::data::{ProfileCache, ResolveOptions};
 use crate::diagnostic::{Diagnostic, Severity};
 
-use super::render::{render_human, render_json, CheckedFile};
-use super::{DenyLevel, OutputFormat, EXIT_CLEAN, EXIT_FINDINGS, EXIT_TROUBLE};
+use super::fix::FixPlan;
+use super::render::{render_json, CheckedFile, RunError};
+use super::report::{outline, write_report, Palette, SpecOutline};
+use super::{FailOn, OutputFormat, EXIT_CLEAN, EXIT_FINDINGS, EXIT_TROUBLE};
 
 /// Spec files larger than this are refused with a clear error rather than read: real specs are
 /// kilobytes, and analysis holds several copies of the text (tree, model, schema instance).
@@ -24,11 +27,17 @@ pub struct CheckArgs {
     /// Spec files, or folders searched (recursively) for `*.chart.json`. Default: `.`.
     pub paths: Vec<PathBuf>,
     /// Output format.
-    #[arg(long, value_enum, default_value_t = OutputFormat::Human)]
+    #[arg(long, value_enum, default_value_t = OutputFormat::Report)]
     pub format: OutputFormat,
-    /// `--deny warnings`: warnings fail the run too.
-    #[arg(long, value_enum)]
-    pub deny: Option<DenyLevel>,
+    /// The lowest severity that fails the run (exit 1).
+    #[arg(long, value_enum, value_name = "SEVERITY", default_value_t = FailOn::Error)]
+    pub fail_on: FailOn,
+    /// Apply the safe fixes (those marked `--fix:` in the report), show what changed, check again.
+    #[arg(long)]
+    pub fix: bool,
+    /// With `--fix`: show what would change, write nothing.
+    #[arg(long, requires = "fix")]
+    pub preview: bool,
     /// Override a rule's severity: `RULE=error|warning|info|hint|off` (repeatable).
     #[arg(long = "severity", value_name = "RULE=LEVEL")]
     pub severities: Vec<String>,
@@ -47,17 +56,98 @@ pub struct CheckArgs {
     pub config: Option<PathBuf>,
 }
 
-pub fn run(args: &CheckArgs) -> u8 {
-    let mut trouble = false;
+/// Extensions of data files (given to `check` by mistake).
+const DATA_EXTENSIONS: &[&str] = &["csv", "tsv", "tab", "ndjson", "jsonl"];
+
+/// Whether `path` names a data file rather than a spec: by its extension, or for `.json` files
+/// that are not `*.chart.json`, by text that is a JSON array.
+fn is_data_file(path: &Path, text: Option<&str>) -> bool {
+    let name = path.to_string_lossy().to_lowercase();
+    if name.ends_with(SPEC_SUFFIX) {
+        return false;
+    }
+    let extension = path
+        .extension()
+        .map(|extension| extension.to_string_lossy().to_lowercase())
+        .unwrap_or_default();
+    if DATA_EXTENSIONS.contains(&extension.as_str()) {
+        return true;
+    }
+    extension == "json"
+        && text.is_some_and(|text| {
+            text.trim_start_matches('\u{feff}')
+                .trim_start()
+                .starts_with('[')
+        })
+}
+
+fn data_file_message(path: &Path) -> String {
+    format!(
+        "is a data file, not a chart spec; `markwell profile {}` describes it",
+        path.display()
+    )
+}
+
+struct Checker<'a> {
+    args: &'a CheckArgs,
+    command_line_config: crate::analysis::AnalysisConfig,
+    cache: ProfileCache,
+}
+
+impl Checker<'_> {
+    /// Analyse one spec text: (diagnostics, outline).
+    fn analyse(
+        &self,
+        path: &Path,
+        text: &str,
+        encoding_diagnostics: Vec<Diagnostic>,
+    ) -> Result<(Vec<Diagnostic>, SpecOutline), Vec<RunError>> {
+        let workspace_root = self
+            .args
+            .workspace
+            .clone()
+            .unwrap_or_else(|| find_workspace_root(path));
+        let project = load_project_config(self.args.config.as_deref(), &workspace_root)?;
+        let mut config = project.analysis.clone();
+        config.merge(&self.command_line_config);
+        let document = parse_document(text);
+        let spec_dir = path
+            .parent()
+            .map(Path::to_path_buf)
+            .unwrap_or_else(|| PathBuf::from("."));
+        let options = ResolveOptions {
+            spec_dir,
+            workspace_root: Some(workspace_root),
+            allow_outside_workspace: self.args.allow_outside_workspace
+                || project.allow_outside_workspace,
+        };
+        let data = self.cache.load_for_spec(&document.spec, &options);
+        let mut diagnostics = encoding_diagnostics;
+        diagnostics.extend(analyze(&document, &data, &config));
+        Ok((diagnostics, outline(&document.spec, &data)))
+    }
+}
+
+pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Result<u8> {
     let mut command_line_config = crate::analysis::AnalysisConfig::default();
     for setting in &args.severities {
         let Some((rule, level)) = setting.split_once('=') else {
-            eprintln!("markwell: `--severity {setting}`: expected RULE=LEVEL");
-            return EXIT_TROUBLE;
+            writeln!(err, "markwell: `--severity {setting}`: expected RULE=LEVEL")?;
+            return Ok(EXIT_TROUBLE);
         };
         if crate::analysis::rules::rule_by_id(rule).is_none() {
-            eprintln!("markwell: `--severity {setting}`: no rule `{rule}`");
-            return EXIT_TROUBLE;
+            let ids = crate::analysis::rules::registry().iter().map(|r| r.id);
+            match crate::spec::suggest::closest_name(rule, ids) {
+                Some(suggestion) => writeln!(
+                    err,
+                    "markwell: `--severity {setting}`: there is no rule `{rule}`; did you mean `{suggestion}`?"
+                )?,
+                None => writeln!(
+                    err,
+                    "markwell: `--severity {setting}`: there is no rule `{rule}`; `markwell rules` lists them"
+                )?,
+            }
+            return Ok(EXIT_TROUBLE);
         }
         match parse_severity_setting(level) {
             Ok(severity) => {
@@ -66,97 +156,216 @@ pub fn run(args: &CheckArgs) -> u8 {
                     .insert(rule.to_string(), severity);
             }
             Err(message) => {
-                eprintln!("markwell: `--severity {setting}`: {message}");
-                return EXIT_TROUBLE;
+                writeln!(err, "markwell: `--severity {setting}`: {message}")?;
+                return Ok(EXIT_TROUBLE);
             }
         }
     }
     if let Some(ranking) = &args.ranking {
         if crate::knowledge::rankings::ranking_by_id(ranking).is_none() {
-            eprintln!(
+            writeln!(
+                err,
                 "markwell: `--ranking {ranking}`: no such ranking; choose one of {}",
                 crate::knowledge::rankings::ranking_ids().join(", ")
-            );
-            return EXIT_TROUBLE;
+            )?;
+            return Ok(EXIT_TROUBLE);
         }
     }
     command_line_config.ranking = args.ranking.clone();
 
+    let mut errors: Vec<RunError> = Vec::new();
     let mut files = Vec::new();
-    for path in super::paths_or_current(&args.paths) {
-        match collect_spec_files(&path, &mut files) {
-            Ok(()) => {}
+    let paths = super::paths_or_current(&args.paths);
+    for path in &paths {
+        let before = files.len();
+        match collect_spec_files(path, &mut files) {
+            Ok(()) => {
+                if files.len() == before && path.is_dir() {
+                    errors.push(RunError {
+                        path: path.display().to_string(),
+                        message: format!(
+                            "no chart specs (`*{SPEC_SUFFIX}`) in this folder or below it"
+                        ),
+                    });
+                }
+            }
             Err(message) => {
-                eprintln!("markwell: {message}");
-                trouble = true;
+                let shown = path.display().to_string();
+                // the message may start with the path already
+                let message = message
+                    .strip_prefix(&format!("{shown}: "))
+                    .map_or(message.clone(), str::to_string);
+                errors.push(RunError {
+                    path: shown,
+                    message,
+                })
             }
         }
     }
 
-    let cache = ProfileCache::new();
+    let checker = Checker {
+        args,
+        command_line_config,
+        cache: ProfileCache::new(),
+    };
+    let palette = Palette::for_stdout();
     let mut checked = Vec::new();
+    let mut previews: Vec<u8> = Vec::new();
+    // an invalid `markwell.toml` stops the run: no report on defaults
+    let mut config_problems: Vec<RunError> = Vec::new();
     for path in files {
+        if is_data_file(&path, None) {
+            errors.push(RunError {
+                path: path.display().to_string(),
+                message: data_file_message(&path),
+            });
+            continue;
+        }
         let text = match read_spec_text(&path) {
             Ok(text) => text,
             Err(message) => {
-                eprintln!("markwell: {}: {message}", path.display());
-                trouble = true;
+                errors.push(RunError {
+                    path: path.display().to_string(),
+                    message,
+                });
                 continue;
             }
         };
-        let workspace_root = args
-            .workspace
-            .clone()
-            .unwrap_or_else(|| find_workspace_root(&path));
-        let project = match load_project_config(args.config.as_deref(), &workspace_root) {
-            Ok(project) => project,
-            Err(message) => {
-                eprintln!("markwell: {message}");
-                return EXIT_TROUBLE;
+        if is_data_file(&path, Some(&text.text)) {
+            errors.push(RunError {
+                path: path.display().to_string(),
+                message: data_file_message(&path),
+            });
+            continue;
+        }
+        let (mut diagnostics, mut spec_outline) =
+            match checker.analyse(&path, &text.text, text.encoding_diagnostics) {
+                Ok(result) => result,
+                Err(problems) => {
+                    config_problems = problems;
+                    break;
+                }
+            };
+        let mut spec_text = text.text;
+        if args.fix {
+            let shown = path.display().to_string();
+            match super::fix::plan(&spec_text, &diagnostics) {
+                FixPlan::Nothing => {}
+                FixPlan::SyntaxErrors => writeln!(
+                    previews,
+                    "{} has syntax errors: --fix leaves it as it is\n",
+                    super::report::printable(&shown)
+                )?,
+                FixPlan::Change {
+                    new_text,
+                    edits,
+                    titles,
+                } => {
+                    let written = if args.preview {
+                        false
+                    } else {
+                        match std::fs::write(&path, &new_text) {
+                            Ok(()) => true,
+                            Err(error) => {
+                                errors.push(RunError {
+                                    path: shown.clone(),
+                                    message: format!("--fix could not write it: {error}"),
+                                });
+                                false
+                            }
+                        }
+                    };
+                    super::fix::write_preview(
+                        &mut previews,
+                        &shown,
+                        &spec_text,
+                        &edits,
+                        &titles,
+                        written,
+                    )?;
+                    if written {
+                        // check again what was written
+                        (diagnostics, spec_outline) =
+                            match checker.analyse(&path, &new_text, Vec::new()) {
+                                Ok(result) => result,
+                                Err(problems) => {
+                                    config_problems = problems;
+                                    break;
+                                }
+                            };
+                        spec_text = new_text;
+                    }
+                }
             }
-        };
-        let mut config = project.analysis.clone();
-        config.merge(&command_line_config);
-        let document = parse_document(&text.text);
-        let spec_dir = path
-            .parent()
-            .map(Path::to_path_buf)
-            .unwrap_or_else(|| PathBuf::from("."));
-        let options = ResolveOptions {
-            spec_dir,
-            workspace_root: Some(workspace_root),
-            allow_outside_workspace: args.allow_outside_workspace
-                || project.allow_outside_workspace,
-        };
-        let data = cache.load_for_spec(&document.spec, &options);
-        let mut diagnostics = text.encoding_diagnostics;
-        diagnostics.extend(analyze(&document, &data, &config));
+        }
         checked.push(CheckedFile {
             path,
-            text: text.text,
+            text: spec_text,
             diagnostics,
+            outline: spec_outline,
         });
     }
 
-    match args.format {
-        OutputFormat::Human => print!("{}", render_human(&checked)),
-        OutputFormat::Json => println!("{}", render_json(&checked)),
-        OutputFormat::Sarif => println!("{}", super::sarif::render_sarif(&checked)),
+    if !config_problems.is_empty() {
+        if args.format == OutputFormat::Report {
+            for problem in &config_problems {
+                writeln!(
+                    err,
+                    "markwell: {}: {}",
+                    super::report::printable(&problem.path),
+                    super::report::printable(&problem.message)
+                )?;
+            }
+            return Ok(EXIT_TROUBLE);
+        }
+        checked.clear();
+        errors.extend(config_problems);
     }
 
-    let fails = |diagnostic: &Diagnostic| {
-        diagnostic.severity == Severity::Error
-            || (args.deny == Some(DenyLevel::Warnings) && diagnostic.severity == Severity::Warning)
-    };
-    if trouble {
-        EXIT_TROUBLE
+    let fail_on = args.fail_on.severity();
+    match args.format {
+        OutputFormat::Report => {
+            for error in &errors {
+                writeln!(
+                    err,
+                    "markwell: {}: {}",
+                    super::report::printable(&error.path),
+                    super::report::printable(&error.message)
+                )?;
+            }
+            out.write_all(&previews)?;
+            if !checked.is_empty() {
+                write_report(out, &checked, fail_on, &palette)?;
+            }
+        }
+        OutputFormat::Json | OutputFormat::Sarif => {
+            for error in &errors {
+                writeln!(
+                    err,
+                    "markwell: {}: {}",
+                    super::report::printable(&error.path),
+                    super::report::printable(&error.message)
+                )?;
+            }
+            err.write_all(&previews)?;
+            if args.format == OutputFormat::Json {
+                writeln!(out, "{}", render_json(&checked, &errors))?;
+            } else {
+                writeln!(out, "{}", super::sarif::render_sarif(&checked))?;
+            }
+        }
+    }
+
+    let fails = |diagnostic: &Diagnostic| diagnostic.severity <= fail_on;
+    if !errors.is_empty() || checked.is_empty() {
+        Ok(EXIT_TROUBLE)
     } else if checked
         .iter()
         .any(|file| file.diagnostics.iter().any(fails))
     {
-        EXIT_FINDINGS
+        Ok(EXIT_FINDINGS)
     } else {
-        EXIT_CLEAN
+        Ok(EXIT_CLEAN)
     }
 }
 
@@ -278,22 +487,29 @@ pub fn find_workspace_root(spec_path: &Path) -> PathBuf {
 fn load_project_config(
     explicit: Option<&Path>,
     workspace_root: &Path,
-) -> Result<ProjectConfig, String> {
+) -> Result<ProjectConfig, Vec<RunError>> {
     let (path, required) = match explicit {
         Some(path) => (path.to_path_buf(), true),
         None => (workspace_root.join(CONFIG_FILE_NAME), false),
+    };
+    let problem = |message: String| RunError {
+        path: path.display().to_string(),
+        message,
     };
     let text = match std::fs::read_to_string(&path) {
         Ok(text) => text,
         Err(error) if !required && error.kind() == std::io::ErrorKind::NotFound => {
             return Ok(ProjectConfig::default())
         }
-        Err(error) => return Err(format!("{}: {}", path.display(), describe_io_error(&error))),
+        Err(error) => return Err(vec![problem(describe_io_error(&error))]),
     };
     let (config, warnings) =
-        parse_project_config(&text).map_err(|message| format!("{}: {message}", path.display()))?;
-    for warning in warnings {
-        eprintln!("markwell: {}: {warning}", path.display());
+        parse_project_config(&text).map_err(|message| vec![problem(message)])?;
+    if !warnings.is_empty() {
+        // a misspelt rule, severity or key is not silently replaced by the defaults
+        let mut problems: Vec<RunError> = warnings.into_iter().map(problem).collect();
+        problems.push(problem("fix the configuration and run again".to_string()));
+        return Err(problems);
     }
     Ok(config)
 }

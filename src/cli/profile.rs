@@ -62,7 +62,33 @@ pub struct ProfileArgs {
 /// Files at least this big show progress on a terminal.
 const PROGRESS_MINIMUM_BYTES: u64 = 64 << 20;
 
-pub fn run(args: &ProfileArgs) -> u8 {
+/// Whether `path` holds a chart spec rather than data: named `*.chart.json`, or a JSON object
+/// (data in JSON is an array of objects) with a key only specs have.
+fn is_chart_spec(path: &std::path::Path) -> bool {
+    let name = path.to_string_lossy().to_lowercase();
+    if name.ends_with(super::check::SPEC_SUFFIX) {
+        return true;
+    }
+    if !name.ends_with(".json") {
+        return false;
+    }
+    let mut head = Vec::new();
+    let read = std::fs::File::open(path).and_then(|file| {
+        std::io::Read::read_to_end(&mut std::io::Read::take(file, 64 * 1024), &mut head)
+    });
+    if read.is_err() {
+        return false;
+    }
+    let text = String::from_utf8_lossy(&head);
+    text.trim_start_matches('\u{feff}')
+        .trim_start()
+        .starts_with('{')
+        && ["\"mark\"", "\"layers\"", "\"bind\""]
+            .iter()
+            .any(|key| text.contains(key))
+}
+
+pub fn run(args: &ProfileArgs, out: &mut dyn Write, err: &mut dyn Write) -> std::io::Result<u8> {
     let cache = ProfileCache::new();
     let read = ReadOptions {
         format: args.data_format.map(DataFormatArgument::format),
@@ -78,10 +104,18 @@ pub fn run(args: &ProfileArgs) -> u8 {
     let mut printed_any = false;
     for file in &args.files {
         let shown = file.display().to_string();
+        if is_chart_spec(file) {
+            writeln!(
+                err,
+                "markwell: {shown}: is a chart spec, not a data file; `markwell check {shown}` checks it"
+            )?;
+            trouble = true;
+            continue;
+        }
         let path = match resolve_source_path(&file.to_string_lossy(), &options) {
             Ok(path) => path,
             Err(error) => {
-                eprintln!("markwell: {shown}: {error}");
+                writeln!(err, "markwell: {shown}: {error}")?;
                 trouble = true;
                 continue;
             }
@@ -112,17 +146,12 @@ pub fn run(args: &ProfileArgs) -> u8 {
                 ProfileOutput::Text => {
                     let separator = if printed_any { "\n" } else { "" };
                     printed_any = true;
-                    // a closed pipe (`markwell profile x.csv | head`) is not an error
-                    let _ = write!(
-                        std::io::stdout().lock(),
-                        "{separator}{}",
-                        render_profile_text(&profile)
-                    );
+                    write!(out, "{separator}{}", render_profile_text(&profile))?;
                 }
                 ProfileOutput::Json => json_profiles.push(render_profile_json(&profile)),
             },
             Err(error) => {
-                eprintln!("markwell: {shown}: {error}");
+                writeln!(err, "markwell: {shown}: {error}")?;
                 trouble = true;
             }
         }
@@ -135,17 +164,13 @@ pub fn run(args: &ProfileArgs) -> u8 {
         };
         match serde_json::to_string_pretty(&value) {
             Ok(text) => {
-                let _ = writeln!(std::io::stdout().lock(), "{text}");
+                writeln!(out, "{text}")?;
             }
             Err(error) => {
-                eprintln!("markwell: could not write JSON: {error}");
+                writeln!(err, "markwell: could not write JSON: {error}")?;
                 trouble = true;
             }
         }
     }
-    if trouble {
-        EXIT_TROUBLE
-    } else {
-        EXIT_CLEAN
-    }
+    Ok(if trouble { EXIT_TROUBLE } else { EXIT_CLEAN })
 }

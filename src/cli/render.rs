@@ -1,37 +1,32 @@
-//! How `markwell check` prints findings: readable text with source snippets (honouring
-//! `NO_COLOR`), or JSON with line/column positions, byte ranges and fixes.
+//! What `markwell check` found, and its JSON form (`--format json`) with line/column positions,
+//! byte ranges and fixes. The terminal report is in `report`, SARIF in `sarif`.
 
-use std::io::IsTerminal;
 use std::path::PathBuf;
 
-use annotate_snippets::{AnnotationKind, Group, Level, Renderer, Snippet};
 use serde_json::{json, Value};
 
 use crate::diagnostic::{Diagnostic, FixKind, RelatedTarget, Severity};
+
+use super::report::SpecOutline;
 
 /// One checked spec and its findings.
 pub struct CheckedFile {
     pub path: PathBuf,
     pub text: String,
     pub diagnostics: Vec<Diagnostic>,
+    /// What the spec draws and which parts of the text concern what (for the report).
+    pub outline: SpecOutline,
 }
 
-fn use_colour() -> bool {
-    std::env::var_os("NO_COLOR").is_none_or(|value| value.is_empty())
-        && std::io::stdout().is_terminal()
-}
-
-fn level_for(severity: Severity) -> Level<'static> {
-    match severity {
-        Severity::Error => Level::ERROR,
-        Severity::Warning => Level::WARNING,
-        Severity::Info => Level::INFO,
-        Severity::Hint => Level::NOTE,
-    }
+/// A path or file that could not be checked (it does not exist, cannot be read, is not a spec).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct RunError {
+    pub path: String,
+    pub message: String,
 }
 
 /// A data file's path as the user would type it: relative to the current folder when inside it.
-fn shown_path(path: &std::path::Path) -> std::path::PathBuf {
+pub fn shown_path(path: &std::path::Path) -> std::path::PathBuf {
     std::env::current_dir()
         .ok()
         .and_then(|current| std::fs::canonicalize(current).ok())
@@ -57,94 +52,13 @@ fn floor_char_boundary(text: &str, mut offset: usize) -> usize {
     offset
 }
 
-/// The readable report: one block per finding, then a summary line.
-pub fn render_human(files: &[CheckedFile]) -> String {
-    let renderer = if use_colour() {
-        Renderer::styled()
-    } else {
-        Renderer::plain()
-    };
-    let mut out = String::new();
-    for file in files {
-        let path = file.path.display().to_string();
-        for diagnostic in &file.diagnostics {
-            let start =
-                floor_char_boundary(&file.text, diagnostic.range.start.min(file.text.len()));
-            let end = floor_char_boundary(&file.text, diagnostic.range.end.min(file.text.len()))
-                .max(start);
-            let mut groups = vec![level_for(diagnostic.severity)
-                .primary_title(diagnostic.message.as_str())
-                .id(diagnostic.rule)
-                .element(
-                    Snippet::source(file.text.as_str())
-                        .path(path.as_str())
-                        .fold(true)
-                        .annotation(AnnotationKind::Primary.span(start..end)),
-                )];
-            for related in &diagnostic.related {
-                let place = match &related.target {
-                    RelatedTarget::SameDocument(range) => {
-                        let (line, column) = line_and_column(&file.text, range.start);
-                        format!("{path}:{line}:{column}")
-                    }
-                    RelatedTarget::File {
-                        path: data_path,
-                        line,
-                        ..
-                    } => format!("{}:{}", shown_path(data_path).display(), line + 1),
-                };
-                groups.push(Group::with_title(
-                    Level::NOTE.secondary_title(format!("{}: {}", place, related.message)),
-                ));
-            }
-            for fix in &diagnostic.fixes {
-                let name = match fix.kind {
-                    FixKind::QuickFix => "fix",
-                    FixKind::Refactor => "refactor",
-                };
-                groups.push(Group::with_title(
-                    Level::HELP
-                        .with_name(Some(name))
-                        .secondary_title(fix.title.as_str()),
-                ));
-            }
-            out.push_str(&renderer.render(&groups));
-            out.push_str("\n\n");
-        }
-    }
-    out.push_str(&summary_line(files));
-    out.push('\n');
-    out
-}
-
-fn count(files: &[CheckedFile], severity: Severity) -> usize {
+/// How many findings of `severity` the files have.
+pub fn count(files: &[CheckedFile], severity: Severity) -> usize {
     files
         .iter()
         .flat_map(|file| &file.diagnostics)
         .filter(|diagnostic| diagnostic.severity == severity)
         .count()
-}
-
-fn plural(count: usize, one: &str, many: &str) -> String {
-    format!("{count} {}", if count == 1 { one } else { many })
-}
-
-fn summary_line(files: &[CheckedFile]) -> String {
-    let errors = count(files, Severity::Error);
-    let warnings = count(files, Severity::Warning);
-    let notes = count(files, Severity::Info) + count(files, Severity::Hint);
-    let clean = files
-        .iter()
-        .filter(|file| file.diagnostics.is_empty())
-        .count();
-    format!(
-        "markwell: {} checked ({} clean): {}, {}, {}",
-        plural(files.len(), "spec", "specs"),
-        clean,
-        plural(errors, "error", "errors"),
-        plural(warnings, "warning", "warnings"),
-        plural(notes, "note", "notes"),
-    )
 }
 
 fn position_json(text: &str, offset: usize) -> Value {
@@ -153,52 +67,68 @@ fn position_json(text: &str, offset: usize) -> Value {
 }
 
 /// The JSON report (`--format json`).
-pub fn render_json(files: &[CheckedFile]) -> String {
+pub fn render_json(files: &[CheckedFile], errors: &[RunError]) -> String {
     let files_json: Vec<Value> = files
         .iter()
         .map(|file| {
+            let path = file.path.display().to_string();
             let diagnostics: Vec<Value> = file
                 .diagnostics
                 .iter()
-                .map(|diagnostic| diagnostic_json(&file.text, diagnostic))
+                .map(|diagnostic| diagnostic_json(&path, &file.text, diagnostic))
                 .collect();
-            json!({ "path": file.path.display().to_string(), "diagnostics": diagnostics })
+            json!({ "path": path, "diagnostics": diagnostics })
         })
+        .collect();
+    let errors_json: Vec<Value> = errors
+        .iter()
+        .map(|error| json!({ "path": error.path, "message": error.message }))
         .collect();
     let report = json!({
         "tool": "markwell",
         "version": env!("CARGO_PKG_VERSION"),
         "files": files_json,
+        "errors": errors_json,
         "summary": {
             "specs": files.len(),
-            "errors": count(files, Severity::Error),
-            "warnings": count(files, Severity::Warning),
-            "notes": count(files, Severity::Info) + count(files, Severity::Hint),
+            "clean": files.iter().filter(|file| file.diagnostics.is_empty()).count(),
+            "error": count(files, Severity::Error),
+            "warning": count(files, Severity::Warning),
+            "info": count(files, Severity::Info),
+            "hint": count(files, Severity::Hint),
+            "unreadable": errors.len(),
         }
     });
     serde_json::to_string_pretty(&report).unwrap_or_else(|_| "{}".to_string())
 }
 
-pub fn diagnostic_json(text: &str, diagnostic: &Diagnostic) -> Value {
+/// One finding as JSON. Related locations have one shape wherever they point: `path`, `start`
+/// and `end` (line, column, byte offset) and `message`; in a data file the place is the start of
+/// the line (column 1, the byte offset of the line start), so `start` and `end` are equal.
+pub fn diagnostic_json(path: &str, text: &str, diagnostic: &Diagnostic) -> Value {
     let related: Vec<Value> = diagnostic
         .related
         .iter()
         .map(|related| match &related.target {
             RelatedTarget::SameDocument(range) => json!({
-                "message": related.message,
+                "path": path,
                 "start": position_json(text, range.start),
                 "end": position_json(text, range.end),
+                "message": related.message,
             }),
             RelatedTarget::File {
-                path,
+                path: data_path,
                 line,
                 byte_offset,
-            } => json!({
-                "message": related.message,
-                "file": path.display().to_string(),
-                "line": line + 1,
-                "offset": byte_offset,
-            }),
+            } => {
+                let place = json!({ "line": line + 1, "column": 1, "offset": byte_offset });
+                json!({
+                    "path": data_path.display().to_string(),
+                    "start": place,
+                    "end": place,
+                    "message": related.message,
+                })
+            }
         })
         .collect();
     let fixes: Vec<Value> = diagnostic
@@ -219,6 +149,7 @@ pub fn diagnostic_json(text: &str, diagnostic: &Diagnostic) -> Value {
             json!({
                 "title": fix.title,
                 "kind": match fix.kind { FixKind::QuickFix => "quickfix", FixKind::Refactor => "refactor" },
+                "safe": fix.safe,
                 "edits": edits,
             })
         })

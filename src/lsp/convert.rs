@@ -312,6 +312,7 @@ mod tests {
             .with_fix(Fix {
                 title: "swap x and y".to_string(),
                 kind: FixKind::Refactor,
+                safe: false,
                 edits: vec![
                     TextEdit {
                         range: x,

@@ -269,7 +269,14 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                                 }
                             }
                         }
-                        diagnostic.fixes.push(Fix::quick(title, edits));
+                        // a near spelling is safe for `--fix`; a word from elsewhere may
+                        // not mean the same here, so it waits for a person
+                        let fix = Fix::quick(title, edits);
+                        diagnostic.fixes.push(if synonym.is_none() {
+                            fix.marked_safe()
+                        } else {
+                            fix
+                        });
                     }
                     diagnostics.push(diagnostic);
                 }
@@ -318,13 +325,18 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                     } else {
                         format!("{shown} is not allowed {place}; did you mean `{suggestion}`?")
                     };
-                    diagnostic.fixes.push(Fix::quick(
+                    let fix = Fix::quick(
                         format!("change to `{suggestion}`"),
                         vec![TextEdit {
                             range: node.range(),
                             new_text: json_string(suggestion),
                         }],
-                    ));
+                    );
+                    diagnostic.fixes.push(if synonym.is_none() {
+                        fix.marked_safe()
+                    } else {
+                        fix
+                    });
                 }
                 diagnostics.push(diagnostic);
             }

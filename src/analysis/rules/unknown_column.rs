@@ -93,7 +93,7 @@ fn check_name(name: &Spanned<String>, profiles: &[&DataProfile], out: &mut Vec<D
     match closest_name(&name.value, candidates.iter().copied()) {
         Some(suggestion) => {
             diagnostic.message = format!("{}; did you mean `{suggestion}`?", diagnostic.message);
-            diagnostic.fixes.push(Fix::quick(
+            let fix = Fix::quick(
                 format!(
                     "use column `{suggestion}`: `{}`->`{suggestion}`",
                     name.value
@@ -102,7 +102,12 @@ fn check_name(name: &Spanned<String>, profiles: &[&DataProfile], out: &mut Vec<D
                     range: name.range,
                     new_text: json_string(suggestion),
                 }],
-            ));
+            );
+            // safe only when no other column is as close (see DEVELOPERS.md, "Safe fixes")
+            let unique = is_unique_closest(&name.value, suggestion, &candidates);
+            diagnostic
+                .fixes
+                .push(if unique { fix.marked_safe() } else { fix });
         }
         None => {
             let listed: Vec<String> = candidates
@@ -119,4 +124,16 @@ fn check_name(name: &Spanned<String>, profiles: &[&DataProfile], out: &mut Vec<D
         }
     }
     out.push(diagnostic);
+}
+
+/// Whether `suggestion` is strictly closer to `typed` (case-insensitive edit distance) than every
+/// other candidate.
+fn is_unique_closest(typed: &str, suggestion: &str, candidates: &[&str]) -> bool {
+    let distance =
+        |candidate: &str| strsim::osa_distance(&typed.to_lowercase(), &candidate.to_lowercase());
+    let best = distance(suggestion);
+    candidates
+        .iter()
+        .filter(|candidate| **candidate != suggestion && **candidate != typed)
+        .all(|candidate| distance(candidate) > best)
 }
