@@ -3,4 +3,5 @@
 //! palettes computed by the colour science of `knowledge::colour` (`palette`), and text
 //! measurement with the bundled font (`text`).
 
+pub mod scale;
 pub mod ticks;
