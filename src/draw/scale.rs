@@ -479,7 +479,7 @@ mod properties {
             let scale = ContinuousScale::new(transform, (low, high), range).unwrap();
             let value = low + t * width;
             let pixel = scale.map(value).unwrap();
-            prop_assert!(pixel >= 20.0 - 1e-6 && pixel <= 480.0 + 1e-6);
+            prop_assert!((20.0 - 1e-6..=480.0 + 1e-6).contains(&pixel));
             let back = scale.invert(pixel).unwrap();
             prop_assert!((back - value).abs() <= 1e-7 * value.abs().max(1.0), "{value} -> {pixel} -> {back}");
             let nice = scale.nice(5);
