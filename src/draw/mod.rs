@@ -3,5 +3,6 @@
 //! palettes computed by the colour science of `knowledge::colour` (`palette`), and text
 //! measurement with the bundled font (`text`).
 
+pub mod palette;
 pub mod scale;
 pub mod ticks;
