@@ -5,4 +5,5 @@
 
 pub mod palette;
 pub mod scale;
+pub mod text;
 pub mod ticks;
