@@ -218,6 +218,7 @@ pub fn refactors_at(
         fixes.push(Fix {
             title: format!("{intent} under {}: {changes}", ranking.citation.short),
             kind: FixKind::Refactor,
+            safe: false,
             edits,
         });
         None

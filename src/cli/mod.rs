@@ -121,7 +121,10 @@ where
         Command::Profile(args) => profile::run(&args, out, err)?,
         Command::Rules => list_rules(out)?,
         Command::Explain { id } => explain(&id, out, err)?,
-        Command::Sources => out.write_all(crate::knowledge::SOURCES_PAGE.as_bytes())?,
+        Command::Sources => {
+            out.write_all(crate::knowledge::SOURCES_PAGE.as_bytes())?;
+            EXIT_CLEAN
+        }
         Command::Serve => {
             out.flush()?;
             return Ok(crate::lsp::run_stdio());

@@ -153,7 +153,7 @@ pub fn outline(spec: &ChartSpec, data: &DataContext) -> SpecOutline {
         if let Some(source) = &layer.source {
             outline.regions.push((source.range, Concern::Data));
         }
-        if let Some(colour) = &layer.style.color {
+        if let Some(colour) = &layer.style.colour {
             outline.regions.push((colour.range, Concern::Colours));
         }
         outline.layers.push(LayerOutline {
