@@ -8,6 +8,7 @@ pub mod analysis;
 pub mod cli;
 pub mod data;
 pub mod diagnostic;
+pub mod fsguard;
 pub mod knowledge;
 pub mod lsp;
 pub mod positions;

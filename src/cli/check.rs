@@ -83,7 +83,9 @@ pub fn run(args: &CheckArgs) -> u8 {
     command_line_config.ranking = args.ranking.clone();
 
     let mut files = Vec::new();
+    let mut ceilings = Vec::new();
     for path in super::paths_or_current(&args.paths) {
+        let before = files.len();
         match collect_spec_files(&path, &mut files) {
             Ok(()) => {}
             Err(message) => {
@@ -91,12 +93,23 @@ pub fn run(args: &CheckArgs) -> u8 {
                 trouble = true;
             }
         }
+        // the workspace root is looked for no higher than this (see `fsguard::discover_root`)
+        let given = if path.is_dir() {
+            path.clone()
+        } else {
+            path.parent().map(Path::to_path_buf).unwrap_or_default()
+        };
+        ceilings.extend(std::iter::repeat_n(given, files.len() - before));
     }
 
     let cache = ProfileCache::new();
     let mut checked = Vec::new();
-    for path in files {
-        let text = match read_spec_text(&path) {
+    for (path, given) in files.into_iter().zip(ceilings) {
+        let workspace_root = args
+            .workspace
+            .clone()
+            .unwrap_or_else(|| find_workspace_root(&path, &given));
+        let text = match read_spec_text_within(&path, &workspace_root) {
             Ok(text) => text,
             Err(message) => {
                 eprintln!("markwell: {}: {message}", path.display());
@@ -104,10 +117,6 @@ pub fn run(args: &CheckArgs) -> u8 {
                 continue;
             }
         };
-        let workspace_root = args
-            .workspace
-            .clone()
-            .unwrap_or_else(|| find_workspace_root(&path));
         let project = match load_project_config(args.config.as_deref(), &workspace_root) {
             Ok(project) => project,
             Err(message) => {
@@ -167,19 +176,43 @@ pub struct SpecText {
 }
 
 pub fn read_spec_text(path: &Path) -> Result<SpecText, String> {
-    let metadata = std::fs::metadata(path).map_err(|error| describe_io_error(&error))?;
-    if metadata.is_dir() {
-        return Err("is a folder, not a spec file".to_string());
-    }
-    if metadata.len() > MAX_SPEC_BYTES {
-        return Err(format!(
-            "is {} MiB; specs larger than {} MiB are not read",
-            metadata.len() / (1024 * 1024),
-            MAX_SPEC_BYTES / (1024 * 1024)
-        ));
-    }
-    let bytes = std::fs::read(path).map_err(|error| describe_io_error(&error))?;
+    let bytes = crate::fsguard::read_bounded(path, MAX_SPEC_BYTES)
+        .map_err(|refusal| describe_spec_refusal(&refusal))?;
     Ok(spec_text_from_bytes(bytes))
+}
+
+/// Like [`read_spec_text`], but only for a regular file inside `root` (a spec found in a folder
+/// that is a symlink out of the workspace is refused and never read).
+pub fn read_spec_text_within(path: &Path, root: &Path) -> Result<SpecText, String> {
+    let containment = crate::fsguard::Containment::new(root, false);
+    let canonical = containment
+        .resolve(path)
+        .map_err(|refusal| describe_spec_refusal(&refusal))?;
+    read_spec_text(&canonical)
+}
+
+fn describe_spec_refusal(refusal: &crate::fsguard::Refusal) -> String {
+    use crate::fsguard::Refusal;
+    match refusal {
+        Refusal::NotFound => "no such file or folder".to_string(),
+        Refusal::Outside => {
+            "leads outside the workspace (a symbolic link?); spec files are read only inside it"
+                .to_string()
+        }
+        Refusal::TooLarge { size, .. } => match size {
+            Some(size) => format!(
+                "is {} MiB; specs larger than {} MiB are not read",
+                size / (1024 * 1024),
+                MAX_SPEC_BYTES / (1024 * 1024)
+            ),
+            None => format!(
+                "is larger than {} MiB; specs larger than that are not read",
+                MAX_SPEC_BYTES / (1024 * 1024)
+            ),
+        },
+        Refusal::IsDirectory => "is a folder, not a spec file".to_string(),
+        other => other.describe(),
+    }
 }
 
 /// Decode spec bytes: invalid UTF-8 becomes U+FFFD, with a syntax error at the first bad byte.
@@ -244,8 +277,9 @@ pub fn collect_spec_files(path: &Path, files: &mut Vec<PathBuf>) -> Result<(), S
                     pending.push(entry.path());
                 }
             } else if name.ends_with(SPEC_SUFFIX) && !file_type.is_dir() {
+                // FIFOs, sockets and symlinks are kept: reading refuses them with a message
                 let entry_path = entry.path();
-                if entry_path.is_file() {
+                if !entry_path.is_dir() {
                     found.push(entry_path);
                 }
             }
@@ -256,23 +290,29 @@ pub fn collect_spec_files(path: &Path, files: &mut Vec<PathBuf>) -> Result<(), S
     Ok(())
 }
 
-/// The nearest folder at or above the spec's folder that holds `markwell.toml` or `.git`; else
-/// the current folder when the spec is inside it; else the spec's folder.
-pub fn find_workspace_root(spec_path: &Path) -> PathBuf {
-    let absolute = std::fs::canonicalize(spec_path).unwrap_or_else(|_| spec_path.to_path_buf());
-    let spec_dir = absolute
-        .parent()
-        .map(Path::to_path_buf)
-        .unwrap_or_else(|| PathBuf::from("."));
-    for ancestor in spec_dir.ancestors() {
-        if ancestor.join(CONFIG_FILE_NAME).is_file() || ancestor.join(".git").exists() {
-            return ancestor.to_path_buf();
-        }
-    }
-    match std::env::current_dir().and_then(std::fs::canonicalize) {
-        Ok(current) if absolute.starts_with(&current) => current,
-        _ => spec_dir,
-    }
+/// The workspace root of a spec found through the command-line path `given`: see
+/// [`crate::fsguard::discover_root`]; the walk stops at a `.git`, and goes no higher than the
+/// current folder (when the spec is inside it) or else the path given.
+pub fn find_workspace_root(spec_path: &Path, given: &Path) -> PathBuf {
+    let current = std::env::current_dir().and_then(std::fs::canonicalize).ok();
+    let spec_folder = spec_path.parent().and_then(|folder| {
+        std::fs::canonicalize(if folder.as_os_str().is_empty() {
+            Path::new(".")
+        } else {
+            folder
+        })
+        .ok()
+    });
+    let ceiling = match (&current, &spec_folder) {
+        (Some(current), Some(folder)) if folder.starts_with(current) => current.clone(),
+        _ => std::fs::canonicalize(if given.as_os_str().is_empty() {
+            Path::new(".")
+        } else {
+            given
+        })
+        .unwrap_or_else(|_| given.to_path_buf()),
+    };
+    crate::fsguard::discover_root(spec_path, Some(&ceiling))
 }
 
 fn load_project_config(
@@ -283,12 +323,14 @@ fn load_project_config(
         Some(path) => (path.to_path_buf(), true),
         None => (workspace_root.join(CONFIG_FILE_NAME), false),
     };
-    let text = match std::fs::read_to_string(&path) {
-        Ok(text) => text,
-        Err(error) if !required && error.kind() == std::io::ErrorKind::NotFound => {
-            return Ok(ProjectConfig::default())
+    let text = if required {
+        crate::fsguard::read_config_file(&path)
+            .map_err(|message| format!("{}: {message}", path.display()))?
+    } else {
+        match crate::fsguard::read_root_config(workspace_root)? {
+            Some(text) => text,
+            None => return Ok(ProjectConfig::default()),
         }
-        Err(error) => return Err(format!("{}: {}", path.display(), describe_io_error(&error))),
     };
     let (config, warnings) =
         parse_project_config(&text).map_err(|message| format!("{}: {message}", path.display()))?;

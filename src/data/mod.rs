@@ -128,6 +128,12 @@ pub enum DataErrorKind {
     Remote,
     /// The caller cancelled a full scan.
     Cancelled,
+    /// A FIFO, socket, device or system pseudo-file: never opened for reading.
+    NotRegular,
+    /// Over a stated size or memory limit.
+    TooLarge,
+    /// The profile's time budget ran out.
+    TimedOut,
 }
 
 impl DataErrorKind {
@@ -149,6 +155,9 @@ impl DataErrorKind {
             DataErrorKind::BadPath => "bad-path",
             DataErrorKind::Remote => "remote",
             DataErrorKind::Cancelled => "cancelled",
+            DataErrorKind::NotRegular => "not-regular",
+            DataErrorKind::TooLarge => "too-large",
+            DataErrorKind::TimedOut => "timed-out",
         }
     }
 }

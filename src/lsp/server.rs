@@ -53,8 +53,6 @@ const CLIENT_ANSWER_TIMEOUT: Duration = Duration::from_secs(5);
 const DATA_FILE_GLOB: &str = "**/*.{csv,tsv,json,ndjson,jsonl}";
 /// Glob of the project configuration.
 const CONFIG_FILE_GLOB: &str = "**/markwell.toml";
-/// A `markwell.toml` larger than this is not read.
-const MAX_CONFIG_BYTES: u64 = 1024 * 1024;
 
 /// Read `markwell.toml` at the workspace root; a missing file is the default configuration,
 /// problems are logged (the server keeps going with what could be read).
@@ -63,13 +61,15 @@ fn load_project_config(root: Option<&Path>) -> ProjectConfig {
         return ProjectConfig::default();
     };
     let path = root.join(CONFIG_FILE_NAME);
-    let too_big = std::fs::metadata(&path).is_ok_and(|meta| meta.len() > MAX_CONFIG_BYTES);
-    if too_big {
-        log::error(&format!("{} is larger than 1 MiB: ignored", path.display()));
-        return ProjectConfig::default();
-    }
-    let Ok(text) = std::fs::read_to_string(&path) else {
-        return ProjectConfig::default();
+    // only a regular file inside the root, at most 1 MiB, opened without blocking (a FIFO named
+    // markwell.toml must not stop `initialize`); see `fsguard`
+    let text = match crate::fsguard::read_root_config(root) {
+        Ok(Some(text)) => text,
+        Ok(None) => return ProjectConfig::default(),
+        Err(message) => {
+            log::error(&format!("{message}: the default configuration is used"));
+            return ProjectConfig::default();
+        }
     };
     match parse_project_config(&text) {
         Ok((config, warnings)) => {
@@ -1155,7 +1155,7 @@ fn definition_location(
 ) -> Option<lsp::Location> {
     use std::io::Read;
     let (start, end) = target.byte_range;
-    let file = std::fs::File::open(&target.path).ok()?;
+    let (file, _) = crate::fsguard::open_regular(&target.path).ok()?;
     let mut head = Vec::new();
     file.take(end.saturating_add(4))
         .read_to_end(&mut head)
