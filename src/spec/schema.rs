@@ -3,6 +3,7 @@
 //! nearest existing parent), so schema errors land on exact ranges. Unknown keys and invalid enum
 //! values get the closest valid name from the schema itself as a quick fix.
 
+use std::collections::HashMap;
 use std::sync::OnceLock;
 
 use jsonschema::error::{TypeKind, ValidationErrorKind};
@@ -209,11 +210,23 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
             ValidationErrorKind::AdditionalProperties { unexpected }
             | ValidationErrorKind::UnevaluatedProperties { unexpected } => {
                 let valid = keys_at_path(&path);
+                // one pass over the members (not a search per key: 20,000 unknown keys in one
+                // object were quadratic), and one suggestion per distinct key
+                let mut key_ranges: HashMap<String, TextRange> = HashMap::new();
+                if unexpected.len() > 1 {
+                    for member in node.members() {
+                        if let (Some(key), Some(range)) = (member.key_text(), member.key_range()) {
+                            key_ranges.entry(key.into_owned()).or_insert(range);
+                        }
+                    }
+                }
                 for key in unexpected {
-                    let member = node.member(key);
-                    let range = member
-                        .and_then(|member| member.key_range())
-                        .unwrap_or(node.range());
+                    let range = if unexpected.len() > 1 {
+                        key_ranges.get(key.as_str()).copied()
+                    } else {
+                        node.member(key).and_then(|member| member.key_range())
+                    }
+                    .unwrap_or(node.range());
                     let mut diagnostic = Diagnostic::new(
                         UNKNOWN_KEY,
                         Severity::Error,
