@@ -298,3 +298,121 @@ fn a_symlink_loop_is_a_clear_error() {
     assert_eq!(output.status.code(), Some(1), "{}", text(&output));
     assert!(text(&output).contains("a.csv"), "{}", text(&output));
 }
+
+/// A pipe whose reading end is already closed, as the stdout of a child.
+fn closed_pipe() -> Stdio {
+    use std::os::fd::{FromRawFd, OwnedFd};
+    let mut fds = [0i32; 2];
+    // SAFETY: `pipe` fills two new descriptors; each is owned exactly once below
+    let result = unsafe { libc::pipe(fds.as_mut_ptr()) };
+    assert_eq!(result, 0, "pipe");
+    // SAFETY: fresh descriptors from `pipe`, owned here only
+    let (read_end, write_end) =
+        unsafe { (OwnedFd::from_raw_fd(fds[0]), OwnedFd::from_raw_fd(fds[1])) };
+    drop(read_end);
+    Stdio::from(write_end)
+}
+
+fn run_with_stdout(args: &[&str], dir: &Path, stdout: Stdio) -> (Option<i32>, String) {
+    let output = Command::new(binary())
+        .current_dir(dir)
+        .args(args)
+        .stdin(Stdio::null())
+        .stdout(stdout)
+        .stderr(Stdio::piped())
+        .output()
+        .unwrap_or_else(|error| panic!("{error}"));
+    (
+        output.status.code(),
+        String::from_utf8_lossy(&output.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn a_closed_stdout_ends_quietly_with_the_usual_status() {
+    // was: `markwell check ... | head -1` and `rules` panicked with exit code 101
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    write(
+        dir.path(),
+        "clean.chart.json",
+        r#"{ "source": { "rows": [{"a": "x", "b": 1}] }, "mark": "bar", "bind": { "x": "a", "y": "b" } }"#,
+    );
+    write(
+        dir.path(),
+        "wrong.chart.json",
+        r#"{ "mark": "bar", "bnid": {} }"#,
+    );
+    write(dir.path(), "d.csv", "a,b\nx,1\n");
+    for (args, usual) in [
+        (&["rules"][..], 0),
+        (&["explain", "unknown-key"][..], 0),
+        (&["check", "clean.chart.json"][..], 0),
+        (&["check", "wrong.chart.json"][..], 1),
+        (&["check", "--format", "json", "."][..], 1),
+        (&["profile", "d.csv"][..], 0),
+    ] {
+        let (code, stderr) = run_with_stdout(args, dir.path(), closed_pipe());
+        assert_eq!(code, Some(usual), "{args:?}: {stderr}");
+        assert!(!stderr.contains("panicked"), "{args:?}: {stderr}");
+    }
+}
+
+#[cfg(target_os = "linux")]
+#[test]
+fn a_full_disk_is_exit_code_2_with_a_message() {
+    // was: `profile` exited 0 having written nothing; `check` and `rules` panicked (101)
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    write(dir.path(), "d.csv", "a,b\nx,1\n");
+    write(
+        dir.path(),
+        "wrong.chart.json",
+        r#"{ "mark": "bar", "bnid": {} }"#,
+    );
+    for args in [
+        &["rules"][..],
+        &["profile", "d.csv"][..],
+        &["profile", "--format", "json", "d.csv"][..],
+        &["check", "wrong.chart.json"][..],
+    ] {
+        let full = std::fs::OpenOptions::new()
+            .write(true)
+            .open("/dev/full")
+            .unwrap_or_else(|error| panic!("{error}"));
+        let (code, stderr) = run_with_stdout(args, dir.path(), Stdio::from(full));
+        assert_eq!(code, Some(2), "{args:?}: {stderr}");
+        assert!(stderr.contains("could not write"), "{args:?}: {stderr}");
+    }
+}
+
+#[test]
+fn control_characters_from_data_never_reach_the_terminal() {
+    // was: `profile` wrote escape sequences from data files straight to the terminal, including
+    // OSC 52, which sets the clipboard
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let osc52 = "\u{1b}]52;c;ZWNobyBoaQ==\u{7}";
+    write(
+        dir.path(),
+        "d.csv",
+        &format!("name\u{1b}[31m,b\n{osc52},1\nplain,2\n\u{9b}2J,3\n"),
+    );
+    let output = run_limited(&["profile", "d.csv"], dir.path(), &[]);
+    let all = text(&output);
+    assert_eq!(output.status.code(), Some(0), "{all}");
+    assert!(
+        !all.contains('\u{1b}') && !all.contains('\u{9b}') && !all.contains('\u{7}'),
+        "{all:?}"
+    );
+    assert!(all.contains("\\x1b]52"), "{all}");
+    // and in check messages that quote data
+    write(
+        dir.path(),
+        "s.chart.json",
+        r#"{ "source": { "path": "d.csv" }, "mark": "bar", "bind": { "x": "nmae", "y": "b" } }"#,
+    );
+    let output = run_limited(&["check", "s.chart.json"], dir.path(), &[]);
+    let all = text(&output);
+    assert!(
+        !all.contains('\u{1b}') && !all.contains('\u{9b}'),
+        "{all:?}"
+    );
+}

@@ -140,6 +140,14 @@ pub fn run(args: &CheckArgs) -> u8 {
         let data = cache.load_for_spec(&document.spec, &options);
         let mut diagnostics = text.encoding_diagnostics;
         diagnostics.extend(analyze(&document, &data, &config));
+        // messages quote data text: no control characters reach the terminal or the log
+        for diagnostic in &mut diagnostics {
+            if let std::borrow::Cow::Owned(escaped) =
+                crate::data::render::escape_control_characters(&diagnostic.message)
+            {
+                diagnostic.message = escaped;
+            }
+        }
         checked.push(CheckedFile {
             path,
             text: text.text,
@@ -147,17 +155,17 @@ pub fn run(args: &CheckArgs) -> u8 {
         });
     }
 
-    match args.format {
-        OutputFormat::Human => print!("{}", render_human(&checked)),
-        OutputFormat::Json => println!("{}", render_json(&checked)),
-        OutputFormat::Sarif => println!("{}", super::sarif::render_sarif(&checked)),
-    }
+    let written = super::write_stdout(&match args.format {
+        OutputFormat::Human => render_human(&checked),
+        OutputFormat::Json => format!("{}\n", render_json(&checked)),
+        OutputFormat::Sarif => format!("{}\n", super::sarif::render_sarif(&checked)),
+    });
 
     let fails = |diagnostic: &Diagnostic| {
         diagnostic.severity == Severity::Error
             || (args.deny == Some(DenyLevel::Warnings) && diagnostic.severity == Severity::Warning)
     };
-    if trouble {
+    let code = if trouble {
         EXIT_TROUBLE
     } else if checked
         .iter()
@@ -166,7 +174,8 @@ pub fn run(args: &CheckArgs) -> u8 {
         EXIT_FINDINGS
     } else {
         EXIT_CLEAN
-    }
+    };
+    super::after_output(written, code)
 }
 
 /// A spec's text, with invalid UTF-8 replaced by U+FFFD and reported.

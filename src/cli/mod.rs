@@ -75,46 +75,106 @@ pub fn main() -> ExitCode {
             return ExitCode::from(code);
         }
     };
-    let code = match cli.command {
+    if let Command::Serve = cli.command {
+        return crate::lsp::run_stdio();
+    }
+    // a safety net under every write to stdout: `print!` panics when the reader went away
+    // (`markwell check | head -1`) or the disk is full; that must never be exit code 101
+    let previous_hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        if output_panic(info.payload()).is_none() {
+            previous_hook(info);
+        }
+    }));
+    let outcome = std::panic::catch_unwind(|| match cli.command {
         Command::Check(args) => check::run(&args),
         Command::Profile(args) => profile::run(&args),
         Command::Rules => list_rules(),
         Command::Explain { id } => explain(&id),
-        Command::Serve => return crate::lsp::run_stdio(),
+        Command::Serve => EXIT_CLEAN,
+    });
+    let code = match outcome {
+        Ok(code) => code,
+        Err(payload) => match output_panic(payload.as_ref()) {
+            Some(true) => EXIT_CLEAN,
+            Some(false) => {
+                eprintln!("markwell: could not write the output");
+                EXIT_TROUBLE
+            }
+            None => std::panic::resume_unwind(payload),
+        },
     };
     ExitCode::from(code)
 }
 
+/// For a panic of `print!`: `Some(true)` when stdout was closed by its reader, `Some(false)`
+/// for another write error; `None` for any other panic.
+fn output_panic(payload: &(dyn std::any::Any + Send)) -> Option<bool> {
+    let message = payload
+        .downcast_ref::<String>()
+        .map(String::as_str)
+        .or_else(|| payload.downcast_ref::<&str>().copied())?;
+    if !message.starts_with("failed printing to stdout") {
+        return None;
+    }
+    Some(message.contains("Broken pipe") || message.contains("os error 32"))
+}
+
+/// The exit code after writing the output: `code` when it was written or when the reader
+/// closed the pipe early (`| head -1`: quiet, as Unix tools do); a message and
+/// [`EXIT_TROUBLE`] for any other write error (a full disk), never a silent success.
+pub fn after_output(written: std::io::Result<()>, code: u8) -> u8 {
+    match written {
+        Ok(()) => code,
+        Err(error) if error.kind() == std::io::ErrorKind::BrokenPipe => code,
+        Err(error) => {
+            eprintln!("markwell: could not write the output: {error}");
+            EXIT_TROUBLE
+        }
+    }
+}
+
+/// Write `text` to stdout and flush it.
+pub fn write_stdout(text: &str) -> std::io::Result<()> {
+    use std::io::Write;
+    let mut stdout = std::io::stdout().lock();
+    stdout.write_all(text.as_bytes())?;
+    stdout.flush()
+}
+
 fn list_rules() -> u8 {
+    use std::fmt::Write;
     let rules = crate::analysis::rules::registry();
     let width = rules.iter().map(|rule| rule.id.len()).max().unwrap_or(0);
     let mut group = "";
+    let mut out = String::new();
     for rule in rules {
         if rule.group != group {
             group = rule.group;
-            println!("{group}:");
+            let _ = writeln!(out, "{group}:");
         }
         let fix = if rule.has_fix { " (fix)" } else { "" };
-        println!(
+        let _ = writeln!(
+            out,
             "  {:width$}  {:7}  {}{fix}",
             rule.id,
             rule.default_severity.as_str(),
             rule.summary
         );
     }
-    EXIT_CLEAN
+    after_output(write_stdout(&out), EXIT_CLEAN)
 }
 
 fn explain(id: &str) -> u8 {
     match crate::analysis::rules::rule_by_id(id) {
         Some(rule) => {
-            print!("{}", rule.docs);
-            println!(
-                "\nDefault severity: {}. Quick fix: {}.",
+            let text = format!(
+                "{}\nDefault severity: {}. Quick fix: {}.\n",
+                rule.docs,
                 rule.default_severity.as_str(),
                 if rule.has_fix { "yes" } else { "no" }
             );
-            EXIT_CLEAN
+            after_output(write_stdout(&text), EXIT_CLEAN)
         }
         None => {
             let ids = crate::analysis::rules::registry()

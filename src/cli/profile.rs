@@ -2,7 +2,7 @@
 //! histograms, or as JSON. A thin shell over `data::cache` and `data::render`.
 
 use std::cell::Cell;
-use std::io::{IsTerminal, Write};
+use std::io::IsTerminal;
 use std::path::PathBuf;
 
 use clap::{Args, ValueEnum};
@@ -76,12 +76,16 @@ pub fn run(args: &ProfileArgs) -> u8 {
     let mut trouble = false;
     let mut json_profiles = Vec::new();
     let mut printed_any = false;
+    let mut write_failed: Option<std::io::Error> = None;
     for file in &args.files {
         let shown = file.display().to_string();
         let path = match resolve_source_path(&file.to_string_lossy(), &options) {
             Ok(path) => path,
             Err(error) => {
-                eprintln!("markwell: {shown}: {error}");
+                eprintln!(
+                    "markwell: {shown}: {}",
+                    crate::data::render::escape_control_characters(&error.to_string())
+                );
                 trouble = true;
                 continue;
             }
@@ -112,17 +116,24 @@ pub fn run(args: &ProfileArgs) -> u8 {
                 ProfileOutput::Text => {
                     let separator = if printed_any { "\n" } else { "" };
                     printed_any = true;
-                    // a closed pipe (`markwell profile x.csv | head`) is not an error
-                    let _ = write!(
-                        std::io::stdout().lock(),
-                        "{separator}{}",
-                        render_profile_text(&profile)
-                    );
+                    // a closed pipe (`markwell profile x.csv | head`) ends quietly; another
+                    // write error (a full disk) is exit code 2
+                    if write_failed.is_none() {
+                        if let Err(error) = super::write_stdout(&format!(
+                            "{separator}{}",
+                            render_profile_text(&profile)
+                        )) {
+                            write_failed = Some(error);
+                        }
+                    }
                 }
                 ProfileOutput::Json => json_profiles.push(render_profile_json(&profile)),
             },
             Err(error) => {
-                eprintln!("markwell: {shown}: {error}");
+                eprintln!(
+                    "markwell: {shown}: {}",
+                    crate::data::render::escape_control_characters(&error.to_string())
+                );
                 trouble = true;
             }
         }
@@ -135,7 +146,9 @@ pub fn run(args: &ProfileArgs) -> u8 {
         };
         match serde_json::to_string_pretty(&value) {
             Ok(text) => {
-                let _ = writeln!(std::io::stdout().lock(), "{text}");
+                if let Err(error) = super::write_stdout(&format!("{text}\n")) {
+                    write_failed = Some(error);
+                }
             }
             Err(error) => {
                 eprintln!("markwell: could not write JSON: {error}");
@@ -143,9 +156,6 @@ pub fn run(args: &ProfileArgs) -> u8 {
             }
         }
     }
-    if trouble {
-        EXIT_TROUBLE
-    } else {
-        EXIT_CLEAN
-    }
+    let code = if trouble { EXIT_TROUBLE } else { EXIT_CLEAN };
+    super::after_output(write_failed.map_or(Ok(()), Err), code)
 }
