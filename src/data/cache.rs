@@ -405,6 +405,18 @@ fn profile_file(
             path,
         ));
     }
+    if table.rows == 0 && truncated && in_memory {
+        // the head ended inside the first row: that is no evidence of an empty file
+        return Err(simple_error(
+            DataErrorKind::SampleIncomplete,
+            format!(
+                "the first {} MiB of `{}` hold no whole row (a line longer than that); waiting for the full profile",
+                SAMPLE_BYTES >> 20,
+                path.display()
+            ),
+            path,
+        ));
+    }
     if table.rows == 0 {
         return Err(if table.names.is_empty() {
             simple_error(

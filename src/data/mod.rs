@@ -134,6 +134,9 @@ pub enum DataErrorKind {
     TooLarge,
     /// The profile's time budget ran out.
     TimedOut,
+    /// A sampled head held no whole row (a line longer than the sample): the full profile
+    /// decides; until then nothing is said about the rows.
+    SampleIncomplete,
 }
 
 impl DataErrorKind {
@@ -158,6 +161,7 @@ impl DataErrorKind {
             DataErrorKind::NotRegular => "not-regular",
             DataErrorKind::TooLarge => "too-large",
             DataErrorKind::TimedOut => "timed-out",
+            DataErrorKind::SampleIncomplete => "sample-incomplete",
         }
     }
 }

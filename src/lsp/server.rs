@@ -209,10 +209,15 @@ fn sampled_sources(spec: &ChartSpec, data: &DataContext) -> Vec<(PathBuf, ReadOp
         .chain(spec.layers.iter().filter_map(|layer| layer.source.as_ref()));
     let mut out: Vec<(PathBuf, ReadOptions)> = Vec::new();
     for source in sources {
-        let Some(Ok(profile)) = data.for_source(source) else {
-            continue;
+        let path = match data.for_source(source) {
+            Some(Ok(profile)) => profile.path.clone().filter(|_| profile.is_sample),
+            // a sample that held no whole row waits for the full profile too
+            Some(Err(error)) if error.kind == crate::data::DataErrorKind::SampleIncomplete => {
+                error.path.clone()
+            }
+            _ => None,
         };
-        let Some(path) = profile.path.clone().filter(|_| profile.is_sample) else {
+        let Some(path) = path else {
             continue;
         };
         let read = ReadOptions::for_source(source);

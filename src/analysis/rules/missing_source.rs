@@ -82,12 +82,14 @@ fn location_range(source: &Source) -> crate::TextRange {
 }
 
 fn error_diagnostic(source: &Source, error: &DataError) -> Diagnostic {
-    let mut diagnostic = Diagnostic::new(
-        ID,
-        Severity::Error,
-        location_range(source),
-        error.message.clone(),
-    );
+    // a sample without one whole row is no finding yet: the full profile follows
+    let severity = if error.kind == crate::data::DataErrorKind::SampleIncomplete {
+        Severity::Info
+    } else {
+        Severity::Error
+    };
+    let mut diagnostic =
+        Diagnostic::new(ID, severity, location_range(source), error.message.clone());
     if let (Some(path), Some(line)) = (error.path.as_ref(), error.line) {
         diagnostic.related.push(RelatedLocation {
             target: RelatedTarget::File {
