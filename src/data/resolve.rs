@@ -105,7 +105,8 @@ pub fn resolve_source_path(written: &str, options: &ResolveOptions) -> Result<Pa
                     "no file `{written}` (looked for {})",
                     lexically_normal(&joined).display()
                 ),
-                None,
+                // inside the workspace: kept so that creating the file re-analyses the spec
+                Some(lexically_normal(&joined)),
             ));
         }
         Err(refusal) => return Err(refusal_error(written, refusal, None)),
