@@ -99,15 +99,11 @@ impl Checker<'_> {
     fn analyse(
         &self,
         path: &Path,
+        workspace_root: &Path,
         text: &str,
         encoding_diagnostics: Vec<Diagnostic>,
     ) -> Result<(Vec<Diagnostic>, SpecOutline), Vec<RunError>> {
-        let workspace_root = self
-            .args
-            .workspace
-            .clone()
-            .unwrap_or_else(|| find_workspace_root(path));
-        let project = load_project_config(self.args.config.as_deref(), &workspace_root)?;
+        let project = load_project_config(self.args.config.as_deref(), workspace_root)?;
         let mut config = project.analysis.clone();
         config.merge(&self.command_line_config);
         let document = parse_document(text);
@@ -117,13 +113,21 @@ impl Checker<'_> {
             .unwrap_or_else(|| PathBuf::from("."));
         let options = ResolveOptions {
             spec_dir,
-            workspace_root: Some(workspace_root),
+            workspace_root: Some(workspace_root.to_path_buf()),
             allow_outside_workspace: self.args.allow_outside_workspace
                 || project.allow_outside_workspace,
         };
         let data = self.cache.load_for_spec(&document.spec, &options);
         let mut diagnostics = encoding_diagnostics;
         diagnostics.extend(analyze(&document, &data, &config));
+        // messages quote data text: no control characters reach the terminal or the log
+        for diagnostic in &mut diagnostics {
+            if let std::borrow::Cow::Owned(escaped) =
+                crate::data::render::escape_control_characters(&diagnostic.message)
+            {
+                diagnostic.message = escaped;
+            }
+        }
         Ok((diagnostics, outline(&document.spec, &data)))
     }
 }
@@ -175,10 +179,19 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
 
     let mut errors: Vec<RunError> = Vec::new();
     let mut files = Vec::new();
+    let mut ceilings = Vec::new();
     let paths = super::paths_or_current(&args.paths);
     for path in &paths {
         let before = files.len();
-        match collect_spec_files(path, &mut files) {
+        let outcome = collect_spec_files(path, &mut files);
+        // the workspace root is looked for no higher than this (see `fsguard::discover_root`)
+        let given = if path.is_dir() {
+            path.clone()
+        } else {
+            path.parent().map(Path::to_path_buf).unwrap_or_default()
+        };
+        ceilings.extend(std::iter::repeat_n(given, files.len() - before));
+        match outcome {
             Ok(()) => {
                 if files.len() == before && path.is_dir() {
                     errors.push(RunError {
@@ -201,6 +214,13 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
                 })
             }
         }
+        // the workspace root is looked for no higher than this (see `fsguard::discover_root`)
+        let given = if path.is_dir() {
+            path.clone()
+        } else {
+            path.parent().map(Path::to_path_buf).unwrap_or_default()
+        };
+        ceilings.extend(std::iter::repeat_n(given, files.len() - before));
     }
 
     let checker = Checker {
@@ -213,7 +233,11 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
     let mut previews: Vec<u8> = Vec::new();
     // an invalid `markwell.toml` stops the run: no report on defaults
     let mut config_problems: Vec<RunError> = Vec::new();
-    for path in files {
+    for (path, given) in files.into_iter().zip(ceilings) {
+        let workspace_root = args
+            .workspace
+            .clone()
+            .unwrap_or_else(|| find_workspace_root(&path, &given));
         if is_data_file(&path, None) {
             errors.push(RunError {
                 path: path.display().to_string(),
@@ -221,7 +245,7 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
             });
             continue;
         }
-        let text = match read_spec_text(&path) {
+        let text = match read_spec_text_within(&path, &workspace_root) {
             Ok(text) => text,
             Err(message) => {
                 errors.push(RunError {
@@ -239,7 +263,7 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
             continue;
         }
         let (mut diagnostics, mut spec_outline) =
-            match checker.analyse(&path, &text.text, text.encoding_diagnostics) {
+            match checker.analyse(&path, &workspace_root, &text.text, text.encoding_diagnostics) {
                 Ok(result) => result,
                 Err(problems) => {
                     config_problems = problems;
@@ -286,7 +310,7 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
                     if written {
                         // check again what was written
                         (diagnostics, spec_outline) =
-                            match checker.analyse(&path, &new_text, Vec::new()) {
+                            match checker.analyse(&path, &workspace_root, &new_text, Vec::new()) {
                                 Ok(result) => result,
                                 Err(problems) => {
                                     config_problems = problems;
@@ -376,19 +400,43 @@ pub struct SpecText {
 }
 
 pub fn read_spec_text(path: &Path) -> Result<SpecText, String> {
-    let metadata = std::fs::metadata(path).map_err(|error| describe_io_error(&error))?;
-    if metadata.is_dir() {
-        return Err("is a folder, not a spec file".to_string());
-    }
-    if metadata.len() > MAX_SPEC_BYTES {
-        return Err(format!(
-            "is {} MiB; specs larger than {} MiB are not read",
-            metadata.len() / (1024 * 1024),
-            MAX_SPEC_BYTES / (1024 * 1024)
-        ));
-    }
-    let bytes = std::fs::read(path).map_err(|error| describe_io_error(&error))?;
+    let bytes = crate::fsguard::read_bounded(path, MAX_SPEC_BYTES)
+        .map_err(|refusal| describe_spec_refusal(&refusal))?;
     Ok(spec_text_from_bytes(bytes))
+}
+
+/// Like [`read_spec_text`], but only for a regular file inside `root` (a spec found in a folder
+/// that is a symlink out of the workspace is refused and never read).
+pub fn read_spec_text_within(path: &Path, root: &Path) -> Result<SpecText, String> {
+    let containment = crate::fsguard::Containment::new(root, false);
+    let canonical = containment
+        .resolve(path)
+        .map_err(|refusal| describe_spec_refusal(&refusal))?;
+    read_spec_text(&canonical)
+}
+
+fn describe_spec_refusal(refusal: &crate::fsguard::Refusal) -> String {
+    use crate::fsguard::Refusal;
+    match refusal {
+        Refusal::NotFound => "no such file or folder".to_string(),
+        Refusal::Outside => {
+            "leads outside the workspace (a symbolic link?); spec files are read only inside it"
+                .to_string()
+        }
+        Refusal::TooLarge { size, .. } => match size {
+            Some(size) => format!(
+                "is {} MiB; specs larger than {} MiB are not read",
+                size / (1024 * 1024),
+                MAX_SPEC_BYTES / (1024 * 1024)
+            ),
+            None => format!(
+                "is larger than {} MiB; specs larger than that are not read",
+                MAX_SPEC_BYTES / (1024 * 1024)
+            ),
+        },
+        Refusal::IsDirectory => "is a folder, not a spec file".to_string(),
+        other => other.describe(),
+    }
 }
 
 /// Decode spec bytes: invalid UTF-8 becomes U+FFFD, with a syntax error at the first bad byte.
@@ -453,8 +501,9 @@ pub fn collect_spec_files(path: &Path, files: &mut Vec<PathBuf>) -> Result<(), S
                     pending.push(entry.path());
                 }
             } else if name.ends_with(SPEC_SUFFIX) && !file_type.is_dir() {
+                // FIFOs, sockets and symlinks are kept: reading refuses them with a message
                 let entry_path = entry.path();
-                if entry_path.is_file() {
+                if !entry_path.is_dir() {
                     found.push(entry_path);
                 }
             }
@@ -465,23 +514,29 @@ pub fn collect_spec_files(path: &Path, files: &mut Vec<PathBuf>) -> Result<(), S
     Ok(())
 }
 
-/// The nearest folder at or above the spec's folder that holds `markwell.toml` or `.git`; else
-/// the current folder when the spec is inside it; else the spec's folder.
-pub fn find_workspace_root(spec_path: &Path) -> PathBuf {
-    let absolute = std::fs::canonicalize(spec_path).unwrap_or_else(|_| spec_path.to_path_buf());
-    let spec_dir = absolute
-        .parent()
-        .map(Path::to_path_buf)
-        .unwrap_or_else(|| PathBuf::from("."));
-    for ancestor in spec_dir.ancestors() {
-        if ancestor.join(CONFIG_FILE_NAME).is_file() || ancestor.join(".git").exists() {
-            return ancestor.to_path_buf();
-        }
-    }
-    match std::env::current_dir().and_then(std::fs::canonicalize) {
-        Ok(current) if absolute.starts_with(&current) => current,
-        _ => spec_dir,
-    }
+/// The workspace root of a spec found through the command-line path `given`: see
+/// [`crate::fsguard::discover_root`]; the walk stops at a `.git`, and goes no higher than the
+/// current folder (when the spec is inside it) or else the path given.
+pub fn find_workspace_root(spec_path: &Path, given: &Path) -> PathBuf {
+    let current = std::env::current_dir().and_then(std::fs::canonicalize).ok();
+    let spec_folder = spec_path.parent().and_then(|folder| {
+        std::fs::canonicalize(if folder.as_os_str().is_empty() {
+            Path::new(".")
+        } else {
+            folder
+        })
+        .ok()
+    });
+    let ceiling = match (&current, &spec_folder) {
+        (Some(current), Some(folder)) if folder.starts_with(current) => current.clone(),
+        _ => std::fs::canonicalize(if given.as_os_str().is_empty() {
+            Path::new(".")
+        } else {
+            given
+        })
+        .unwrap_or_else(|_| given.to_path_buf()),
+    };
+    crate::fsguard::discover_root(spec_path, Some(&ceiling))
 }
 
 fn load_project_config(
@@ -496,12 +551,19 @@ fn load_project_config(
         path: path.display().to_string(),
         message,
     };
-    let text = match std::fs::read_to_string(&path) {
-        Ok(text) => text,
-        Err(error) if !required && error.kind() == std::io::ErrorKind::NotFound => {
-            return Ok(ProjectConfig::default())
+    let text = if required {
+        crate::fsguard::read_config_file(&path).map_err(|message| vec![problem(message)])?
+    } else {
+        // only a regular file inside the workspace, bounded, never blocking
+        let shown = format!("{}: ", path.display());
+        match crate::fsguard::read_root_config(workspace_root) {
+            Ok(Some(text)) => text,
+            Ok(None) => return Ok(ProjectConfig::default()),
+            Err(message) => {
+                let message = message.strip_prefix(&shown).unwrap_or(&message).to_string();
+                return Err(vec![problem(message)]);
+            }
         }
-        Err(error) => return Err(vec![problem(describe_io_error(&error))]),
     };
     let (config, warnings) =
         parse_project_config(&text).map_err(|message| vec![problem(message)])?;

@@ -87,14 +87,63 @@ enum Command {
 
 pub fn main() -> ExitCode {
     // not locked: `serve` writes to stdout from the server's own threads
-    let mut out = io::stdout();
+    let mut out = ClosedPipeIsQuiet::new(io::stdout());
     let mut err = io::stderr();
-    let code = match run(std::env::args_os(), &mut out, &mut err) {
-        Ok(code) => code,
-        Err(_) => ExitCode::from(EXIT_TROUBLE),
-    };
-    let _ = out.flush();
-    code
+    let outcome = run(std::env::args_os(), &mut out, &mut err);
+    let flushed = out.flush();
+    match (outcome, flushed) {
+        (Ok(code), Ok(())) => code,
+        (Err(error), _) | (_, Err(error)) => {
+            // a full disk or another write error is never a silent success
+            let _ = writeln!(err, "markwell: could not write the output: {error}");
+            ExitCode::from(EXIT_TROUBLE)
+        }
+    }
+}
+
+/// Standard output that goes quiet when its reader closed the pipe (`markwell check | head -1`):
+/// the rest is discarded and the command ends with its usual exit code, as Unix tools do. Any
+/// other write error (a full disk) is passed on.
+pub struct ClosedPipeIsQuiet<W: Write> {
+    inner: W,
+    closed: bool,
+}
+
+impl<W: Write> ClosedPipeIsQuiet<W> {
+    pub fn new(inner: W) -> Self {
+        ClosedPipeIsQuiet {
+            inner,
+            closed: false,
+        }
+    }
+}
+
+impl<W: Write> Write for ClosedPipeIsQuiet<W> {
+    fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
+        if self.closed {
+            return Ok(buf.len());
+        }
+        match self.inner.write(buf) {
+            Err(error) if error.kind() == io::ErrorKind::BrokenPipe => {
+                self.closed = true;
+                Ok(buf.len())
+            }
+            other => other,
+        }
+    }
+
+    fn flush(&mut self) -> io::Result<()> {
+        if self.closed {
+            return Ok(());
+        }
+        match self.inner.flush() {
+            Err(error) if error.kind() == io::ErrorKind::BrokenPipe => {
+                self.closed = true;
+                Ok(())
+            }
+            other => other,
+        }
+    }
 }
 
 /// Parse `args` and run the command, writing through `out` and `err`. The language server

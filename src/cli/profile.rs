@@ -115,7 +115,11 @@ pub fn run(args: &ProfileArgs, out: &mut dyn Write, err: &mut dyn Write) -> std:
         let path = match resolve_source_path(&file.to_string_lossy(), &options) {
             Ok(path) => path,
             Err(error) => {
-                writeln!(err, "markwell: {shown}: {error}")?;
+                writeln!(
+                    err,
+                    "markwell: {shown}: {}",
+                    crate::data::render::escape_control_characters(&error.to_string())
+                )?;
                 trouble = true;
                 continue;
             }
@@ -151,7 +155,11 @@ pub fn run(args: &ProfileArgs, out: &mut dyn Write, err: &mut dyn Write) -> std:
                 ProfileOutput::Json => json_profiles.push(render_profile_json(&profile)),
             },
             Err(error) => {
-                writeln!(err, "markwell: {shown}: {error}")?;
+                writeln!(
+                    err,
+                    "markwell: {shown}: {}",
+                    crate::data::render::escape_control_characters(&error.to_string())
+                )?;
                 trouble = true;
             }
         }

@@ -82,7 +82,7 @@ fn simple_error(kind: DataErrorKind, message: String, path: &Path) -> DataError 
     }
 }
 
-/// Size and modification time, refusing folders.
+/// Size and modification time, refusing folders, FIFOs, sockets and devices.
 fn file_stamp(path: &Path) -> Result<(u64, Option<SystemTime>), DataError> {
     let metadata = std::fs::metadata(path).map_err(|error| io_error(Some(path), &error))?;
     if metadata.is_dir() {
@@ -92,7 +92,43 @@ fn file_stamp(path: &Path) -> Result<(u64, Option<SystemTime>), DataError> {
             path,
         ));
     }
+    if let Some(kind) = crate::fsguard::non_regular_kind(&metadata) {
+        return Err(not_regular_error(path, kind));
+    }
     Ok((metadata.len(), metadata.modified().ok()))
+}
+
+fn not_regular_error(path: &Path, kind: &str) -> DataError {
+    simple_error(
+        DataErrorKind::NotRegular,
+        format!(
+            "`{}` is {kind}, not a regular file; data is read from regular files only",
+            path.display()
+        ),
+        path,
+    )
+}
+
+/// Open a data file only when it is a regular file (never blocks on a FIFO; see `fsguard`).
+pub fn open_data_file(path: &Path) -> Result<File, DataError> {
+    match crate::fsguard::open_regular(path) {
+        Ok((file, _)) => Ok(file),
+        Err(crate::fsguard::Refusal::NotRegular(kind)) => Err(not_regular_error(path, kind)),
+        Err(crate::fsguard::Refusal::IsDirectory) => Err(simple_error(
+            DataErrorKind::IsDirectory,
+            format!("`{}` is a folder, not a data file", path.display()),
+            path,
+        )),
+        Err(refusal) => Err(simple_error(
+            match refusal {
+                crate::fsguard::Refusal::NotFound => DataErrorKind::NotFound,
+                crate::fsguard::Refusal::PermissionDenied => DataErrorKind::PermissionDenied,
+                _ => DataErrorKind::Io,
+            },
+            format!("`{}` {}", path.display(), refusal.describe()),
+            path,
+        )),
+    }
 }
 
 fn worker_threads() -> usize {
@@ -262,7 +298,7 @@ fn profile_file(
     depth: ScanDepth<'_>,
 ) -> Result<DataProfile, DataError> {
     let (size, modified) = file_stamp(path)?;
-    let mut file = File::open(path).map_err(|error| io_error(Some(path), &error))?;
+    let mut file = open_data_file(path)?;
     let head = read_head(&mut file, SAMPLE_BYTES, path)?;
     let complete = head.len() as u64 >= size;
     let after_mark = head.strip_prefix(&BYTE_ORDER_MARK).unwrap_or(&head);
@@ -306,8 +342,7 @@ fn profile_file(
             table
         }
         (DataFormat::Csv | DataFormat::Tsv, false) => {
-            let mut header_source =
-                File::open(path).map_err(|error| io_error(Some(path), &error))?;
+            let mut header_source = open_data_file(path)?;
             header_source
                 .seek(SeekFrom::Start(mark_length as u64))
                 .map_err(|error| io_error(Some(path), &error))?;
@@ -365,6 +400,18 @@ fn profile_file(
             DataErrorKind::ChangedDuringScan,
             format!(
                 "`{}` changed while it was being read ({size} bytes before, {size_after} after); read it again",
+                path.display()
+            ),
+            path,
+        ));
+    }
+    if table.rows == 0 && truncated && in_memory {
+        // the head ended inside the first row: that is no evidence of an empty file
+        return Err(simple_error(
+            DataErrorKind::SampleIncomplete,
+            format!(
+                "the first {} MiB of `{}` hold no whole row (a line longer than that); waiting for the full profile",
+                SAMPLE_BYTES >> 20,
                 path.display()
             ),
             path,
@@ -435,7 +482,7 @@ fn scan_json_file(
     control: &ScanControl,
     progress: &dyn Fn(f64) -> bool,
 ) -> Result<TableAccumulator, DataError> {
-    let mut file = File::open(path).map_err(|error| io_error(Some(path), &error))?;
+    let mut file = open_data_file(path)?;
     file.seek(SeekFrom::Start(start))
         .map_err(|error| io_error(Some(path), &error))?;
     std::thread::scope(|scope| {

@@ -598,7 +598,7 @@ pub fn scan_records<R: Read>(
 }
 
 fn open_at(path: &Path, offset: u64) -> Result<File, DataError> {
-    let mut file = File::open(path).map_err(|error| io_error(Some(path), &error))?;
+    let mut file = super::cache::open_data_file(path)?;
     file.seek(SeekFrom::Start(offset))
         .map_err(|error| io_error(Some(path), &error))?;
     Ok(file)

@@ -128,6 +128,15 @@ pub enum DataErrorKind {
     Remote,
     /// The caller cancelled a full scan.
     Cancelled,
+    /// A FIFO, socket, device or system pseudo-file: never opened for reading.
+    NotRegular,
+    /// Over a stated size or memory limit.
+    TooLarge,
+    /// The profile's time budget ran out.
+    TimedOut,
+    /// A sampled head held no whole row (a line longer than the sample): the full profile
+    /// decides; until then nothing is said about the rows.
+    SampleIncomplete,
 }
 
 impl DataErrorKind {
@@ -149,6 +158,10 @@ impl DataErrorKind {
             DataErrorKind::BadPath => "bad-path",
             DataErrorKind::Remote => "remote",
             DataErrorKind::Cancelled => "cancelled",
+            DataErrorKind::NotRegular => "not-regular",
+            DataErrorKind::TooLarge => "too-large",
+            DataErrorKind::TimedOut => "timed-out",
+            DataErrorKind::SampleIncomplete => "sample-incomplete",
         }
     }
 }

@@ -92,7 +92,42 @@ fn bar(count: u64, largest: u64) -> String {
 }
 
 /// The profile as a readable table followed by histograms.
+///
+/// Text from the data (names, values) has its control characters escaped (see
+/// [`escape_control_characters`]): a data file must not drive the terminal.
 pub fn render_profile_text(profile: &DataProfile) -> String {
+    escape_control_characters(&render_profile_text_raw(profile)).into_owned()
+}
+
+/// Control characters other than line break and tab written visibly (`\x1b`, `\u{9b}`), so
+/// that text from a data file shown in a terminal cannot move the cursor, set the title or the
+/// clipboard (OSC 52), or hide what follows.
+pub fn escape_control_characters(text: &str) -> std::borrow::Cow<'_, str> {
+    let is_unsafe = |character: char| {
+        (character.is_control() && character != '\n' && character != '\t')
+            // bidirectional overrides and isolates reorder what the reader sees
+            || matches!(character, '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+    };
+    if !text.chars().any(is_unsafe) {
+        return std::borrow::Cow::Borrowed(text);
+    }
+    let mut out = String::with_capacity(text.len() + 16);
+    for character in text.chars() {
+        if is_unsafe(character) {
+            let code = character as u32;
+            if code < 0x80 {
+                out.push_str(&format!("\\x{code:02x}"));
+            } else {
+                out.push_str(&format!("\\u{{{code:x}}}"));
+            }
+        } else {
+            out.push(character);
+        }
+    }
+    std::borrow::Cow::Owned(out)
+}
+
+fn render_profile_text_raw(profile: &DataProfile) -> String {
     let headings = [
         "column",
         "kind",

@@ -4,7 +4,8 @@
 
 use std::path::PathBuf;
 
-use super::{io_error, DataError, DataErrorKind, ResolveOptions};
+use super::{DataError, DataErrorKind, ResolveOptions};
+use crate::fsguard::{is_pseudo_file, lexically_normal, non_regular_kind, Containment, Refusal};
 
 /// Longer paths are refused before touching the file system (Linux's PATH_MAX is 4096, from
 /// memory).
@@ -67,39 +68,85 @@ pub fn resolve_source_path(written: &str, options: &ResolveOptions) -> Result<Pa
         ));
     }
     let joined = options.spec_dir.join(written);
-    let canonical = match std::fs::canonicalize(&joined) {
+    // one policy for every front end (see `fsguard`): the root is the workspace folder, else
+    // the spec's folder; symlinks and `..` are resolved before the check
+    let root = options
+        .workspace_root
+        .clone()
+        .unwrap_or_else(|| options.spec_dir.clone());
+    let containment = Containment::new(&root, options.allow_outside_workspace);
+    if containment.root.parent().is_none() && !options.allow_outside_workspace {
+        // no workspace folder and no folder of the spec: `/` is never a workspace by default
+        return Err(path_error(
+            DataErrorKind::OutsideWorkspace,
+            format!(
+                "`{written}` is not read: there is no workspace folder (open the spec's folder as the workspace, or allow it with `allow-outside-workspace`)"
+            ),
+            None,
+        ));
+    }
+    let canonical = match containment.resolve(&joined) {
         Ok(canonical) => canonical,
-        Err(error) => {
-            let mut data_error = io_error(Some(&joined), &error);
-            if data_error.kind == DataErrorKind::NotFound {
-                data_error.message =
-                    format!("no file `{written}` (looked for {})", joined.display());
-            }
-            return Err(data_error);
+        Err(Refusal::Outside) => {
+            // the message names the path as written and the root, never what is outside
+            return Err(path_error(
+                DataErrorKind::OutsideWorkspace,
+                format!(
+                    "`{written}` is outside the workspace {}; data is read only inside it. Allow it with `allow-outside-workspace = true` under `[data]` in markwell.toml (or `--allow-outside-workspace`)",
+                    containment.root.display()
+                ),
+                None,
+            ));
         }
+        Err(Refusal::NotFound) => {
+            return Err(path_error(
+                DataErrorKind::NotFound,
+                format!(
+                    "no file `{written}` (looked for {})",
+                    lexically_normal(&joined).display()
+                ),
+                // inside the workspace: kept so that creating the file re-analyses the spec
+                Some(lexically_normal(&joined)),
+            ));
+        }
+        Err(refusal) => return Err(refusal_error(written, refusal, None)),
     };
-    if let Some(root) = &options.workspace_root {
-        if !options.allow_outside_workspace {
-            let canonical_root = std::fs::canonicalize(root).unwrap_or_else(|_| root.clone());
-            if !canonical.starts_with(&canonical_root) {
-                return Err(path_error(
-                    DataErrorKind::OutsideWorkspace,
-                    format!(
-                        "`{written}` resolves to {}, outside the workspace {}; allow it with `allow-outside-workspace = true` under `[data]` in markwell.toml (or `--allow-outside-workspace`)",
-                        canonical.display(),
-                        canonical_root.display()
-                    ),
-                    Some(canonical),
-                ));
-            }
+    if let Ok(metadata) = std::fs::metadata(&canonical) {
+        if metadata.is_dir() {
+            return Err(path_error(
+                DataErrorKind::IsDirectory,
+                format!("`{written}` is a folder, not a data file"),
+                Some(canonical),
+            ));
+        }
+        if let Some(kind) = non_regular_kind(&metadata) {
+            return Err(refusal_error(
+                written,
+                Refusal::NotRegular(kind),
+                Some(canonical),
+            ));
         }
     }
-    if canonical.is_dir() {
-        return Err(path_error(
-            DataErrorKind::IsDirectory,
-            format!("`{written}` is a folder, not a data file"),
+    if is_pseudo_file(&canonical) {
+        return Err(refusal_error(
+            written,
+            Refusal::NotRegular("a system pseudo-file (/proc, /sys, /dev)"),
             Some(canonical),
         ));
     }
     Ok(canonical)
+}
+
+/// A `DataError` for a file the policy refused (by the kind of refusal).
+pub fn refusal_error(written: &str, refusal: Refusal, path: Option<PathBuf>) -> DataError {
+    let kind = match &refusal {
+        Refusal::NotFound => DataErrorKind::NotFound,
+        Refusal::PermissionDenied => DataErrorKind::PermissionDenied,
+        Refusal::IsDirectory => DataErrorKind::IsDirectory,
+        Refusal::NotRegular(_) => DataErrorKind::NotRegular,
+        Refusal::TooLarge { .. } => DataErrorKind::TooLarge,
+        Refusal::Outside => DataErrorKind::OutsideWorkspace,
+        Refusal::Io(_) => DataErrorKind::Io,
+    };
+    path_error(kind, format!("`{written}` {}", refusal.describe()), path)
 }

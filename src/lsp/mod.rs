@@ -48,8 +48,12 @@ pub fn run_stdio() -> ExitCode {
     let shutdown_requested = Arc::new(AtomicBool::new(false));
     let exit_received = Arc::new(tokio::sync::Notify::new());
     let shutdown_flag = shutdown_requested.clone();
+    // SIGINT/SIGTERM end the server cleanly (exit code 0), like `shutdown` then `exit`
+    let signalled = Arc::new(AtomicBool::new(false));
+    let signal_flag = signalled.clone();
     let exit_signal = exit_received.clone();
     runtime.block_on(async move {
+        let signalled = signal_flag;
         let mut builder = LspService::build(move |client| Backend::new(client, shutdown_flag));
         if std::env::var(TEST_HOOKS_VARIABLE).is_ok_and(|value| value == "1") {
             builder = builder.custom_method("markwell/testPanic", Backend::test_panic);
@@ -81,11 +85,15 @@ pub fn run_stdio() -> ExitCode {
                 let _ = tokio::time::timeout(std::time::Duration::from_secs(2), writer).await;
             }
             _ = exit_received.notified() => log::info("exit received"),
+            signal = termination_signal() => {
+                log::info(&format!("{signal} received: ending"));
+                signalled.store(true, Ordering::SeqCst);
+            }
         }
     });
     // the stdin reader thread may still be blocked in a read: do not wait for it
     runtime.shutdown_background();
-    if shutdown_requested.load(Ordering::SeqCst) {
+    if shutdown_requested.load(Ordering::SeqCst) || signalled.load(Ordering::SeqCst) {
         ExitCode::SUCCESS
     } else {
         ExitCode::FAILURE
@@ -139,5 +147,34 @@ fn without_null_params(request: Request) -> Request {
     match id {
         Some(id) => builder.id(id).finish(),
         None => builder.finish(),
+    }
+}
+
+/// The name of the first SIGINT or SIGTERM received (never resolves when signals cannot be
+/// watched).
+async fn termination_signal() -> &'static str {
+    #[cfg(unix)]
+    {
+        use tokio::signal::unix::{signal, SignalKind};
+        match (
+            signal(SignalKind::interrupt()),
+            signal(SignalKind::terminate()),
+        ) {
+            (Ok(mut interrupt), Ok(mut terminate)) => tokio::select! {
+                _ = interrupt.recv() => "SIGINT",
+                _ = terminate.recv() => "SIGTERM",
+            },
+            _ => {
+                log::error("cannot watch SIGINT/SIGTERM");
+                std::future::pending().await
+            }
+        }
+    }
+    #[cfg(not(unix))]
+    {
+        match tokio::signal::ctrl_c().await {
+            Ok(()) => "Ctrl-C",
+            Err(_) => std::future::pending().await,
+        }
     }
 }

@@ -53,8 +53,6 @@ const CLIENT_ANSWER_TIMEOUT: Duration = Duration::from_secs(5);
 const DATA_FILE_GLOB: &str = "**/*.{csv,tsv,json,ndjson,jsonl}";
 /// Glob of the project configuration.
 const CONFIG_FILE_GLOB: &str = "**/markwell.toml";
-/// A `markwell.toml` larger than this is not read.
-const MAX_CONFIG_BYTES: u64 = 1024 * 1024;
 
 /// Read `markwell.toml` at the workspace root; a missing file is the default configuration,
 /// problems are logged (the server keeps going with what could be read).
@@ -63,13 +61,15 @@ fn load_project_config(root: Option<&Path>) -> ProjectConfig {
         return ProjectConfig::default();
     };
     let path = root.join(CONFIG_FILE_NAME);
-    let too_big = std::fs::metadata(&path).is_ok_and(|meta| meta.len() > MAX_CONFIG_BYTES);
-    if too_big {
-        log::error(&format!("{} is larger than 1 MiB: ignored", path.display()));
-        return ProjectConfig::default();
-    }
-    let Ok(text) = std::fs::read_to_string(&path) else {
-        return ProjectConfig::default();
+    // only a regular file inside the root, at most 1 MiB, opened without blocking (a FIFO named
+    // markwell.toml must not stop `initialize`); see `fsguard`
+    let text = match crate::fsguard::read_root_config(root) {
+        Ok(Some(text)) => text,
+        Ok(None) => return ProjectConfig::default(),
+        Err(message) => {
+            log::error(&format!("{message}: the default configuration is used"));
+            return ProjectConfig::default();
+        }
     };
     match parse_project_config(&text) {
         Ok((config, warnings)) => {
@@ -209,10 +209,15 @@ fn sampled_sources(spec: &ChartSpec, data: &DataContext) -> Vec<(PathBuf, ReadOp
         .chain(spec.layers.iter().filter_map(|layer| layer.source.as_ref()));
     let mut out: Vec<(PathBuf, ReadOptions)> = Vec::new();
     for source in sources {
-        let Some(Ok(profile)) = data.for_source(source) else {
-            continue;
+        let path = match data.for_source(source) {
+            Some(Ok(profile)) => profile.path.clone().filter(|_| profile.is_sample),
+            // a sample that held no whole row waits for the full profile too
+            Some(Err(error)) if error.kind == crate::data::DataErrorKind::SampleIncomplete => {
+                error.path.clone()
+            }
+            _ => None,
         };
-        let Some(path) = profile.path.clone().filter(|_| profile.is_sample) else {
+        let Some(path) = path else {
             continue;
         };
         let read = ReadOptions::for_source(source);
@@ -279,8 +284,8 @@ impl Backend {
             .and_then(Path::parent)
             .map(Path::to_path_buf)
             .or_else(|| session.workspace_root.clone())
-            .or_else(|| std::env::current_dir().ok())
-            .unwrap_or_default();
+            // an untitled document without a workspace has no folder: `/` reads nothing
+            .unwrap_or_else(|| PathBuf::from("/"));
         Snapshot {
             version: record.document.version,
             generation: record.document.generation,
@@ -466,25 +471,53 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         let version = snapshot.version;
         let generation = snapshot.generation;
         let cache = state.cache.clone();
+        ANALYSES_RUNNING.fetch_add(1, Ordering::SeqCst);
         let mut task = tokio::task::spawn_blocking(move || {
+            let _running = RunningAnalysis;
             catch_unwind(AssertUnwindSafe(|| {
                 analyse_snapshot(&snapshot, &cache, None)
             }))
         });
-        let joined = tokio::select! {
-            joined = &mut task => joined,
-            _ = tokio::time::sleep(PROGRESS_AFTER) => {
-                let file = uri
-                    .path_segments()
-                    .and_then(|mut segments| segments.next_back().map(str::to_string))
-                    .unwrap_or_default();
-                let token = begin_progress(&state, &format!("the data of {file}")).await;
-                let joined = task.await;
-                if let Some(token) = token {
-                    end_progress(&state, token).await;
+        // wait for the analysis, but let a newer text supersede it: a slow read (a network
+        // file system, a huge head) must not hold the document; the abandoned run finishes on
+        // its own and its result is dropped. Bounded: with many abandoned runs still going,
+        // the loop waits instead, so the blocking pool is never exhausted.
+        let started = tokio::time::Instant::now();
+        let mut token: Option<lsp::NumberOrString> = None;
+        let joined = loop {
+            tokio::select! {
+                joined = &mut task => break Some(joined),
+                _ = tokio::time::sleep(SUPERSEDE_POLL) => {
+                    let superseded = {
+                        let documents = lock(&state.documents);
+                        documents.get(&uri).is_none_or(|record| {
+                            record.analysis_loop != Some(loop_id)
+                                || record.document.generation != generation
+                        })
+                    };
+                    if superseded
+                        && ANALYSES_RUNNING.load(Ordering::SeqCst) <= MAX_ANALYSES_RUNNING
+                    {
+                        break None;
+                    }
+                    if token.is_none() && started.elapsed() >= PROGRESS_AFTER {
+                        let file = uri
+                            .path_segments()
+                            .and_then(|mut segments| segments.next_back().map(str::to_string))
+                            .unwrap_or_default();
+                        token = begin_progress(&state, &format!("the data of {file}")).await;
+                    }
                 }
-                joined
             }
+        };
+        if let Some(token) = token {
+            end_progress(&state, token).await;
+        }
+        let Some(joined) = joined else {
+            log::debug(&format!(
+                "the analysis of {uri} (version {version}) was superseded while it ran"
+            ));
+            continue;
         };
         let outcome = match joined {
             Ok(Ok(outcome)) => Arc::new(outcome),
@@ -518,13 +551,7 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
             let full_profiles_arrived = record.document.latest.as_ref().is_some_and(|previous| {
                 previous.pending_full_scans.len() > outcome.pending_full_scans.len()
             });
-            let diagnostics: Vec<lsp::Diagnostic> = outcome
-                .diagnostics
-                .iter()
-                .map(|diagnostic| {
-                    convert::to_lsp_diagnostic(diagnostic, &uri, &outcome.index, encoding)
-                })
-                .collect();
+            let diagnostics = published_diagnostics(&outcome, &uri, encoding);
             record.document.latest = Some(outcome);
             let to_publish = if record.published.as_ref() == Some(&diagnostics) {
                 None
@@ -561,6 +588,63 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
             return;
         }
     }
+}
+
+/// How often a waiting analysis loop looks for a newer text of its document.
+const SUPERSEDE_POLL: Duration = Duration::from_millis(25);
+
+/// Analyses running on the blocking pool (current and superseded ones).
+static ANALYSES_RUNNING: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+/// A loop stops abandoning superseded analyses while this many run (tokio's blocking pool has
+/// 512 threads by default, from memory; this keeps most of it free).
+const MAX_ANALYSES_RUNNING: usize = 64;
+
+/// Counts one running analysis; dropped when it ends (also on a panic).
+struct RunningAnalysis;
+
+impl Drop for RunningAnalysis {
+    fn drop(&mut self) {
+        ANALYSES_RUNNING.fetch_sub(1, Ordering::SeqCst);
+    }
+}
+
+/// At most this many diagnostics are published per document; past it one more says how many
+/// were left out. Editors slow down with tens of thousands of markers and nobody reads them;
+/// the number is common practice, no source.
+pub const MAX_PUBLISHED_DIAGNOSTICS: usize = 1000;
+
+/// The outcome's diagnostics converted for publishing, capped at
+/// [`MAX_PUBLISHED_DIAGNOSTICS`] (only the published ones are converted: linear in the cap).
+fn published_diagnostics(
+    outcome: &AnalysisOutcome,
+    uri: &lsp::Url,
+    encoding: PositionEncoding,
+) -> Vec<lsp::Diagnostic> {
+    let all = &outcome.diagnostics;
+    let mut published: Vec<lsp::Diagnostic> = all
+        .iter()
+        .take(MAX_PUBLISHED_DIAGNOSTICS)
+        .map(|diagnostic| convert::to_lsp_diagnostic(diagnostic, uri, &outcome.index, encoding))
+        .collect();
+    if let Some(first_hidden) = all.get(MAX_PUBLISHED_DIAGNOSTICS) {
+        let left_out = all.len() - MAX_PUBLISHED_DIAGNOSTICS;
+        let note = crate::diagnostic::Diagnostic::new(
+            first_hidden.rule,
+            crate::diagnostic::Severity::Info,
+            first_hidden.range,
+            format!(
+                "{left_out} more findings from here on are not shown (at most {MAX_PUBLISHED_DIAGNOSTICS} are published; `markwell check` lists them all)"
+            ),
+        );
+        published.push(convert::to_lsp_diagnostic(
+            &note,
+            uri,
+            &outcome.index,
+            encoding,
+        ));
+    }
+    published
 }
 
 /// Compute the full profile of `path` in the background (off the async workers), with
@@ -1155,7 +1239,7 @@ fn definition_location(
 ) -> Option<lsp::Location> {
     use std::io::Read;
     let (start, end) = target.byte_range;
-    let file = std::fs::File::open(&target.path).ok()?;
+    let (file, _) = crate::fsguard::open_regular(&target.path).ok()?;
     let mut head = Vec::new();
     file.take(end.saturating_add(4))
         .read_to_end(&mut head)

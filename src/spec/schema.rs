@@ -3,6 +3,7 @@
 //! nearest existing parent), so schema errors land on exact ranges. Unknown keys and invalid enum
 //! values get the closest valid name from the schema itself as a quick fix.
 
+use std::collections::HashMap;
 use std::sync::OnceLock;
 
 use jsonschema::error::{TypeKind, ValidationErrorKind};
@@ -219,8 +220,16 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
             ValidationErrorKind::AdditionalProperties { unexpected }
             | ValidationErrorKind::UnevaluatedProperties { unexpected } => {
                 let valid = keys_at_path(&path);
+                // one pass over the members (not a search per key: 20,000 unknown keys in one
+                // object were quadratic); the first of duplicate keys counts
+                let mut members: HashMap<String, crate::syntax::Member<'_>> = HashMap::new();
+                for member in node.members() {
+                    if let Some(key) = member.key_text() {
+                        members.entry(key.into_owned()).or_insert(member);
+                    }
+                }
                 for key in unexpected {
-                    let member = node.member(key);
+                    let member = members.get(key.as_str()).copied();
                     let range = member
                         .and_then(|member| member.key_range())
                         .unwrap_or(node.range());
@@ -233,10 +242,10 @@ pub fn check_schema(tree: &SyntaxTree) -> Vec<Diagnostic> {
                     // a word from elsewhere first, then a near spelling; never a key the
                     // object already has
                     let synonym = key_synonym(&path, key)
-                        .filter(|name| valid.contains(name) && node.member(name).is_none());
+                        .filter(|name| valid.contains(name) && !members.contains_key(*name));
                     let suggestion = synonym.or_else(|| {
                         closest_name(key, valid.iter().copied())
-                            .filter(|name| node.member(name).is_none())
+                            .filter(|name| !members.contains_key(*name))
                     });
                     if let Some(suggestion) = suggestion {
                         diagnostic.message = if synonym.is_some() {

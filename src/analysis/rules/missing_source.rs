@@ -31,7 +31,11 @@ pub fn is_absent(kind: DataErrorKind) -> bool {
         | DataErrorKind::BadPath
         | DataErrorKind::Remote
         | DataErrorKind::ChangedDuringScan
-        | DataErrorKind::Cancelled => true,
+        | DataErrorKind::Cancelled
+        | DataErrorKind::NotRegular
+        | DataErrorKind::TooLarge
+        | DataErrorKind::TimedOut
+        | DataErrorKind::SampleIncomplete => true,
         DataErrorKind::Binary
         | DataErrorKind::InvalidUtf8
         | DataErrorKind::Empty
@@ -110,12 +114,13 @@ pub fn location_range(source: &Source) -> crate::TextRange {
 
 /// A diagnostic for a data error under `rule`, pointing at the data file's line when it has one.
 pub fn error_diagnostic(rule: &'static str, source: &Source, error: &DataError) -> Diagnostic {
-    let mut diagnostic = Diagnostic::new(
-        rule,
-        Severity::Error,
-        location_range(source),
-        error.message.clone(),
-    );
+    // a sample without one whole row is no finding yet: the full profile follows
+    let severity = if error.kind == DataErrorKind::SampleIncomplete {
+        Severity::Info
+    } else {
+        Severity::Error
+    };
+    let mut diagnostic = Diagnostic::new(rule, severity, location_range(source), error.message.clone());
     if let (Some(path), Some(line)) = (error.path.as_ref(), error.line) {
         diagnostic.related.push(RelatedLocation {
             target: RelatedTarget::File {

@@ -1,0 +1,93 @@
+//! Hostile data files through the library: samples that cannot hold a row, wide files, long
+//! lines, binary and invalid UTF-8, files replaced during the scan. Each states its bound.
+
+use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
+
+use markwell::data::cache::SAMPLE_BYTES;
+use markwell::data::{DataErrorKind, ProfileCache, ReadOptions};
+
+fn write(dir: &Path, name: &str, bytes: &[u8]) -> PathBuf {
+    let path = dir.join(name);
+    std::fs::write(&path, bytes).unwrap_or_else(|error| panic!("{error}"));
+    path
+}
+
+#[test]
+fn a_sample_shorter_than_the_first_line_never_says_no_rows() {
+    // was: an NDJSON file whose first line is longer than the sample "holds no rows", and the
+    // full profile never replaced it. Bound: one 5 MiB line, profiled in full in < 30 s.
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let long = "x".repeat(SAMPLE_BYTES + (1 << 20));
+    let text = format!(
+        "{{\"crate\": \"{long}\", \"apples\": 1}}\n{{\"crate\": \"short\", \"apples\": 2}}\n"
+    );
+    let path = write(dir.path(), "orchard.ndjson", text.as_bytes());
+    let cache = ProfileCache::new();
+    let sample = cache.sample_profile(&path, &ReadOptions::default());
+    match sample {
+        Ok(profile) => assert!(profile.rows > 0, "a sample with rows {profile:?}"),
+        Err(error) => {
+            assert_eq!(
+                error.kind,
+                DataErrorKind::SampleIncomplete,
+                "{}",
+                error.message
+            );
+            assert!(!error.message.contains("no rows"), "{}", error.message);
+            assert!(error.message.contains("full profile"), "{}", error.message);
+        }
+    }
+    let started = Instant::now();
+    let full = cache
+        .full_profile(&path, &ReadOptions::default(), &|_| true)
+        .unwrap_or_else(|error| panic!("{}", error.message));
+    assert_eq!(full.rows, 2);
+    assert!(started.elapsed() < Duration::from_secs(30));
+    // and the sample now answers with the full profile
+    let again = cache
+        .sample_profile(&path, &ReadOptions::default())
+        .unwrap_or_else(|error| panic!("{}", error.message));
+    assert_eq!(again.rows, 2);
+    assert!(!again.is_sample);
+
+    // the same for a CSV whose header line is longer than the sample
+    let header = format!("orchard_{},apples", "y".repeat(SAMPLE_BYTES + 1024));
+    let path = write(
+        dir.path(),
+        "wide.csv",
+        format!("{header}\nnorth,3\n").as_bytes(),
+    );
+    let sample = cache.sample_profile(&path, &ReadOptions::default());
+    assert!(
+        matches!(&sample, Err(error) if error.kind == DataErrorKind::SampleIncomplete),
+        "{:?}",
+        sample.as_ref().err().map(|e| &e.message)
+    );
+}
+
+#[test]
+fn binary_and_invalid_utf8_are_clear_errors_or_profiles_never_panics() {
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let cache = ProfileCache::new();
+    let binary = write(
+        dir.path(),
+        "blob.csv",
+        &[0x89, b'P', b'N', b'G', 0, 0, 1, 2, 3],
+    );
+    let error = cache
+        .full_profile(&binary, &ReadOptions::default(), &|_| true)
+        .err()
+        .map(|error| error.kind);
+    assert_eq!(error, Some(DataErrorKind::Binary));
+    // invalid UTF-8 in a header and in cells: profiled (replacement characters) or refused
+    let bad = write(
+        dir.path(),
+        "bad.csv",
+        b"na\xffme,count\nqu\xfe\xffay,1\nmill,2\n",
+    );
+    match cache.full_profile(&bad, &ReadOptions::default(), &|_| true) {
+        Ok(profile) => assert_eq!(profile.rows, 2),
+        Err(error) => assert_eq!(error.kind, DataErrorKind::InvalidUtf8, "{}", error.message),
+    }
+}

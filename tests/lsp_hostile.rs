@@ -1,0 +1,180 @@
+//! Hostile input against `markwell serve` over stdio: containment without a workspace, FIFOs
+//! that must not block, caps on what is published, signals. Each test starts with the case that
+//! used to answer wrongly; every wait has the client's 20 s timeout, so a block fails the test.
+
+#[path = "support/lsp_client.rs"]
+mod lsp_client;
+
+use std::path::Path;
+use std::process::Command;
+use std::time::{Duration, Instant};
+
+use lsp_client::LspClient;
+use serde_json::json;
+
+fn start() -> LspClient {
+    LspClient::start(Path::new(env!("CARGO_BIN_EXE_markwell")), &[])
+}
+
+fn file_uri(path: &Path) -> String {
+    format!("file://{}", path.display())
+}
+
+fn spec_reading(path: &str) -> String {
+    format!(
+        r#"{{ "source": {{ "path": "{path}" }}, "mark": "bar", "bind": {{ "x": "a", "y": "b" }} }}"#
+    )
+}
+
+fn make_fifo(path: &Path) {
+    let status = Command::new("mkfifo")
+        .arg(path)
+        .status()
+        .unwrap_or_else(|error| panic!("mkfifo: {error}"));
+    assert!(status.success());
+}
+
+fn messages(diagnostics: &[serde_json::Value]) -> String {
+    diagnostics
+        .iter()
+        .map(|d| d["message"].as_str().unwrap_or_default().to_string())
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
+#[test]
+fn without_a_workspace_nothing_outside_the_folder_of_the_spec_is_read() {
+    // was: with no workspace folder `/etc/passwd` was read and its lines quoted in a message
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let mut client = start();
+    client.initialize(json!({}), None);
+    let uri = file_uri(&dir.path().join("alone.chart.json"));
+    for (version, path) in [
+        (1, "/etc/passwd"),
+        (2, "../../../../../../../../etc/passwd"),
+    ] {
+        if version == 1 {
+            client.open(&uri, &spec_reading(path), version);
+        } else {
+            client.change_full(&uri, version, &spec_reading(path));
+        }
+        let diagnostics = client.wait_for_publish(&uri, version);
+        let text = messages(&diagnostics);
+        assert!(!text.contains("root:x"), "{text}");
+        assert!(text.contains("outside the workspace"), "{text}");
+    }
+    // an untitled document with no workspace reads no file at all
+    client.open("untitled:Untitled-1", &spec_reading("data.csv"), 1);
+    let text = messages(&client.wait_for_publish("untitled:Untitled-1", 1));
+    assert!(text.contains("no workspace folder"), "{text}");
+    assert!(client.finish().success());
+}
+
+#[test]
+fn a_fifo_named_markwell_toml_does_not_stop_initialize() {
+    // was: `initialize` never answered
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    make_fifo(&dir.path().join("markwell.toml"));
+    let mut client = start();
+    let started = Instant::now();
+    let result = client.initialize(json!({}), Some(&file_uri(dir.path())));
+    assert_eq!(result["serverInfo"]["name"], "markwell");
+    assert!(started.elapsed() < Duration::from_secs(10));
+    assert!(
+        client.stderr_text().contains("FIFO") || {
+            std::thread::sleep(Duration::from_millis(200));
+            client.stderr_text().contains("FIFO")
+        }
+    );
+    assert!(client.finish().success());
+}
+
+#[test]
+fn a_fifo_data_path_gets_a_diagnostic_and_the_corrected_path_is_analysed() {
+    // was: the document never got diagnostics, not even after the path was corrected; 500
+    // such documents stopped the server (here 200 open at once, each answered)
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    make_fifo(&dir.path().join("pipe.csv"));
+    std::fs::write(dir.path().join("real.csv"), "a,b\nquay,3\nmill,5\n")
+        .unwrap_or_else(|error| panic!("{error}"));
+    let mut client = start();
+    client.initialize(json!({}), Some(&file_uri(dir.path())));
+    let uri = file_uri(&dir.path().join("piped.chart.json"));
+    client.open(&uri, &spec_reading("pipe.csv"), 1);
+    let text = messages(&client.wait_for_publish(&uri, 1));
+    assert!(text.contains("FIFO"), "{text}");
+    client.change_full(&uri, 2, &spec_reading("real.csv"));
+    let diagnostics = client.wait_for_publish(&uri, 2);
+    assert!(
+        diagnostics.iter().all(|d| d["code"] != "missing-source"),
+        "{diagnostics:#?}"
+    );
+    let many: Vec<String> = (0..200)
+        .map(|index| file_uri(&dir.path().join(format!("p{index}.chart.json"))))
+        .collect();
+    for uri in &many {
+        client.open(uri, &spec_reading("pipe.csv"), 1);
+    }
+    for uri in &many {
+        let text = messages(&client.wait_for_publish(uri, 1));
+        assert!(text.contains("FIFO"), "{text}");
+    }
+    // and the server still answers requests
+    let hover = client.request(
+        "textDocument/hover",
+        json!({
+            "textDocument": {"uri": uri}, "position": {"line": 0, "character": 5}
+        }),
+    );
+    assert!(hover.get("error").is_none(), "{hover}");
+    assert!(client.finish().success());
+}
+
+#[test]
+fn thousands_of_findings_are_published_with_a_cap_that_says_what_was_left_out() {
+    // was: 20,000 unknown keys took 3.5-4 s per keystroke and all were published
+    let mut text = String::from("{\"mark\": \"bar\"");
+    for index in 0..20_000 {
+        text.push_str(&format!(", \"unknown_{index:05}\": {index}"));
+    }
+    text.push('}');
+    let mut client = start();
+    client.initialize(json!({}), None);
+    client.open("untitled:many", &text, 1);
+    let diagnostics = client.wait_for_publish("untitled:many", 1);
+    assert_eq!(diagnostics.len(), 1001);
+    let last = diagnostics
+        .last()
+        .map(|d| d["message"].to_string())
+        .unwrap_or_default();
+    assert!(last.contains("19000 more findings"), "{last}");
+    assert!(client.finish().success());
+}
+
+#[test]
+fn sigterm_and_sigint_end_the_server_cleanly() {
+    for signal in ["TERM", "INT"] {
+        let mut client = start();
+        client.initialize(json!({}), None);
+        let status = Command::new("kill")
+            .args([&format!("-{signal}"), &client.pid().to_string()])
+            .status()
+            .unwrap_or_else(|error| panic!("kill: {error}"));
+        assert!(status.success());
+        // give the signal time to land before wait_exit closes stdin (which would end it too,
+        // but with exit code 1)
+        std::thread::sleep(Duration::from_millis(500));
+        let status = client.wait_exit();
+        assert_eq!(
+            status.code(),
+            Some(0),
+            "SIG{signal}: {}",
+            client.stderr_text()
+        );
+        assert!(
+            client.stderr_text().contains(&format!("SIG{signal}")),
+            "{}",
+            client.stderr_text()
+        );
+    }
+}
