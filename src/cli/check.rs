@@ -262,14 +262,18 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
             });
             continue;
         }
-        let (mut diagnostics, mut spec_outline) =
-            match checker.analyse(&path, &workspace_root, &text.text, text.encoding_diagnostics) {
-                Ok(result) => result,
-                Err(problems) => {
-                    config_problems = problems;
-                    break;
-                }
-            };
+        let (mut diagnostics, mut spec_outline) = match checker.analyse(
+            &path,
+            &workspace_root,
+            &text.text,
+            text.encoding_diagnostics,
+        ) {
+            Ok(result) => result,
+            Err(problems) => {
+                config_problems = problems;
+                break;
+            }
+        };
         let mut spec_text = text.text;
         if args.fix {
             let shown = path.display().to_string();

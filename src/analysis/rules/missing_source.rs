@@ -120,7 +120,12 @@ pub fn error_diagnostic(rule: &'static str, source: &Source, error: &DataError) 
     } else {
         Severity::Error
     };
-    let mut diagnostic = Diagnostic::new(rule, severity, location_range(source), error.message.clone());
+    let mut diagnostic = Diagnostic::new(
+        rule,
+        severity,
+        location_range(source),
+        error.message.clone(),
+    );
     if let (Some(path), Some(line)) = (error.path.as_ref(), error.line) {
         diagnostic.related.push(RelatedLocation {
             target: RelatedTarget::File {
