@@ -19,10 +19,10 @@
 //!   multi-byte UTF-8 sequence) → the start of that character;
 //! - a byte offset past the end → the end; a byte offset inside a character → its start.
 //!
-//! Open documents are kept in a `ropey::Rope` by the language server. Ropey's own line functions
-//! count Unicode line breaks too (its default `unicode_lines` feature), which LSP does not, so this
-//! module never uses them: [`LineIndex::from_rope`] walks the rope's text chunks and applies the LSP
-//! rule itself.
+//! Open documents are kept in a `ropey::Rope` by the language server. Ropey is built with only
+//! its `cr_lines` line breaks (LF, CR, CRLF: the LSP rule; its default `unicode_lines` would also
+//! count U+2028, NEL and others), so [`rope_char_range`] converts the positions of an incremental
+//! change on the rope itself in O(log n), without building a [`LineIndex`] per change.
 
 use std::sync::Arc;
 
@@ -268,6 +268,67 @@ impl LineIndex {
     }
 }
 
+/// The char range of `ropey::Rope` between two LSP positions, clamped like
+/// [`LineIndex::offset_of_position`] (a reversed pair is put in order). O(log n + 1) per position:
+/// many changes in one `didChange` cost no rebuilt index each.
+pub fn rope_char_range(
+    rope: &ropey::Rope,
+    start: LinePosition,
+    end: LinePosition,
+    encoding: PositionEncoding,
+) -> (usize, usize) {
+    let start = rope_char_of_position(rope, start, encoding);
+    let end = rope_char_of_position(rope, end, encoding);
+    (start.min(end), start.max(end))
+}
+
+fn rope_char_of_position(
+    rope: &ropey::Rope,
+    position: LinePosition,
+    encoding: PositionEncoding,
+) -> usize {
+    let line = position.line as usize;
+    if line >= rope.len_lines() {
+        return rope.len_chars();
+    }
+    let line_start = rope.line_to_char(line);
+    let mut content_end = if line + 1 < rope.len_lines() {
+        rope.line_to_char(line + 1)
+    } else {
+        rope.len_chars()
+    };
+    // the line's content ends before its break: LF, CRLF or CR
+    if content_end > line_start && rope.char(content_end - 1) == '\n' {
+        content_end -= 1;
+        if content_end > line_start && rope.char(content_end - 1) == '\r' {
+            content_end -= 1;
+        }
+    } else if content_end > line_start && rope.char(content_end - 1) == '\r' {
+        content_end -= 1;
+    }
+    let wanted = position.character as usize;
+    // past the content end clamps to it; inside a character snaps to its start (ropey's
+    // conversions return the char a unit or byte belongs to)
+    match encoding {
+        PositionEncoding::Utf16 => {
+            let target = rope.char_to_utf16_cu(line_start).saturating_add(wanted);
+            if target >= rope.char_to_utf16_cu(content_end) {
+                content_end
+            } else {
+                rope.utf16_cu_to_char(target)
+            }
+        }
+        PositionEncoding::Utf8 => {
+            let target = rope.char_to_byte(line_start).saturating_add(wanted);
+            if target >= rope.char_to_byte(content_end) {
+                content_end
+            } else {
+                rope.byte_to_char(target)
+            }
+        }
+    }
+}
+
 fn to_u32(value: usize) -> u32 {
     u32::try_from(value).unwrap_or(u32::MAX)
 }
@@ -307,14 +368,35 @@ mod tests {
     }
 
     #[test]
-    fn rope_index_ignores_ropeys_unicode_line_breaks() {
-        let text = "x\u{2028}y\r\nz";
+    fn rope_lines_follow_the_lsp_rule() {
+        let text = "x\u{2028}y\r\nz\rw";
         let rope = ropey::Rope::from_str(text);
-        // ropey (default features) counts U+2028 as a line break; LSP does not
+        // built with `cr_lines` only: U+2028 is no line break, LF, CR and CRLF are (LSP 3.17)
         assert_eq!(rope.len_lines(), 3);
         let index = LineIndex::from_rope(&rope);
-        assert_eq!(index.line_count(), 2);
+        assert_eq!(index.line_count(), 3);
         assert_eq!(index.text(), text);
+    }
+
+    #[test]
+    fn rope_positions_agree_with_the_line_index_everywhere() {
+        let text = "a\u{1F34F}b\r\n\u{e9}\u{2028}c\rd\n\nlast";
+        let rope = ropey::Rope::from_str(text);
+        let index = LineIndex::new(text);
+        for encoding in [Utf16, Utf8] {
+            for line in 0..8 {
+                for character in 0..12 {
+                    let position = pos(line, character);
+                    let (start, _) = rope_char_range(&rope, position, position, encoding);
+                    let expected = index.offset_of_position(position, encoding);
+                    assert_eq!(
+                        rope.char_to_byte(start),
+                        expected,
+                        "{encoding:?} {line}:{character}"
+                    );
+                }
+            }
+        }
     }
 
     #[test]
