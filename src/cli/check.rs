@@ -351,30 +351,22 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
     }
 
     let fail_on = args.fail_on.severity();
+    for error in &errors {
+        writeln!(
+            err,
+            "markwell: {}: {}",
+            super::report::printable(&error.path),
+            super::report::printable(&error.message)
+        )?;
+    }
     match args.format {
         OutputFormat::Report => {
-            for error in &errors {
-                writeln!(
-                    err,
-                    "markwell: {}: {}",
-                    super::report::printable(&error.path),
-                    super::report::printable(&error.message)
-                )?;
-            }
             out.write_all(&previews)?;
             if !checked.is_empty() {
                 write_report(out, &checked, fail_on, &palette)?;
             }
         }
         OutputFormat::Json | OutputFormat::Sarif => {
-            for error in &errors {
-                writeln!(
-                    err,
-                    "markwell: {}: {}",
-                    super::report::printable(&error.path),
-                    super::report::printable(&error.message)
-                )?;
-            }
             err.write_all(&previews)?;
             if args.format == OutputFormat::Json {
                 writeln!(out, "{}", render_json(&checked, &errors))?;
