@@ -9,6 +9,7 @@ pub mod cli;
 pub mod data;
 pub mod diagnostic;
 pub mod draw;
+pub mod eval;
 pub mod fsguard;
 pub mod knowledge;
 pub mod lsp;
