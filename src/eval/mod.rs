@@ -27,25 +27,11 @@ impl Default for EvalOptions {
     }
 }
 
-/// The rows of one source, delivered by the data layer (which does the IO).
-pub trait RowSource {
-    /// Column names in the source's order.
-    fn column_names(&self) -> Vec<String>;
-    /// Calls `row` once per row with the cells of the `wanted` columns (indexes into
-    /// `column_names`), `None` where the row lacks the cell; stops early when `row` returns false.
-    fn scan(
-        &mut self,
-        wanted: &[usize],
-        row: &mut dyn FnMut(&[Option<&str>]) -> bool,
-    ) -> Result<(), DataError>;
-    /// True when the rows are only a sampled head of the source.
-    fn is_sample(&self) -> bool {
-        false
-    }
-}
+pub use crate::data::rows::RowSource;
 
 /// Opens the rows a `source` names (the data layer implements it; tests use inline rows).
-pub type OpenRows<'a> = dyn FnMut(&Source) -> Result<Box<dyn RowSource + 'a>, DataError> + 'a;
+pub type OpenRows<'a> =
+    dyn FnMut(&Source) -> Result<Box<dyn RowSource + Send + 'a>, DataError> + 'a;
 
 /// Evaluate every layer of `spec` over its rows.
 pub fn evaluate_chart(
