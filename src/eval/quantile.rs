@@ -156,20 +156,16 @@ impl QuantileSketch {
             0.5
         };
         let rank = ((q * n as f64).ceil() as u64).clamp(1, n);
-        let allowed = (self.epsilon * n as f64).floor() as u64;
+        // the tuple whose rank interval lies closest around the asked rank: while the invariant
+        // holds, one lies within `εn` on both sides (the guarantee of GK 2001)
         let mut minimum_rank = 0u64;
         let mut best: Option<(u64, f64)> = None;
         for tuple in &self.tuples {
             minimum_rank += tuple.gap;
             let maximum_rank = minimum_rank + tuple.delta;
-            if rank.saturating_sub(minimum_rank) <= allowed
-                && maximum_rank.saturating_sub(rank) <= allowed
-            {
-                return Some(tuple.value);
-            }
-            // fall back to the tuple whose rank interval is nearest (never needed while the
-            // invariant holds)
-            let distance = rank.abs_diff(minimum_rank).max(rank.abs_diff(maximum_rank));
+            let distance = rank
+                .saturating_sub(minimum_rank)
+                .max(maximum_rank.saturating_sub(rank));
             if best.is_none_or(|(nearest, _)| distance < nearest) {
                 best = Some((distance, tuple.value));
             }
