@@ -1,8 +1,9 @@
-//! The command-line front end: `markwell check`, `profile`, `rules`, `explain`, `sources`,
-//! `serve`.
+//! The command-line front end: `markwell check`, `draw`, `profile`, `rules`, `explain`,
+//! `sources`, `serve`.
 //! A thin shell: it finds files, reads them, calls the analysis and prints.
 
 mod check;
+mod draw;
 mod fix;
 mod profile;
 mod render;
@@ -70,6 +71,8 @@ impl FailOn {
 enum Command {
     /// Check chart specs (files, or folders searched for `*.chart.json`).
     Check(check::CheckArgs),
+    /// Draw chart specs as pictures (SVG or PNG), one per spec, into an output folder.
+    Draw(draw::DrawArgs),
     /// Profile data files: kinds, missing values, distinct counts, ranges, histograms.
     Profile(profile::ProfileArgs),
     /// List the rules.
@@ -167,6 +170,7 @@ where
     };
     let code = match cli.command {
         Command::Check(args) => check::run(&args, out, err)?,
+        Command::Draw(args) => draw::run(&args, out, err)?,
         Command::Profile(args) => profile::run(&args, out, err)?,
         Command::Rules => list_rules(out)?,
         Command::Explain { id } => explain(&id, out, err)?,
