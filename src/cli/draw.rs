@@ -339,17 +339,11 @@ fn write_inside(root: &Path, target: &Path, bytes: &[u8]) -> Result<(), String> 
         })
 }
 
-/// The rows of a source, for the evaluation.
+/// The rows of a source, for the evaluation: every row (not the sampled head), read with the
+/// containment of `check`.
 fn rows_for(
     source: &crate::spec::model::Source,
     options: &ResolveOptions,
-) -> Result<Box<dyn crate::eval::RowSource>, crate::data::DataError> {
-    let _ = (source, options);
-    Err(crate::data::DataError {
-        kind: crate::data::DataErrorKind::BadPath,
-        message: "reading rows for drawing arrives with the evaluation".to_string(),
-        path: None,
-        line: None,
-        byte_offset: None,
-    })
+) -> Result<Box<dyn crate::eval::RowSource + Send>, crate::data::DataError> {
+    crate::data::rows::open_rows(source, options, false)
 }

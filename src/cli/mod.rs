@@ -1,10 +1,11 @@
-//! The command-line front end: `markwell check`, `draw`, `profile`, `rules`, `explain`,
+//! The command-line front end: `markwell check`, `draw`, `profile`, `format`, `rules`, `explain`,
 //! `sources`, `serve`.
 //! A thin shell: it finds files, reads them, calls the analysis and prints.
 
 mod check;
 mod draw;
 mod fix;
+mod format;
 mod profile;
 mod render;
 mod report;
@@ -84,6 +85,8 @@ enum Command {
     },
     /// Where the numbers come from, and which tables are not yet checked against their source.
     Sources,
+    /// Lay out spec files the one way (two-space indent, key order kept unless asked).
+    Format(format::FormatArgs),
     /// Run the language server over stdin/stdout (LSP).
     Serve,
 }
@@ -172,6 +175,7 @@ where
         Command::Check(args) => check::run(&args, out, err)?,
         Command::Draw(args) => draw::run(&args, out, err)?,
         Command::Profile(args) => profile::run(&args, out, err)?,
+        Command::Format(args) => format::run(&args, out, err)?,
         Command::Rules => list_rules(out)?,
         Command::Explain { id } => explain(&id, out, err)?,
         Command::Sources => {
