@@ -1524,6 +1524,20 @@ fn axis_primitives(axis: &AxisLayout, panel: &PanelLayout) -> Vec<Node> {
             }
         }
         AxisSide::Left => {
+            // a quiet spine the height of the plot, in the grid's colour
+            nodes.push(plain(
+                Shape::Line {
+                    from: Point {
+                        x: panel.plot.x,
+                        y: panel.plot.y,
+                    },
+                    to: Point {
+                        x: panel.plot.x,
+                        y: panel.plot.bottom(),
+                    },
+                },
+                Paint::stroke(GRID_COLOUR, 1.0),
+            ));
             for tick in &axis.ticks {
                 nodes.push(plain(
                     Shape::Line {

@@ -9,9 +9,10 @@ pub struct ReadAxis {
     pub vertical: bool,
     /// (pixel along the axis, label text)
     pub ticks: Vec<(f64, String)>,
-    /// The extent of the axis line or tick span, and the boxes of the labels (approximate:
-    /// anchor points only).
+    /// The anchor points of the labels: (x, y, text).
     pub labels_at: Vec<(f64, f64, String)>,
+    /// The pixel extent of the axis line along the axis.
+    pub extent: Option<(f64, f64)>,
 }
 
 impl ReadAxis {
@@ -76,6 +77,15 @@ pub fn read_chart(svg: &str) -> Result<ReadChart, String> {
         let label = group.attribute("aria-label").unwrap_or("");
         if class == "axis" {
             let vertical = label.starts_with("y axis");
+            let extent = group
+                .children()
+                .filter(|node| node.has_tag_name("line"))
+                .find_map(|line| {
+                    let (x1, y1) = (attribute(line, "x1")?, attribute(line, "y1")?);
+                    let (x2, y2) = (attribute(line, "x2")?, attribute(line, "y2")?);
+                    let (from, to) = if vertical { (y1, y2) } else { (x1, x2) };
+                    ((to - from).abs() > 10.0).then_some((from.min(to), from.max(to)))
+                });
             let lines: Vec<f64> = group
                 .children()
                 .filter(|node| node.has_tag_name("line"))
@@ -116,6 +126,7 @@ pub fn read_chart(svg: &str) -> Result<ReadChart, String> {
                 vertical,
                 ticks,
                 labels_at,
+                extent,
             });
         } else if class.starts_with("layer") {
             let bars = class == "layer bar";
