@@ -1,8 +1,9 @@
-//! The command-line front end: `markwell check`, `profile`, `format`, `rules`, `explain`,
+//! The command-line front end: `markwell check`, `draw`, `profile`, `format`, `rules`, `explain`,
 //! `sources`, `serve`.
 //! A thin shell: it finds files, reads them, calls the analysis and prints.
 
 mod check;
+mod draw;
 mod fix;
 mod format;
 mod profile;
@@ -71,6 +72,8 @@ impl FailOn {
 enum Command {
     /// Check chart specs (files, or folders searched for `*.chart.json`).
     Check(check::CheckArgs),
+    /// Draw chart specs as pictures (SVG or PNG), one per spec, into an output folder.
+    Draw(draw::DrawArgs),
     /// Profile data files: kinds, missing values, distinct counts, ranges, histograms.
     Profile(profile::ProfileArgs),
     /// List the rules.
@@ -170,6 +173,7 @@ where
     };
     let code = match cli.command {
         Command::Check(args) => check::run(&args, out, err)?,
+        Command::Draw(args) => draw::run(&args, out, err)?,
         Command::Profile(args) => profile::run(&args, out, err)?,
         Command::Format(args) => format::run(&args, out, err)?,
         Command::Rules => list_rules(out)?,
