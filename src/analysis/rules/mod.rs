@@ -24,6 +24,7 @@ mod palette_too_short;
 mod palette_too_similar;
 pub mod part_to_whole_invalid;
 mod ramp_not_monotonic;
+mod rows_share_a_mark;
 mod sparse_column;
 mod stacked_comparison;
 mod summary_on_categorical;
@@ -206,6 +207,7 @@ pub fn registry() -> &'static [Rule] {
         ordered_channel_for_categories::RULE,
         connected_unordered::RULE,
         part_to_whole_invalid::RULE,
+        rows_share_a_mark::RULE,
         magnitude_of_interval::RULE,
         log_of_nonpositive::RULE,
         negative_area::RULE,
