@@ -178,6 +178,62 @@ pub fn drawn_reaches(
     Some(stacks)
 }
 
+/// What [`drawn_min`] measures of each mark.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Measure {
+    /// The value on the channel (for stacked layers the end of the segment).
+    Values,
+    /// The size of each mark's part: for stacked layers the segment's end minus its start.
+    Parts,
+}
+
+/// The smallest number drawn on `channel` (with where), when the layer was evaluated and drew
+/// some; marks not kept (a density grid) leave it to the profile.
+pub fn drawn_min(
+    layer: &LayerFacts<'_>,
+    channel: Channel,
+    measure: Measure,
+    panel_labels: &[Option<String>],
+) -> Option<DrawnReach> {
+    let drawn = layer.drawn.filter(|drawn| drawn.density.is_none())?;
+    let index = drawn.channel_index(channel)?;
+    let placing = placing_indexes(drawn, channel);
+    let mut smallest: Option<(f64, &DrawnMark)> = None;
+    for mark in &drawn.marks {
+        let Some(end) = mark.values.get(index).and_then(Datum::as_f64) else {
+            continue;
+        };
+        let value = match measure {
+            Measure::Values => end,
+            Measure::Parts => end - mark.stack_start.unwrap_or(0.0),
+        };
+        if value.is_finite() && smallest.is_none_or(|(known, _)| value < known) {
+            smallest = Some((value, mark));
+        }
+    }
+    let (value, mark) = smallest?;
+    Some(DrawnReach {
+        value,
+        place: place_of(mark, &placing, panel_labels),
+        rows: mark.rows,
+    })
+}
+
+/// " (at `Quayside`)" or " (at `Quayside`, in the sampled head of the data)" for a drawn value
+/// named in a message; empty when there is nothing to say.
+pub fn drawn_place(layer: &LayerFacts<'_>, reach: &DrawnReach) -> String {
+    let sample = layer
+        .drawn_from_sample
+        .then_some("in the sampled head of the data");
+    let place = reach.place.as_ref().map(|place| format!("at `{place}`"));
+    match (place, sample) {
+        (Some(place), Some(sample)) => format!(" ({place}, {sample})"),
+        (Some(place), None) => format!(" ({place})"),
+        (None, Some(sample)) => format!(" ({sample})"),
+        (None, None) => String::new(),
+    }
+}
+
 /// Positions where several rows are drawn on one mark, or several marks on one position.
 #[derive(Clone, Debug, PartialEq)]
 pub struct SharedPositions {
