@@ -343,6 +343,49 @@ fn describe_config_refusal(refusal: &Refusal) -> String {
     }
 }
 
+/// Replace the file at `path` with `contents` so that a reader (or a crash) sees either the old
+/// or the new file, never half of one: the bytes go to a temporary file beside it, which is
+/// flushed to disk and renamed over the original; the original's permissions are kept.
+pub fn write_atomically(path: &Path, contents: &[u8]) -> std::io::Result<()> {
+    use std::io::Write as _;
+    let folder = match path.parent() {
+        Some(folder) if !folder.as_os_str().is_empty() => folder.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let name = path
+        .file_name()
+        .map(|name| name.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "spec".to_string());
+    let permissions = std::fs::metadata(path).ok().map(|m| m.permissions());
+    let mut attempt = 0u32;
+    let (temporary, mut file) = loop {
+        let candidate = folder.join(format!(".{name}.markwell-{}-{attempt}", std::process::id()));
+        match std::fs::OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&candidate)
+        {
+            Ok(file) => break (candidate, file),
+            Err(error) if error.kind() == std::io::ErrorKind::AlreadyExists && attempt < 100 => {
+                attempt += 1;
+            }
+            Err(error) => return Err(error),
+        }
+    };
+    let written = file
+        .write_all(contents)
+        .and_then(|()| file.sync_all())
+        .and_then(|()| match permissions {
+            Some(permissions) => std::fs::set_permissions(&temporary, permissions),
+            None => Ok(()),
+        })
+        .and_then(|()| std::fs::rename(&temporary, path));
+    if written.is_err() {
+        let _ = std::fs::remove_file(&temporary);
+    }
+    written
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

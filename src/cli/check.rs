@@ -292,7 +292,7 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
                     let written = if args.preview {
                         false
                     } else {
-                        match std::fs::write(&path, &new_text) {
+                        match crate::fsguard::write_atomically(&path, new_text.as_bytes()) {
                             Ok(()) => true,
                             Err(error) => {
                                 errors.push(RunError {

@@ -1,9 +1,10 @@
-//! The command-line front end: `markwell check`, `profile`, `rules`, `explain`, `sources`,
-//! `serve`.
+//! The command-line front end: `markwell check`, `profile`, `format`, `rules`, `explain`,
+//! `sources`, `serve`.
 //! A thin shell: it finds files, reads them, calls the analysis and prints.
 
 mod check;
 mod fix;
+mod format;
 mod profile;
 mod render;
 mod report;
@@ -81,6 +82,8 @@ enum Command {
     },
     /// Where the numbers come from, and which tables are not yet checked against their source.
     Sources,
+    /// Lay out spec files the one way (two-space indent, key order kept unless asked).
+    Format(format::FormatArgs),
     /// Run the language server over stdin/stdout (LSP).
     Serve,
 }
@@ -168,6 +171,7 @@ where
     let code = match cli.command {
         Command::Check(args) => check::run(&args, out, err)?,
         Command::Profile(args) => profile::run(&args, out, err)?,
+        Command::Format(args) => format::run(&args, out, err)?,
         Command::Rules => list_rules(out)?,
         Command::Explain { id } => explain(&id, out, err)?,
         Command::Sources => {
