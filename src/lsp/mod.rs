@@ -17,6 +17,7 @@ pub mod framing;
 pub mod log;
 pub mod server;
 pub mod settings;
+pub mod structure;
 
 use std::pin::Pin;
 use std::process::ExitCode;

@@ -44,6 +44,7 @@ use crate::lsp::documents::{next_generation, AnalysisOutcome, OpenDocument, Text
 use crate::lsp::features;
 use crate::lsp::log;
 use crate::lsp::settings::{merge_settings, parse_editor_settings, EditorSettings};
+use crate::lsp::structure;
 use crate::positions::{LineIndex, PositionEncoding};
 use crate::spec::model::ChartSpec;
 use crate::text_range::TextRange;
@@ -99,6 +100,9 @@ struct Session {
     supports_configuration_request: bool,
     supports_watched_files_registration: bool,
     supports_inlay_hint_refresh: bool,
+    /// The client pulls diagnostics (`textDocument/diagnostic`) instead of being sent them.
+    pull_diagnostics: bool,
+    supports_diagnostic_refresh: bool,
     /// The configuration from files (`markwell.toml`), before editor settings.
     file_config: AnalysisConfig,
     /// `[data] allow-outside-workspace` of `markwell.toml`.
@@ -594,10 +598,31 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         };
         // still the loop's turn: no other loop publishes for this document meanwhile
         if let Some(diagnostics) = to_publish {
-            state
-                .client
-                .publish_diagnostics(uri.clone(), diagnostics, Some(version))
+            let (pull, refresh) = {
+                let session = lock(&state.session);
+                (
+                    session.pull_diagnostics,
+                    session.supports_diagnostic_refresh,
+                )
+            };
+            if !pull {
+                state
+                    .client
+                    .publish_diagnostics(uri.clone(), diagnostics, Some(version))
+                    .await;
+            } else if refresh {
+                // the client pulls; tell it the answer changed (data or settings, not only text)
+                let refreshed = tokio::time::timeout(
+                    CLIENT_ANSWER_TIMEOUT,
+                    state.client.workspace_diagnostic_refresh(),
+                )
                 .await;
+                if !matches!(refreshed, Ok(Ok(()))) {
+                    log::info(
+                        "workspace/diagnostic/refresh: no answer or an error from the client",
+                    );
+                }
+            }
         }
         for (path, read) in pending_full_scans {
             start_full_scan(state.clone(), path, read);
@@ -642,6 +667,9 @@ impl Drop for RunningAnalysis {
         ANALYSES_RUNNING.fetch_sub(1, Ordering::SeqCst);
     }
 }
+
+/// How long a pull for diagnostics waits for the running analysis of the current text.
+const PULL_WAIT: Duration = Duration::from_secs(10);
 
 /// At most this many diagnostics are published per document; past it one more says how many
 /// were left out. Editors slow down with tens of thousands of markers and nobody reads them;
@@ -920,7 +948,10 @@ async fn end_progress(state: &ServerState, token: lsp::NumberOrString) {
         .await;
 }
 
-fn server_capabilities(encoding: PositionEncoding) -> lsp::ServerCapabilities {
+fn server_capabilities(
+    encoding: PositionEncoding,
+    pull_diagnostics: bool,
+) -> lsp::ServerCapabilities {
     lsp::ServerCapabilities {
         position_encoding: Some(lsp::PositionEncodingKind::new(encoding.as_lsp_str())),
         text_document_sync: Some(lsp::TextDocumentSyncCapability::Options(
@@ -951,6 +982,33 @@ fn server_capabilities(encoding: PositionEncoding) -> lsp::ServerCapabilities {
         color_provider: Some(lsp::ColorProviderCapability::Simple(true)),
         inlay_hint_provider: Some(lsp::OneOf::Left(true)),
         definition_provider: Some(lsp::OneOf::Left(true)),
+        document_formatting_provider: Some(lsp::OneOf::Left(true)),
+        document_range_formatting_provider: Some(lsp::OneOf::Left(true)),
+        folding_range_provider: Some(lsp::FoldingRangeProviderCapability::Simple(true)),
+        selection_range_provider: Some(lsp::SelectionRangeProviderCapability::Simple(true)),
+        document_link_provider: Some(lsp::DocumentLinkOptions {
+            resolve_provider: Some(false),
+            work_done_progress_options: lsp::WorkDoneProgressOptions::default(),
+        }),
+        semantic_tokens_provider: Some(
+            lsp::SemanticTokensServerCapabilities::SemanticTokensOptions(
+                lsp::SemanticTokensOptions {
+                    work_done_progress_options: lsp::WorkDoneProgressOptions::default(),
+                    legend: convert::semantic_tokens_legend(),
+                    range: None,
+                    full: Some(lsp::SemanticTokensFullOptions::Bool(true)),
+                },
+            ),
+        ),
+        // pull diagnostics only for clients that ask for them; the others get them pushed
+        diagnostic_provider: pull_diagnostics.then(|| {
+            lsp::DiagnosticServerCapabilities::Options(lsp::DiagnosticOptions {
+                identifier: Some("markwell".to_string()),
+                inter_file_dependencies: true,
+                workspace_diagnostics: false,
+                work_done_progress_options: lsp::WorkDoneProgressOptions::default(),
+            })
+        }),
         ..lsp::ServerCapabilities::default()
     }
 }
@@ -1005,6 +1063,15 @@ impl LanguageServer for Backend {
                 .and_then(|workspace| workspace.inlay_hint.as_ref())
                 .and_then(|inlay| inlay.refresh_support)
                 .unwrap_or(false);
+            session.pull_diagnostics = capabilities
+                .text_document
+                .as_ref()
+                .and_then(|text_document| text_document.diagnostic.as_ref())
+                .is_some();
+            session.supports_diagnostic_refresh = workspace
+                .and_then(|workspace| workspace.diagnostic.as_ref())
+                .and_then(|diagnostic| diagnostic.refresh_support)
+                .unwrap_or(false);
             session.supports_watched_files_registration = workspace
                 .and_then(|workspace| workspace.did_change_watched_files.as_ref())
                 .and_then(|watched| watched.dynamic_registration)
@@ -1022,7 +1089,7 @@ impl LanguageServer for Backend {
                 session.workspace_root
             ));
             lsp::InitializeResult {
-                capabilities: server_capabilities(encoding),
+                capabilities: server_capabilities(encoding, session.pull_diagnostics),
                 server_info: Some(lsp::ServerInfo {
                     name: "markwell".to_string(),
                     version: Some(env!("CARGO_PKG_VERSION").to_string()),
@@ -1376,6 +1443,208 @@ impl LanguageServer for Backend {
             .ok()
             .flatten();
         Ok(location.map(lsp::GotoDefinitionResponse::Scalar))
+    }
+
+    async fn formatting(
+        &self,
+        params: lsp::DocumentFormattingParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::TextEdit>>> {
+        self.format_edits(&params.text_document.uri, None).await
+    }
+
+    async fn range_formatting(
+        &self,
+        params: lsp::DocumentRangeFormattingParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::TextEdit>>> {
+        self.format_edits(&params.text_document.uri, Some(params.range))
+            .await
+    }
+
+    async fn folding_range(
+        &self,
+        params: lsp::FoldingRangeParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::FoldingRange>>> {
+        let Some(outcome) = self.current_outcome(&params.text_document.uri).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        guarded("textDocument/foldingRange", || {
+            let ranges = structure::folding_ranges(&outcome.parsed.tree);
+            Some(convert::to_folding_ranges(
+                &outcome.index,
+                &ranges,
+                encoding,
+            ))
+        })
+    }
+
+    async fn selection_range(
+        &self,
+        params: lsp::SelectionRangeParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::SelectionRange>>> {
+        let Some(outcome) = self.current_outcome(&params.text_document.uri).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        guarded("textDocument/selectionRange", || {
+            let offsets: Vec<usize> = params
+                .positions
+                .iter()
+                .map(|position| {
+                    outcome
+                        .index
+                        .offset_of_position(from_lsp_position(*position), encoding)
+                })
+                .collect();
+            let chains = structure::selection_ranges(&outcome.parsed.tree, &offsets);
+            chains
+                .iter()
+                .map(|chain| convert::to_selection_range(&outcome.index, chain, encoding))
+                .collect::<Option<Vec<_>>>()
+        })
+    }
+
+    async fn document_link(
+        &self,
+        params: lsp::DocumentLinkParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::DocumentLink>>> {
+        let uri = params.text_document.uri;
+        let Some(outcome) = self.current_outcome(&uri).await else {
+            return Ok(None);
+        };
+        let resolve = {
+            let documents = lock(&self.state.documents);
+            let Some(record) = documents.get(&uri) else {
+                return Ok(None);
+            };
+            Self::snapshot_of(&self.state, &uri, record).resolve
+        };
+        let encoding = self.encoding();
+        // resolving paths touches the file system: off the async workers
+        let links = tokio::task::spawn_blocking(move || {
+            catch_unwind(AssertUnwindSafe(|| {
+                let links =
+                    structure::document_links(&outcome.parsed.tree, &outcome.parsed.spec, &resolve);
+                convert::to_document_links(&outcome.index, &links, encoding)
+            }))
+            .ok()
+        })
+        .await
+        .ok()
+        .flatten();
+        Ok(links)
+    }
+
+    async fn semantic_tokens_full(
+        &self,
+        params: lsp::SemanticTokensParams,
+    ) -> jsonrpc::Result<Option<lsp::SemanticTokensResult>> {
+        let Some(outcome) = self.current_outcome(&params.text_document.uri).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        guarded("textDocument/semanticTokens/full", || {
+            let tokens = structure::semantic_tokens(&outcome.parsed.spec);
+            Some(lsp::SemanticTokensResult::Tokens(lsp::SemanticTokens {
+                result_id: None,
+                data: convert::to_semantic_tokens(&outcome.index, &tokens, encoding),
+            }))
+        })
+    }
+
+    async fn diagnostic(
+        &self,
+        params: lsp::DocumentDiagnosticParams,
+    ) -> jsonrpc::Result<lsp::DocumentDiagnosticReportResult> {
+        let uri = params.text_document.uri;
+        let encoding = self.encoding();
+        // the analysis loop reads the data; answer with its result for the current text once it
+        // is there (a fresh analysis without the data would report what the data would refute)
+        let deadline = tokio::time::Instant::now() + PULL_WAIT;
+        loop {
+            let ready = {
+                let documents = lock(&self.state.documents);
+                documents
+                    .get(&uri)
+                    .is_none_or(|record| record.document.current_analysis().is_some())
+            };
+            if ready || tokio::time::Instant::now() >= deadline {
+                break;
+            }
+            tokio::time::sleep(Duration::from_millis(5)).await;
+        }
+        let report = match self.current_outcome(&uri).await {
+            Some(outcome) => {
+                let items = guarded("textDocument/diagnostic", || {
+                    published_diagnostics(&outcome, &uri, encoding)
+                })?;
+                // the id names the answer itself: data or settings can change it without a new text
+                let result_id = {
+                    use std::hash::{Hash, Hasher};
+                    let mut hasher = std::collections::hash_map::DefaultHasher::new();
+                    serde_json::to_string(&items)
+                        .unwrap_or_default()
+                        .hash(&mut hasher);
+                    format!("{:016x}", hasher.finish())
+                };
+                if params.previous_result_id.as_deref() == Some(result_id.as_str()) {
+                    lsp::DocumentDiagnosticReport::Unchanged(
+                        lsp::RelatedUnchangedDocumentDiagnosticReport {
+                            related_documents: None,
+                            unchanged_document_diagnostic_report:
+                                lsp::UnchangedDocumentDiagnosticReport { result_id },
+                        },
+                    )
+                } else {
+                    lsp::DocumentDiagnosticReport::Full(lsp::RelatedFullDocumentDiagnosticReport {
+                        related_documents: None,
+                        full_document_diagnostic_report: lsp::FullDocumentDiagnosticReport {
+                            result_id: Some(result_id),
+                            items,
+                        },
+                    })
+                }
+            }
+            // not open (or not a spec): nothing to report
+            None => lsp::DocumentDiagnosticReport::Full(lsp::RelatedFullDocumentDiagnosticReport {
+                related_documents: None,
+                full_document_diagnostic_report: lsp::FullDocumentDiagnosticReport {
+                    result_id: None,
+                    items: Vec::new(),
+                },
+            }),
+        };
+        Ok(lsp::DocumentDiagnosticReportResult::Report(report))
+    }
+}
+
+impl Backend {
+    /// Formatting edits for the current text of `uri` (whitespace only; nothing when the text
+    /// has syntax errors, so a half-typed document is never touched).
+    async fn format_edits(
+        &self,
+        uri: &lsp::Url,
+        range: Option<lsp::Range>,
+    ) -> jsonrpc::Result<Option<Vec<lsp::TextEdit>>> {
+        let Some(outcome) = self.current_outcome(uri).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        guarded("textDocument/formatting", || {
+            let byte_range =
+                range.map(|range| convert::from_lsp_range(&outcome.index, range, encoding));
+            match crate::syntax::format::format_edits(
+                &outcome.parsed.tree,
+                &crate::syntax::format::FormatOptions::default(),
+                byte_range,
+            ) {
+                Ok(edits) => Some(convert::to_text_edits(&outcome.index, &edits, encoding)),
+                Err(refusal) => {
+                    log::info(&format!("formatting {uri}: {}", refusal.message()));
+                    None
+                }
+            }
+        })
     }
 }
 
