@@ -146,29 +146,12 @@ pub fn evaluate_exactly(
     spec: &crate::spec::model::ChartSpec,
     options: &ResolveOptions,
 ) -> Option<crate::eval::EvaluatedChart> {
-    let mut open = |source: &crate::spec::model::Source| open_rows_exactly(source, options);
+    let mut open =
+        |source: &crate::spec::model::Source| crate::data::rows::open_rows(source, options, false);
     std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
         crate::eval::evaluate_chart(spec, &mut open, &crate::eval::EvalOptions::default())
     }))
     .ok()
-}
-
-/// Until the data layer's row reader is merged, no rows are opened: the evaluation notes it
-/// and the rules fall back to the profiles.
-fn open_rows_exactly(
-    source: &crate::spec::model::Source,
-    _options: &ResolveOptions,
-) -> Result<Box<dyn crate::eval::RowSource>, crate::data::DataError> {
-    Err(crate::data::DataError {
-        kind: crate::data::DataErrorKind::Io,
-        message: "rows cannot be read for the evaluation yet".to_string(),
-        path: match &source.location {
-            crate::spec::model::SourceLocation::Path(path) => Some(PathBuf::from(&path.value)),
-            _ => None,
-        },
-        line: None,
-        byte_offset: None,
-    })
 }
 
 pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Result<u8> {

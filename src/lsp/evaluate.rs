@@ -45,8 +45,8 @@ fn evaluate_with(
     sampled: bool,
     still_current: Option<StillCurrent>,
 ) -> Option<EvaluatedChart> {
-    let mut open = |source: &Source| -> Result<Box<dyn RowSource>, DataError> {
-        let rows = open_rows(source, resolve, sampled)?;
+    let mut open = |source: &Source| -> Result<Box<dyn RowSource + Send>, DataError> {
+        let rows = crate::data::rows::open_rows(source, resolve, sampled)?;
         Ok(match &still_current {
             Some(still_current) => Box::new(StopWhenSuperseded {
                 inner: rows,
@@ -61,25 +61,9 @@ fn evaluate_with(
     .ok()
 }
 
-/// Until the data layer's row reader is merged, no rows are opened: the evaluation notes it and
-/// the rules fall back to the profiles.
-fn open_rows(
-    _source: &Source,
-    _resolve: &ResolveOptions,
-    _sampled: bool,
-) -> Result<Box<dyn RowSource>, DataError> {
-    Err(DataError {
-        kind: DataErrorKind::Io,
-        message: "rows cannot be read for the evaluation yet".to_string(),
-        path: None,
-        line: None,
-        byte_offset: None,
-    })
-}
-
 /// Rows that stop being delivered once the text they are evaluated for is superseded.
 struct StopWhenSuperseded {
-    inner: Box<dyn RowSource>,
+    inner: Box<dyn RowSource + Send>,
     still_current: StillCurrent,
 }
 

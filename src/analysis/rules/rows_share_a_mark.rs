@@ -78,9 +78,14 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                         .most_rows_place
                         .map(|place| format!(" at `{place}`"))
                         .unwrap_or_default();
+                    let which = if drawn.shared == drawn.positions {
+                        format!("all {} {many}", drawn.positions)
+                    } else {
+                        format!("{} of the {} {many}", drawn.shared, drawn.positions)
+                    };
                     format!(
-                        "{} of the {} {many}{sample} stand for more than one row (up to {} rows{place})",
-                        drawn.shared, drawn.positions, drawn.most_rows
+                        "{which}{sample} stand for more than one row (up to {} rows{place})",
+                        drawn.most_rows
                     )
                 }
             }
