@@ -5,7 +5,7 @@
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-use markwell::analysis::{analyze, parse_document, AnalysisConfig};
+use markwell::analysis::{analyze_with_evaluation, parse_document, AnalysisConfig};
 use markwell::data::{ProfileCache, ResolveOptions};
 use markwell::diagnostic::{Diagnostic, Severity};
 
@@ -24,7 +24,13 @@ fn diagnostics_for(text: &str, spec_path: &Path, cache: &ProfileCache) -> Vec<Di
         allow_outside_workspace: false,
     };
     let data = cache.load_for_spec(&document.spec, &options);
-    analyze(&document, &data, &AnalysisConfig::default())
+    let evaluation = evaluated(&document.spec, &options);
+    analyze_with_evaluation(
+        &document,
+        &data,
+        &AnalysisConfig::default(),
+        Some(&evaluation),
+    )
 }
 
 fn errors_by_rule(diagnostics: &[Diagnostic]) -> BTreeMap<&'static str, usize> {
@@ -159,4 +165,15 @@ fn rows_share_a_mark_fixes_add_a_sum_or_a_mean_and_the_finding_goes() {
             );
         }
     }
+}
+
+/// What `markwell check` gives the rules: the chart evaluated over all of its rows.
+fn evaluated(
+    spec: &markwell::spec::model::ChartSpec,
+    options: &ResolveOptions,
+) -> markwell::eval::EvaluatedChart {
+    let mut open = |source: &markwell::spec::model::Source| {
+        markwell::data::rows::open_rows(source, options, false)
+    };
+    markwell::eval::evaluate_chart(spec, &mut open, &markwell::eval::EvalOptions::default())
 }
