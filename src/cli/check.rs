@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 use crate::analysis::config::{
     parse_project_config, parse_severity_setting, ProjectConfig, CONFIG_FILE_NAME,
 };
-use crate::analysis::{analyze, parse_document};
+use crate::analysis::{analyze_with_evaluation, parse_document};
 use crate::data::{ProfileCache, ResolveOptions};
 use crate::diagnostic::{Diagnostic, Severity};
 
@@ -118,8 +118,14 @@ impl Checker<'_> {
                 || project.allow_outside_workspace,
         };
         let data = self.cache.load_for_spec(&document.spec, &options);
+        let evaluation = evaluate_exactly(&document.spec, &options);
         let mut diagnostics = encoding_diagnostics;
-        diagnostics.extend(analyze(&document, &data, &config));
+        diagnostics.extend(analyze_with_evaluation(
+            &document,
+            &data,
+            &config,
+            evaluation.as_ref(),
+        ));
         // messages quote data text: no control characters reach the terminal or the log
         for diagnostic in &mut diagnostics {
             if let std::borrow::Cow::Owned(escaped) =
@@ -130,6 +136,22 @@ impl Checker<'_> {
         }
         Ok((diagnostics, outline(&document.spec, &data)))
     }
+}
+
+/// What the chart draws, evaluated over all of its rows (`check` has the time for the exact
+/// evaluation), for the rules that judge the drawn values. A layer that cannot be evaluated is
+/// named in the evaluation's notes; a panic inside it is caught and leaves the rules to the
+/// profiles.
+pub fn evaluate_exactly(
+    spec: &crate::spec::model::ChartSpec,
+    options: &ResolveOptions,
+) -> Option<crate::eval::EvaluatedChart> {
+    let mut open =
+        |source: &crate::spec::model::Source| crate::data::rows::open_rows(source, options, false);
+    std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        crate::eval::evaluate_chart(spec, &mut open, &crate::eval::EvalOptions::default())
+    }))
+    .ok()
 }
 
 pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Result<u8> {
@@ -214,13 +236,6 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
                 })
             }
         }
-        // the workspace root is looked for no higher than this (see `fsguard::discover_root`)
-        let given = if path.is_dir() {
-            path.clone()
-        } else {
-            path.parent().map(Path::to_path_buf).unwrap_or_default()
-        };
-        ceilings.extend(std::iter::repeat_n(given, files.len() - before));
     }
 
     let checker = Checker {
