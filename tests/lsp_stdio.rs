@@ -846,15 +846,15 @@ fn large_data_gets_a_sampled_profile_first_then_the_full_one_with_progress() {
         assert_eq!(kinds.first(), Some(&"begin"), "{kinds:?}");
         assert_eq!(kinds.last(), Some(&"end"), "{kinds:?}");
         // per token: a slow first analysis may show its own progress beside the full scan's
-        let mut tokens: Vec<String> = progress
+        let mut tokens: Vec<Value> = progress
             .iter()
-            .map(|message| message["params"]["token"].to_string())
+            .map(|message| message["params"]["token"].clone())
             .collect();
         tokens.dedup();
         for token in tokens {
             let percentages: Vec<u64> = progress
                 .iter()
-                .filter(|message| message["params"]["token"].to_string() == token)
+                .filter(|message| message["params"]["token"] == token)
                 .filter_map(|message| message["params"]["value"]["percentage"].as_u64())
                 .collect();
             assert!(
