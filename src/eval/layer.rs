@@ -8,6 +8,8 @@
 //! mark per row by `max_kept_marks` marks, then a fixed density grid. Never by the rows.
 
 use std::collections::HashMap;
+
+use hashbrown::HashTable;
 use std::sync::Arc;
 
 use super::bins::Bins;
@@ -126,8 +128,23 @@ impl Plan<'_> {
 #[derive(Default)]
 struct KeyValues {
     values: Vec<Datum>,
-    by_text: HashMap<Box<str>, u32>,
-    by_bits: HashMap<u64, u32>,
+    /// Ids of text values, by `hash_bytes` of the text (the text is in `values`).
+    by_text: HashTable<u32>,
+    by_bits: HashTable<(u64, u32)>,
+}
+
+fn text_at(values: &[Datum], id: u32) -> &str {
+    values
+        .get(id as usize)
+        .and_then(Datum::as_text)
+        .unwrap_or("")
+}
+
+/// A hash of a group key (ids), for the group table.
+fn hash_key(key: &[u32]) -> u64 {
+    key.iter().fold(0x243f_6a88_85a3_08d3, |state, &id| {
+        hash_number_bits(state ^ u64::from(id)).wrapping_add(state.rotate_left(17))
+    })
 }
 
 impl KeyValues {
@@ -140,8 +157,19 @@ impl KeyValues {
         }
     }
 
+    fn find_text(&self, text: &str) -> Option<u32> {
+        let values = &self.values;
+        self.by_text
+            .find(hash_bytes(text.as_bytes()), |&id| {
+                text_at(values, id) == text
+            })
+            .copied()
+    }
+
     fn text_id(&mut self, text: &str) -> Option<u32> {
-        if let Some(&id) = self.by_text.get(text) {
+        let hash = hash_bytes(text.as_bytes());
+        let values = &self.values;
+        if let Some(&id) = self.by_text.find(hash, |&id| text_at(values, id) == text) {
             return Some(id);
         }
         if self.values.len() >= MAX_GROUPS {
@@ -149,13 +177,16 @@ impl KeyValues {
         }
         let id = self.values.len() as u32;
         self.values.push(Datum::Text(Arc::from(text)));
-        self.by_text.insert(Box::from(text), id);
+        let values = &self.values;
+        self.by_text
+            .insert_unique(hash, id, |&id| hash_bytes(text_at(values, id).as_bytes()));
         Some(id)
     }
 
     fn number_id(&mut self, value: f64, time: bool) -> Option<u32> {
         let bits = if value == 0.0 { 0 } else { value.to_bits() };
-        if let Some(&id) = self.by_bits.get(&bits) {
+        let hash = hash_number_bits(bits);
+        if let Some(&(_, id)) = self.by_bits.find(hash, |&(entry, _)| entry == bits) {
             return Some(id);
         }
         if self.values.len() >= MAX_GROUPS {
@@ -167,7 +198,8 @@ impl KeyValues {
         } else {
             Datum::Number(value)
         });
-        self.by_bits.insert(bits, id);
+        self.by_bits
+            .insert_unique(hash, (bits, id), |&(entry, _)| hash_number_bits(entry));
         Some(id)
     }
 
@@ -902,7 +934,7 @@ fn evaluate_groups(
         })
         .collect();
     let mut groups: Vec<Group> = Vec::new();
-    let mut group_of: HashMap<Vec<u32>, usize> = HashMap::new();
+    let mut group_of: HashTable<usize> = HashTable::new();
     let mut key = Vec::with_capacity(key_plans.len() + 1);
     let mut rows_read = 0u64;
     let mut rows_left_out = 0u64;
@@ -975,8 +1007,12 @@ fn evaluate_groups(
             }
             measured.push(value);
         }
-        let group_index = match group_of.get(key.as_slice()) {
-            Some(&index) => index,
+        let key_hash = hash_key(&key);
+        let found = group_of
+            .find(key_hash, |&index| groups[index].key == key)
+            .copied();
+        let group_index = match found {
+            Some(index) => index,
             None => {
                 if groups.len() >= MAX_GROUPS {
                     rows_over_cap += 1;
@@ -990,7 +1026,9 @@ fn evaluate_groups(
                         .map(|&index| Accumulator::new(plans_view[index].summary()))
                         .collect(),
                 });
-                group_of.insert(key.clone(), groups.len() - 1);
+                group_of.insert_unique(key_hash, groups.len() - 1, |&index| {
+                    hash_key(&groups[index].key)
+                });
                 groups.len() - 1
             }
         };
@@ -1471,7 +1509,7 @@ fn evaluate_rows(
     // series, then drawing order: panel, series, and along x for lines
     let rank_in = |plan: usize, datum: &Datum, values: &KeyValues| -> u32 {
         let id = match datum {
-            Datum::Text(text) => values.by_text.get(&**text).copied(),
+            Datum::Text(text) => values.find_text(text),
             _ => None,
         };
         id.and_then(|id| ranks[plan].get(id as usize).copied())
