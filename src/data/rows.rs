@@ -379,7 +379,12 @@ impl RowSource for DelimitedRows {
         match &self.data {
             DelimitedData::Memory(bytes) => {
                 let body = bytes.get(self.data_start as usize..).unwrap_or(&[]);
-                let mut reader = RecordReader::new(body, self.data_start, self.delimiter);
+                let mut reader = RecordReader::with_buffer_bytes(
+                    body,
+                    self.data_start,
+                    self.delimiter,
+                    body.len() + 1,
+                );
                 self.scan_reader(&mut reader, wanted, row)
             }
             DelimitedData::File(path) => {

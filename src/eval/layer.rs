@@ -21,7 +21,7 @@ use super::{EvalOptions, OpenRows};
 use crate::data::infer::{
     is_missing_token, ordinal_vocabulary_of, parse_iso_time, parse_number, trim_cell,
 };
-use crate::data::profile::TableAccumulator;
+use crate::data::profile::{decide_kind, KindCounts, ALL_VALUES_CAP};
 use crate::data::rows::RowSource;
 use crate::data::sketch::{hash_bytes, hash_number_bits};
 use crate::knowledge::perceived::mark_shows;
@@ -35,6 +35,66 @@ pub const MAX_GROUPS: usize = 1_000_000;
 pub const KIND_PROBE_ROWS: u64 = 50_000;
 /// Id of a missing value on a key channel.
 const MISSING_ID: u32 = u32::MAX;
+
+/// What the first rows of an undeclared column hold, for its kind: the profile's rules
+/// (`data::profile::decide_kind`) over the same cell readings.
+#[derive(Default)]
+struct KindProbe {
+    present: u64,
+    numbers: u64,
+    times: u64,
+    /// Distinct texts while there are at most `ALL_VALUES_CAP` (the ordinal vocabularies).
+    texts: std::collections::HashSet<Box<str>>,
+    too_many_texts: bool,
+}
+
+impl KindProbe {
+    fn add(&mut self, cell: Option<&str>) {
+        let Some(trimmed) = cell.map(trim_cell).filter(|text| !is_missing_token(text)) else {
+            return;
+        };
+        self.present += 1;
+        if parse_number(trimmed).is_some() {
+            self.numbers += 1;
+            return;
+        }
+        if parse_iso_time(trimmed).is_some() {
+            self.times += 1;
+        }
+        if !self.too_many_texts && !self.texts.contains(trimmed) {
+            if self.texts.len() >= ALL_VALUES_CAP {
+                self.too_many_texts = true;
+                self.texts.clear();
+            } else {
+                self.texts.insert(Box::from(trimmed));
+            }
+        }
+    }
+
+    fn kind(&self) -> AttributeKind {
+        let share = |count: u64| {
+            if self.present == 0 {
+                0.0
+            } else {
+                count as f64 / self.present as f64
+            }
+        };
+        // numbers and dates are never words of an ordinal vocabulary
+        let texts: Option<Vec<&str>> = (!self.too_many_texts && self.numbers == 0)
+            .then(|| self.texts.iter().map(|text| &**text).collect());
+        decide_kind(
+            KindCounts {
+                present: self.present,
+                numbers: self.numbers,
+                times: self.times,
+                numeric_share: share(self.numbers),
+                time_share: share(self.times),
+            },
+            texts.as_deref(),
+        )
+        .0
+    }
+}
 
 /// What the chart's layers share while they are evaluated.
 pub(super) struct ChartState<'s> {
@@ -585,10 +645,6 @@ pub(super) fn evaluate_layer(
             .as_ref()
             .map(|kind| kind.value)
     };
-    let wanted_names: Vec<String> = wanted
-        .iter()
-        .map(|&index| names.get(index).cloned().unwrap_or_default())
-        .collect();
     let binned_slots: Vec<usize> = bound
         .iter()
         .filter(|(binding, _)| binding.bins.is_some())
@@ -600,17 +656,13 @@ pub(super) fn evaluate_layer(
     let mut probed_kinds: Vec<Option<AttributeKind>> = vec![None; wanted.len()];
     let mut extents: Vec<Option<(f64, f64)>> = vec![None; wanted.len()];
     if needs_probe || !binned_slots.is_empty() {
-        let mut table = TableAccumulator::with_columns(&wanted_names);
+        let mut probes: Vec<KindProbe> = wanted.iter().map(|_| KindProbe::default()).collect();
         let mut seen = 0u64;
         let scanned = rows.scan(&wanted, &mut |cells| {
             seen += 1;
             if needs_probe && seen <= KIND_PROBE_ROWS {
-                table.rows += 1;
-                for (column, cell) in table.columns.iter_mut().zip(cells) {
-                    match cell {
-                        Some(text) => column.add_text(text),
-                        None => column.add_missing(),
-                    }
+                for (probe, cell) in probes.iter_mut().zip(cells) {
+                    probe.add(*cell);
                 }
             }
             for &slot in &binned_slots {
@@ -639,9 +691,8 @@ pub(super) fn evaluate_layer(
             return None;
         }
         if needs_probe {
-            let profile = table.finish(None, DataFormat::Csv, false, &[]);
-            for (slot, column) in profile.columns.iter().enumerate() {
-                probed_kinds[slot] = Some(column.kind);
+            for (slot, probe) in probes.iter().enumerate() {
+                probed_kinds[slot] = Some(probe.kind());
             }
         }
     }
