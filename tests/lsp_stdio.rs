@@ -114,15 +114,22 @@ fn initialize_negotiates_the_position_encoding_and_advertises_what_is_implemente
         "colorProvider",
         "inlayHintProvider",
         "definitionProvider",
+        "documentFormattingProvider",
+        "documentRangeFormattingProvider",
+        "foldingRangeProvider",
+        "selectionRangeProvider",
+        "documentLinkProvider",
+        "semanticTokensProvider",
+        "referencesProvider",
+        "renameProvider",
+        "workspaceSymbolProvider",
+        "executeCommandProvider",
     ] {
         assert!(!capabilities[provider].is_null(), "{provider} advertised");
     }
     // not implemented, so not advertised
-    for absent in [
-        "renameProvider",
-        "referencesProvider",
-        "documentFormattingProvider",
-    ] {
+    // pull diagnostics only for a client that declared textDocument.diagnostic
+    for absent in ["diagnosticProvider"] {
         assert!(
             capabilities[absent].is_null(),
             "{absent} must not be advertised"

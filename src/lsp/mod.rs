@@ -16,6 +16,8 @@ pub mod framing;
 pub mod log;
 pub mod server;
 pub mod settings;
+pub mod structure;
+pub mod workspace;
 
 use std::pin::Pin;
 use std::process::ExitCode;
