@@ -2408,6 +2408,8 @@ struct LegendSpec {
 }
 
 const SWATCH: f64 = 11.0;
+/// Entries one legend lists at most; past it the last says how many more there are.
+pub const MAX_LEGEND_ENTRIES: usize = 16;
 const LEGEND_ROW: f64 = 17.0;
 
 fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<LegendSpec> {
@@ -2483,6 +2485,17 @@ fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<LegendSpec>
                     .any(|spec| spec.channel == info.channel && spec.title == info.title)
             {
                 continue;
+            }
+            let mut entries = entries;
+            if entries.len() > MAX_LEGEND_ENTRIES {
+                let hidden = entries.len() - (MAX_LEGEND_ENTRIES - 1);
+                entries.truncate(MAX_LEGEND_ENTRIES - 1);
+                entries.push(LegendEntry {
+                    label: format!("and {hidden} more"),
+                    colour: None,
+                    symbol: None,
+                    radius: SWATCH / 2.0,
+                });
             }
             let mark_room = entries
                 .iter()
