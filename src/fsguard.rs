@@ -386,6 +386,55 @@ pub fn write_atomically(path: &Path, contents: &[u8]) -> std::io::Result<()> {
     written
 }
 
+/// File names of chart specs.
+pub const SPEC_SUFFIX: &str = ".chart.json";
+
+fn describe_io_error(error: &std::io::Error) -> String {
+    match error.kind() {
+        std::io::ErrorKind::NotFound => "no such file or folder".to_string(),
+        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
+        _ => error.to_string(),
+    }
+}
+
+/// Add `path` (a file) or the `*.chart.json` files below it (a folder) to `files`, sorted.
+/// Hidden folders and symbolic links to folders are not entered.
+pub fn collect_spec_files(path: &Path, files: &mut Vec<PathBuf>) -> Result<(), String> {
+    let metadata = std::fs::metadata(path)
+        .map_err(|error| format!("{}: {}", path.display(), describe_io_error(&error)))?;
+    if metadata.is_file() {
+        files.push(path.to_path_buf());
+        return Ok(());
+    }
+    let mut found = Vec::new();
+    let mut pending = vec![path.to_path_buf()];
+    while let Some(folder) = pending.pop() {
+        let entries = std::fs::read_dir(&folder)
+            .map_err(|error| format!("{}: {}", folder.display(), describe_io_error(&error)))?;
+        for entry in entries.flatten() {
+            let name = entry.file_name();
+            let name = name.to_string_lossy();
+            let Ok(file_type) = entry.file_type() else {
+                continue;
+            };
+            if file_type.is_dir() {
+                if !name.starts_with('.') && name != "target" && name != "node_modules" {
+                    pending.push(entry.path());
+                }
+            } else if name.ends_with(SPEC_SUFFIX) && !file_type.is_dir() {
+                // FIFOs, sockets and symlinks are kept: reading refuses them with a message
+                let entry_path = entry.path();
+                if !entry_path.is_dir() {
+                    found.push(entry_path);
+                }
+            }
+        }
+    }
+    found.sort();
+    files.extend(found);
+    Ok(())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -17,6 +17,7 @@ pub mod log;
 pub mod server;
 pub mod settings;
 pub mod structure;
+pub mod workspace;
 
 use std::pin::Pin;
 use std::process::ExitCode;

@@ -14,7 +14,7 @@ mod levels_mismatch;
 mod log_of_nonpositive;
 mod low_contrast_mark;
 mod magnitude_of_interval;
-mod malformed_data;
+pub mod malformed_data;
 mod missing_source;
 mod negative_area;
 mod no_data_source;
