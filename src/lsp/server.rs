@@ -126,8 +126,10 @@ struct DocumentRecord {
     published: Option<Vec<lsp::Diagnostic>>,
     /// Data files read by the latest analysis.
     data_paths: Vec<PathBuf>,
-    /// The exact evaluation of one generation of the text (over all the rows).
-    exact_evaluation: Option<(u64, Arc<EvaluatedChart>)>,
+    /// The latest evaluation of one generation of the text: over the sampled head, until the
+    /// exact one (over all the rows) replaces it. Reused while the text and the data stay the
+    /// same (a full profile arriving does not evaluate the head again).
+    evaluation: Option<(u64, Arc<EvaluatedChart>)>,
     /// The generation whose exact evaluation is being computed, when one is.
     exact_evaluation_running: Option<u64>,
 }
@@ -163,8 +165,8 @@ struct Snapshot {
     index: Arc<LineIndex>,
     resolve: ResolveOptions,
     config: Arc<AnalysisConfig>,
-    /// The exact evaluation of this text, when it was computed already.
-    exact_evaluation: Option<Arc<EvaluatedChart>>,
+    /// The evaluation of this text, when it was computed already (sampled or exact).
+    known_evaluation: Option<Arc<EvaluatedChart>>,
 }
 
 fn lock<T>(mutex: &Mutex<T>) -> MutexGuard<'_, T> {
@@ -210,10 +212,10 @@ fn analyse_snapshot(
 ) -> AnalysisOutcome {
     let parsed = parse_document(snapshot.index.text());
     let (data, evaluation) = match reuse_data {
-        Some(data) => (data, snapshot.exact_evaluation.clone()),
+        Some(data) => (data, snapshot.known_evaluation.clone()),
         None => {
             let data = Arc::new(cache.load_for_spec_sampled(&parsed.spec, &snapshot.resolve));
-            let evaluation = snapshot.exact_evaluation.clone().or_else(|| {
+            let evaluation = snapshot.known_evaluation.clone().or_else(|| {
                 crate::lsp::evaluate::evaluate_sampled(&parsed.spec, &snapshot.resolve)
                     .map(Arc::new)
             });
@@ -333,8 +335,8 @@ impl Backend {
                 allow_outside_workspace: session.allow_outside_workspace,
             },
             config: session.config.clone(),
-            exact_evaluation: record
-                .exact_evaluation
+            known_evaluation: record
+                .evaluation
                 .as_ref()
                 .filter(|(generation, _)| *generation == record.document.generation)
                 .map(|(_, evaluation)| evaluation.clone()),
@@ -602,6 +604,13 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                 continue; // stale: analyse the newer text
             }
             record.data_paths = features::data_paths(&outcome.data);
+            let known_exactly = record
+                .evaluation
+                .as_ref()
+                .is_some_and(|(known, evaluation)| *known == generation && !evaluation.is_sample);
+            if let (Some(evaluation), false) = (&outcome.evaluation, known_exactly) {
+                record.evaluation = Some((generation, evaluation.clone()));
+            }
             // a full profile replaced a sample: the inlay hints (value ranges) are out of date
             let full_profiles_arrived = record.document.latest.as_ref().is_some_and(|previous| {
                 previous.pending_full_scans.len() > outcome.pending_full_scans.len()
@@ -748,9 +757,9 @@ fn start_exact_evaluation(
             return;
         };
         let done = record
-            .exact_evaluation
+            .evaluation
             .as_ref()
-            .is_some_and(|(done, _)| *done == generation);
+            .is_some_and(|(done, evaluation)| *done == generation && !evaluation.is_sample);
         if done
             || record.exact_evaluation_running.is_some()
             || record.document.generation != generation
@@ -798,7 +807,7 @@ fn start_exact_evaluation(
             }
             match evaluation {
                 Some(evaluation) if record.document.generation == generation => {
-                    record.exact_evaluation = Some((generation, Arc::new(evaluation)));
+                    record.evaluation = Some((generation, Arc::new(evaluation)));
                     Some(None)
                 }
                 _ => record
@@ -1150,7 +1159,7 @@ impl LanguageServer for Backend {
                 rerun_requested: false,
                 published: None,
                 data_paths: Vec::new(),
-                exact_evaluation: None,
+                evaluation: None,
                 exact_evaluation_running: None,
             };
             lock(&self.state.documents).insert(item.uri.clone(), record);
@@ -1232,7 +1241,7 @@ impl LanguageServer for Backend {
                 .iter()
                 .any(|read| changed.iter().any(|path| same_file(read, path)))
             {
-                record.exact_evaluation = None;
+                record.evaluation = None;
             }
         }
         // spec files that changed on disk: the index reads them again (or forgets them)
@@ -1293,7 +1302,7 @@ impl LanguageServer for Backend {
             let _ = guarded("workspace/didChangeWatchedFiles", || {
                 // the workspace rules may have changed which files can be read
                 for record in lock(&self.state.documents).values_mut() {
-                    record.exact_evaluation = None;
+                    record.evaluation = None;
                 }
                 {
                     let mut session = lock(&self.state.session);
