@@ -278,3 +278,35 @@ fn a_wide_file_of_distinct_values_is_profiled_within_the_budget_with_estimates()
     );
     assert_within_bound(&run, "1,000 columns of distinct values");
 }
+
+#[test]
+fn the_time_budget_is_set_in_markwell_toml_or_on_the_command_line() {
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let (_, mut writer) = create(dir.path(), "ferries.csv");
+    writeln!(writer, "ferry,crossings").unwrap_or_else(|error| panic!("{error}"));
+    for row in 0..300_000 {
+        writeln!(writer, "ferry{},{}", row % 12, row % 50)
+            .unwrap_or_else(|error| panic!("{error}"));
+    }
+    finish(writer);
+    std::fs::create_dir(dir.path().join(".git")).unwrap_or_else(|error| panic!("{error}"));
+    let spec = spec_reading(dir.path(), "ferries.csv", "ferry", "crossings");
+    std::fs::write(
+        dir.path().join("markwell.toml"),
+        "[data]\nprofile-seconds = 0.000001\n",
+    )
+    .unwrap_or_else(|error| panic!("{error}"));
+    let run = run_measured(&["check", &spec], dir.path());
+    let output = format!("{}{}", run.stdout, run.stderr);
+    assert!(output.contains("time budget of 0.000001 s"), "{output}");
+    // the command line wins over the file
+    let run = run_measured(&["check", "--profile-seconds", "600", &spec], dir.path());
+    let output = format!("{}{}", run.stdout, run.stderr);
+    assert!(!output.contains("time budget"), "{output}");
+    let run = run_measured(
+        &["profile", "--profile-seconds", "0", "ferries.csv"],
+        dir.path(),
+    );
+    assert_eq!(run.code, Some(2), "{}", run.stderr);
+    assert!(run.stderr.contains("above 0"), "{}", run.stderr);
+}
