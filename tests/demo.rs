@@ -25,6 +25,7 @@ fn every_rule_fires_somewhere_in_the_demo_and_clean_specs_are_clean() {
             spec_dir: spec.parent().map(Path::to_path_buf).unwrap_or_default(),
             workspace_root: Some(demo.clone()),
             allow_outside_workspace: false,
+            ..Default::default()
         };
         let data = cache.load_for_spec(&document.spec, &options);
         let evaluation = evaluated(&document.spec, &options);

@@ -22,6 +22,7 @@ fn diagnostics_for(text: &str, spec_path: &Path, cache: &ProfileCache) -> Vec<Di
             .unwrap_or_default(),
         workspace_root: Some(fixtures_root()),
         allow_outside_workspace: false,
+        ..Default::default()
     };
     let data = cache.load_for_spec(&document.spec, &options);
     let evaluation = evaluated(&document.spec, &options);

@@ -35,6 +35,7 @@ fn actual_findings(path: &Path, cache: &ProfileCache) -> Vec<(String, String, St
         spec_dir: path.parent().map(Path::to_path_buf).unwrap_or_default(),
         workspace_root: Some(fixtures_root()),
         allow_outside_workspace: false,
+        ..Default::default()
     };
     let data = cache.load_for_spec(&document.spec, &options);
     let evaluation = evaluated(&document.spec, &options);

@@ -54,6 +54,8 @@ pub struct CheckArgs {
     /// Configuration file (default: `markwell.toml` at the workspace root).
     #[arg(long)]
     pub config: Option<PathBuf>,
+    #[command(flatten)]
+    pub budgets: super::profile::ProfileBudgetArgs,
 }
 
 /// Extensions of data files (given to `check` by mistake).
@@ -116,6 +118,7 @@ impl Checker<'_> {
             workspace_root: Some(workspace_root.to_path_buf()),
             allow_outside_workspace: self.args.allow_outside_workspace
                 || project.allow_outside_workspace,
+            limits: self.args.budgets.apply(project.profile_limits),
         };
         let data = self.cache.load_for_spec(&document.spec, &options);
         let evaluation = evaluate_exactly(&document.spec, &options);
@@ -155,6 +158,10 @@ pub fn evaluate_exactly(
 }
 
 pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Result<u8> {
+    if let Some(problem) = args.budgets.problem() {
+        writeln!(err, "markwell: {problem}")?;
+        return Ok(EXIT_TROUBLE);
+    }
     let mut command_line_config = crate::analysis::AnalysisConfig::default();
     for setting in &args.severities {
         let Some((rule, level)) = setting.split_once('=') else {

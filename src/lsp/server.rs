@@ -108,6 +108,8 @@ struct Session {
     file_config: AnalysisConfig,
     /// `[data] allow-outside-workspace` of `markwell.toml`.
     allow_outside_workspace: bool,
+    /// `[data] profile-memory-mib` and `profile-seconds` of `markwell.toml`.
+    profile_limits: crate::data::ProfileLimits,
     editor_settings: EditorSettings,
     config: Arc<AnalysisConfig>,
 }
@@ -333,6 +335,7 @@ impl Backend {
                 spec_dir,
                 workspace_root: session.workspace_root.clone(),
                 allow_outside_workspace: session.allow_outside_workspace,
+                limits: session.profile_limits,
             },
             config: session.config.clone(),
             known_evaluation: record
@@ -842,6 +845,7 @@ fn start_full_scan(state: Arc<ServerState>, path: PathBuf, read: ReadOptions) {
     if !lock(&state.full_scans_running).insert(path.clone()) {
         return;
     }
+    let limits = lock(&state.session).profile_limits;
     tokio::spawn(async move {
         let share_done = Arc::new(AtomicU64::new(0));
         let cache = state.cache.clone();
@@ -849,7 +853,7 @@ fn start_full_scan(state: Arc<ServerState>, path: PathBuf, read: ReadOptions) {
         let scan_share = share_done.clone();
         let mut task = tokio::task::spawn_blocking(move || {
             catch_unwind(AssertUnwindSafe(|| {
-                cache.full_profile(&scan_path, &read, &|share| {
+                cache.full_profile_within(&scan_path, &read, &limits, &|share| {
                     scan_share.store((share.clamp(0.0, 1.0) * 100.0) as u64, Ordering::Relaxed);
                     true
                 })
@@ -1118,6 +1122,7 @@ impl LanguageServer for Backend {
             let project = load_project_config(session.workspace_root.as_deref());
             session.file_config = project.analysis;
             session.allow_outside_workspace = project.allow_outside_workspace;
+            session.profile_limits = project.profile_limits;
             session.config = Arc::new(merge_settings(
                 &session.file_config,
                 &session.editor_settings,
@@ -1309,6 +1314,7 @@ impl LanguageServer for Backend {
                     let project = load_project_config(session.workspace_root.as_deref());
                     session.file_config = project.analysis;
                     session.allow_outside_workspace = project.allow_outside_workspace;
+                    session.profile_limits = project.profile_limits;
                     session.config = Arc::new(merge_settings(
                         &session.file_config,
                         &session.editor_settings,
