@@ -21,6 +21,7 @@ fn messages(fixture: &str, rule: &str) -> (Vec<String>, Vec<String>) {
         spec_dir: path.parent().map(Path::to_path_buf).unwrap_or_default(),
         workspace_root: Some(root().join("tests/fixtures")),
         allow_outside_workspace: false,
+        limits: markwell::data::ProfileLimits::default(),
     };
     let data = ProfileCache::new().load_for_spec(&document.spec, &options);
     let mut open = |source: &markwell::spec::model::Source| {

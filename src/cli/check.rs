@@ -513,7 +513,7 @@ pub fn find_workspace_root(spec_path: &Path, given: &Path) -> PathBuf {
     crate::fsguard::discover_root(spec_path, Some(&ceiling))
 }
 
-fn load_project_config(
+pub(super) fn load_project_config(
     explicit: Option<&Path>,
     workspace_root: &Path,
 ) -> Result<ProjectConfig, Vec<RunError>> {

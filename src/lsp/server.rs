@@ -2276,12 +2276,14 @@ fn check_closed_spec(
     root: Option<&Path>,
     allow_outside: bool,
     config: &AnalysisConfig,
+    limits: crate::data::ProfileLimits,
     cache: &ProfileCache,
     encoding: PositionEncoding,
 ) -> Option<(lsp::Url, Vec<lsp::Diagnostic>)> {
     let uri = convert::file_uri(&spec.path)?;
     let parsed = parse_document(&spec.text);
-    let resolve = workspace::resolve_options(&spec.path, root, allow_outside);
+    let mut resolve = workspace::resolve_options(&spec.path, root, allow_outside);
+    resolve.limits = limits;
     let data = cache.load_for_spec(&parsed.spec, &resolve);
     // the sampled head, as the open documents' first pass: a workspace check reads each data file's
     // head once per spec, not every row
@@ -2314,13 +2316,14 @@ async fn check_closed_specs(
         .filter(|spec| !open.contains(&spec.path) && wanted(spec))
         .cloned()
         .collect();
-    let (root, allow_outside, config, encoding) = {
+    let (root, allow_outside, config, encoding, limits) = {
         let session = lock(&state.session);
         (
             session.workspace_root.clone(),
             session.allow_outside_workspace,
             session.config.clone(),
             session.encoding,
+            session.profile_limits,
         )
     };
     let cache = state.cache.clone();
@@ -2334,6 +2337,7 @@ async fn check_closed_specs(
                         root.as_deref(),
                         allow_outside,
                         &config,
+                        limits,
                         &cache,
                         encoding,
                     )
