@@ -1155,18 +1155,36 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         });
     }
 
+    // symbols and labels drawn at the ends of a continuous scale stay inside the plot: its
+    // range is inset by the largest symbol's radius
+    let inset = mark_inset(chart);
+    let inset_for = |scale: &PositionScale| match scale {
+        PositionScale::Continuous(_) => inset,
+        PositionScale::Band(_) => 0.0,
+    };
     let panel_scales: Vec<(Option<PositionScale>, Option<PositionScale>)> = panels
         .iter()
         .map(|panel| {
             let x = match (&x_scale, &x_info) {
                 (Some(scale), Some(info)) => {
-                    Some(scale.with_range(x_range(panel.plot.x, panel.plot.right(), info)))
+                    let inset = inset_for(scale);
+                    Some(scale.with_range(x_range(
+                        panel.plot.x + inset,
+                        panel.plot.right() - inset,
+                        info,
+                    )))
                 }
                 _ => None,
             };
             let y = match (&y_scale, &y_info) {
                 (Some(scale), Some(info)) => {
-                    Some(scale.with_range(y_range(panel.plot.y, panel.plot.bottom(), info, scale)))
+                    let inset = inset_for(scale);
+                    Some(scale.with_range(y_range(
+                        panel.plot.y + inset,
+                        panel.plot.bottom() - inset,
+                        info,
+                        scale,
+                    )))
                 }
                 _ => None,
             };
@@ -1368,6 +1386,14 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         legends.push(legend);
     }
 
+    for info in [&x_info, &y_info].into_iter().flatten() {
+        if info.spacing == Some(Spacing::Ranked) && matches!(info.domain, Domain::Numeric { .. }) {
+            notes.push(format!(
+                "`ranked` spacing on `{}` is drawn as even spacing",
+                info.channel.as_str()
+            ));
+        }
+    }
     for layer in &chart.layers {
         for info in &layer.channels {
             if matches!(info.channel, Channel::Tilt | Channel::Texture) {
@@ -2120,6 +2146,22 @@ fn layer_group(
     }
     note_skipped(notes, layer, skipped);
     layer_group_of(chart, layer, children)
+}
+
+/// How far symbols reach past their centre: the inset of continuous ranges (0 without point or
+/// text layers, whose marks are drawn as rows of individual symbols).
+fn mark_inset(chart: &EvaluatedChart) -> f64 {
+    chart
+        .layers
+        .iter()
+        .filter(|layer| layer.density.is_none())
+        .map(|layer| match layer.mark {
+            Mark::Point if layer.channel(Channel::Area).is_some() => MAX_SYMBOL_RADIUS + 1.0,
+            Mark::Point => DEFAULT_POINT_RADIUS * 1.25 + 1.0,
+            Mark::Text => MARK_LABEL_SIZE * 0.6,
+            _ => 0.0,
+        })
+        .fold(0.0, f64::max)
 }
 
 fn band_step(scale: &PositionScale) -> f64 {
