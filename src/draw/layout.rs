@@ -535,6 +535,43 @@ fn scale_ticks(scale: &PositionScale, target: usize) -> Vec<(Option<f64>, f64, S
             .filter_map(|category| Some((None, band.centre(category)?, shorten_label(category))))
             .collect(),
         PositionScale::Continuous(continuous) => {
+            // a nice domain is the loose labelling's span: when the loose search lands on the
+            // domain's ends again, its ticks are the ones drawn (ticks at both ends of the axis)
+            if matches!(
+                continuous.transform,
+                Transform::Even | Transform::SquareRoot
+            ) {
+                let (low, high) = (
+                    continuous.domain.0.min(continuous.domain.1),
+                    continuous.domain.0.max(continuous.domain.1),
+                );
+                let tolerance = (high - low).abs() * 1e-9;
+                if let Ok(loose) = extended_ticks(
+                    low,
+                    high,
+                    TickOptions {
+                        target_count: target,
+                        loose: true,
+                    },
+                ) {
+                    let ends_match = loose
+                        .first()
+                        .is_some_and(|first| (first - low).abs() <= tolerance)
+                        && loose
+                            .last()
+                            .is_some_and(|last| (last - high).abs() <= tolerance);
+                    if ends_match {
+                        return loose
+                            .values
+                            .iter()
+                            .zip(&loose.labels)
+                            .filter_map(|(value, label)| {
+                                Some((Some(*value), continuous.map(*value)?, label.clone()))
+                            })
+                            .collect();
+                    }
+                }
+            }
             let ticks = continuous.ticks(target);
             let pairs = match &ticks {
                 ScaleTicks::Numeric { .. } | ScaleTicks::Calendar(_) => ticks.pairs(),
@@ -1155,6 +1192,18 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         });
     }
 
+    // the nice domains again at the final plot size, so the axes' ticks (searched with the same
+    // target count) reach the domain's ends
+    let x_scale = x_scale.and(
+        x_info
+            .as_ref()
+            .and_then(|info| position_scale(info, target_ticks(plot_width, true))),
+    );
+    let y_scale = y_scale.and(
+        y_info
+            .as_ref()
+            .and_then(|info| position_scale(info, target_ticks(plot_height, false))),
+    );
     // symbols and labels drawn at the ends of a continuous scale stay inside the plot: its
     // range is inset by the largest symbol's radius
     let inset = mark_inset(chart);
