@@ -130,6 +130,7 @@ pub fn open_file_rows(
                 names: header.names,
                 data_start: header.data_start,
                 is_sample,
+                size,
             }))
         }
         DataFormat::Json | DataFormat::Ndjson => {
@@ -175,9 +176,146 @@ struct DelimitedRows {
     names: Vec<String>,
     data_start: u64,
     is_sample: bool,
+    /// File size in bytes.
+    size: u64,
+}
+
+/// Files at least this big are read by two threads: one splits the records and copies the
+/// wanted cells into batches, the caller's thread hands them on.
+const PIPELINE_MINIMUM_BYTES: u64 = 8 << 20;
+/// Rows per batch, and batches in flight (bounded: memory stays a few batches of cells).
+const BATCH_ROWS: usize = 8192;
+const BATCHES_IN_FLIGHT: usize = 4;
+/// A cell the row lacks, in a batch.
+const ABSENT: u32 = u32::MAX;
+
+/// Wanted cells of up to [`BATCH_ROWS`] rows, copied one after the other.
+#[derive(Default)]
+struct Batch {
+    bytes: Vec<u8>,
+    /// Per row, per wanted column: start and end in `bytes` (`ABSENT` for a lacking cell).
+    spans: Vec<(u32, u32)>,
+    /// Line of each row's record, for messages.
+    lines: Vec<u64>,
+    error: Option<DataError>,
 }
 
 impl DelimitedRows {
+    /// Split records on another thread; validate and deliver them on this one.
+    fn scan_pipelined(
+        &self,
+        mut reader: RecordReader<File>,
+        wanted: &[usize],
+        row: &mut dyn FnMut(&[Option<&str>]) -> bool,
+    ) -> Result<(), DataError> {
+        use std::sync::mpsc::{sync_channel, Receiver, SyncSender};
+        let (full_sender, full_receiver): (SyncSender<Batch>, Receiver<Batch>) =
+            sync_channel(BATCHES_IN_FLIGHT);
+        let (empty_sender, empty_receiver): (SyncSender<Batch>, Receiver<Batch>) =
+            sync_channel(BATCHES_IN_FLIGHT + 2);
+        let width = self.names.len();
+        let path = &self.path;
+        std::thread::scope(|scope| {
+            // owned by this closure: dropped when it returns (also early), which stops the
+            // reading thread before the scope waits for it
+            let full_receiver = full_receiver;
+            scope.spawn(move || {
+                let mut batch = Batch::default();
+                loop {
+                    let record = match reader.next_record(u64::MAX) {
+                        Ok(record) => record,
+                        Err(error) => {
+                            batch.error = Some(io_error(Some(path), &error));
+                            let _ = full_sender.send(batch);
+                            return;
+                        }
+                    };
+                    let Some(record) = record else { break };
+                    let count = reader.field_count();
+                    for &column in wanted {
+                        if column >= count || column >= width {
+                            batch.spans.push((ABSENT, ABSENT));
+                        } else {
+                            let start = batch.bytes.len() as u32;
+                            batch.bytes.extend_from_slice(reader.field(column));
+                            batch.spans.push((start, batch.bytes.len() as u32));
+                        }
+                    }
+                    batch.lines.push(record.line);
+                    // a batch's cells stay far below 4 GiB: records are at most 64 MiB
+                    if batch.lines.len() >= BATCH_ROWS || batch.bytes.len() >= 1 << 30 {
+                        if full_sender.send(batch).is_err() {
+                            return;
+                        }
+                        batch = empty_receiver.try_recv().unwrap_or_default();
+                        batch.bytes.clear();
+                        batch.spans.clear();
+                        batch.lines.clear();
+                    }
+                }
+                if !batch.lines.is_empty() {
+                    let _ = full_sender.send(batch);
+                }
+            });
+            let mut storage: Vec<Option<&str>> = Vec::with_capacity(wanted.len());
+            for batch in full_receiver.iter() {
+                if let Some(error) = batch.error {
+                    return Err(error);
+                }
+                // one check for the whole batch; a cell cut inside a character fails `get`
+                let text = std::str::from_utf8(&batch.bytes).ok();
+                let mut keep_going = true;
+                for (index, spans) in batch.spans.chunks(wanted.len().max(1)).enumerate() {
+                    let mut cells = recycle(storage);
+                    for (slot, &(start, end)) in spans.iter().enumerate() {
+                        if start == ABSENT {
+                            cells.push(None);
+                            continue;
+                        }
+                        match text.and_then(|text| text.get(start as usize..end as usize)) {
+                            Some(cell) => cells.push(Some(cell)),
+                            None => {
+                                let line = batch.lines.get(index).copied().unwrap_or(0);
+                                let column = wanted.get(slot).copied().unwrap_or(0);
+                                return Err(DataError {
+                                    kind: DataErrorKind::InvalidUtf8,
+                                    message: format!(
+                                        "row at line {} is not valid UTF-8 text (in column `{}`)",
+                                        line + 1,
+                                        self.names.get(column).map_or("?", String::as_str)
+                                    ),
+                                    path: Some(self.path.clone()),
+                                    line: None,
+                                    byte_offset: None,
+                                });
+                            }
+                        }
+                    }
+                    keep_going = row(&cells);
+                    storage = recycle(cells);
+                    if !keep_going {
+                        break;
+                    }
+                }
+                if wanted.is_empty() {
+                    // no cells asked: one empty row per record
+                    for _ in 0..batch.lines.len() {
+                        if !row(&[]) {
+                            keep_going = false;
+                            break;
+                        }
+                    }
+                }
+                if !keep_going {
+                    // dropping the receiver stops the reading thread
+                    break;
+                }
+                let _ = empty_sender.try_send(batch);
+            }
+            Ok(())
+        })
+    }
+
     fn scan_reader<R: Read>(
         &self,
         reader: &mut RecordReader<R>,
@@ -241,7 +379,12 @@ impl RowSource for DelimitedRows {
         match &self.data {
             DelimitedData::Memory(bytes) => {
                 let body = bytes.get(self.data_start as usize..).unwrap_or(&[]);
-                let mut reader = RecordReader::new(body, self.data_start, self.delimiter);
+                let mut reader = RecordReader::with_buffer_bytes(
+                    body,
+                    self.data_start,
+                    self.delimiter,
+                    body.len() + 1,
+                );
                 self.scan_reader(&mut reader, wanted, row)
             }
             DelimitedData::File(path) => {
@@ -249,7 +392,12 @@ impl RowSource for DelimitedRows {
                 file.seek(SeekFrom::Start(self.data_start))
                     .map_err(|error| io_error(Some(path), &error))?;
                 let mut reader = RecordReader::new(file, self.data_start, self.delimiter);
-                self.scan_reader(&mut reader, wanted, row)
+                let parallel = std::thread::available_parallelism().map_or(1, |count| count.get());
+                if parallel >= 2 && self.size >= PIPELINE_MINIMUM_BYTES {
+                    self.scan_pipelined(reader, wanted, row)
+                } else {
+                    self.scan_reader(&mut reader, wanted, row)
+                }
             }
         }
     }
@@ -847,6 +995,46 @@ mod tests {
     }
 
     #[test]
+    fn a_big_file_read_by_two_threads_gives_the_same_rows_and_stops_when_asked() {
+        let mut contents = String::from("id,port,note\n");
+        let mut id = 0u64;
+        while contents.len() < (PIPELINE_MINIMUM_BYTES as usize) + 100_000 {
+            id += 1;
+            if id % 1000 == 0 {
+                contents.push_str(&format!("{id},\"Brae, north\"\n"));
+            } else {
+                contents.push_str(&format!("{id},Orrin,calm sea\n"));
+            }
+        }
+        let path = temporary_file("big.csv", contents.as_bytes());
+        let mut rows = open(&path, false);
+        let mut count = 0u64;
+        let mut last_id = None;
+        let mut short_rows = 0;
+        let result = rows.scan(&[0, 2, 1], &mut |cells| {
+            count += 1;
+            last_id = cells[0].map(str::to_string);
+            if cells[1].is_none() {
+                short_rows += 1;
+                assert_eq!(cells[2], Some("Brae, north"));
+            }
+            true
+        });
+        assert!(result.is_ok(), "{result:?}");
+        assert_eq!(count, id);
+        assert_eq!(last_id, Some(id.to_string()));
+        assert_eq!(short_rows, id / 1000);
+        // stopping early ends the reading thread too (the test would hang otherwise)
+        let mut seen = 0;
+        let result = rows.scan(&[1], &mut |_| {
+            seen += 1;
+            seen < 10
+        });
+        assert!(result.is_ok());
+        assert_eq!(seen, 10);
+    }
+
+    #[test]
     fn inline_rows_keep_nulls_missing_and_write_numbers_back_as_text() {
         let rows = vec![
             vec![
@@ -878,6 +1066,7 @@ mod tests {
             spec_dir: folder.clone(),
             workspace_root: Some(folder),
             allow_outside_workspace: false,
+            limits: crate::data::ProfileLimits::default(),
         };
         let source = |path: &str| Source {
             range: Default::default(),

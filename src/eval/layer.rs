@@ -8,6 +8,8 @@
 //! mark per row by `max_kept_marks` marks, then a fixed density grid. Never by the rows.
 
 use std::collections::HashMap;
+
+use hashbrown::HashTable;
 use std::sync::Arc;
 
 use super::bins::Bins;
@@ -19,7 +21,7 @@ use super::{EvalOptions, OpenRows};
 use crate::data::infer::{
     is_missing_token, ordinal_vocabulary_of, parse_iso_time, parse_number, trim_cell,
 };
-use crate::data::profile::TableAccumulator;
+use crate::data::profile::{decide_kind, KindCounts, ALL_VALUES_CAP};
 use crate::data::rows::RowSource;
 use crate::data::sketch::{hash_bytes, hash_number_bits};
 use crate::knowledge::perceived::mark_shows;
@@ -33,6 +35,66 @@ pub const MAX_GROUPS: usize = 1_000_000;
 pub const KIND_PROBE_ROWS: u64 = 50_000;
 /// Id of a missing value on a key channel.
 const MISSING_ID: u32 = u32::MAX;
+
+/// What the first rows of an undeclared column hold, for its kind: the profile's rules
+/// (`data::profile::decide_kind`) over the same cell readings.
+#[derive(Default)]
+struct KindProbe {
+    present: u64,
+    numbers: u64,
+    times: u64,
+    /// Distinct texts while there are at most `ALL_VALUES_CAP` (the ordinal vocabularies).
+    texts: std::collections::HashSet<Box<str>>,
+    too_many_texts: bool,
+}
+
+impl KindProbe {
+    fn add(&mut self, cell: Option<&str>) {
+        let Some(trimmed) = cell.map(trim_cell).filter(|text| !is_missing_token(text)) else {
+            return;
+        };
+        self.present += 1;
+        if parse_number(trimmed).is_some() {
+            self.numbers += 1;
+            return;
+        }
+        if parse_iso_time(trimmed).is_some() {
+            self.times += 1;
+        }
+        if !self.too_many_texts && !self.texts.contains(trimmed) {
+            if self.texts.len() >= ALL_VALUES_CAP {
+                self.too_many_texts = true;
+                self.texts.clear();
+            } else {
+                self.texts.insert(Box::from(trimmed));
+            }
+        }
+    }
+
+    fn kind(&self) -> AttributeKind {
+        let share = |count: u64| {
+            if self.present == 0 {
+                0.0
+            } else {
+                count as f64 / self.present as f64
+            }
+        };
+        // numbers and dates are never words of an ordinal vocabulary
+        let texts: Option<Vec<&str>> = (!self.too_many_texts && self.numbers == 0)
+            .then(|| self.texts.iter().map(|text| &**text).collect());
+        decide_kind(
+            KindCounts {
+                present: self.present,
+                numbers: self.numbers,
+                times: self.times,
+                numeric_share: share(self.numbers),
+                time_share: share(self.times),
+            },
+            texts.as_deref(),
+        )
+        .0
+    }
+}
 
 /// What the chart's layers share while they are evaluated.
 pub(super) struct ChartState<'s> {
@@ -126,8 +188,23 @@ impl Plan<'_> {
 #[derive(Default)]
 struct KeyValues {
     values: Vec<Datum>,
-    by_text: HashMap<Box<str>, u32>,
-    by_bits: HashMap<u64, u32>,
+    /// Ids of text values, by `hash_bytes` of the text (the text is in `values`).
+    by_text: HashTable<u32>,
+    by_bits: HashTable<(u64, u32)>,
+}
+
+fn text_at(values: &[Datum], id: u32) -> &str {
+    values
+        .get(id as usize)
+        .and_then(Datum::as_text)
+        .unwrap_or("")
+}
+
+/// A hash of a group key (ids), for the group table.
+fn hash_key(key: &[u32]) -> u64 {
+    key.iter().fold(0x243f_6a88_85a3_08d3, |state, &id| {
+        hash_number_bits(state ^ u64::from(id)).wrapping_add(state.rotate_left(17))
+    })
 }
 
 impl KeyValues {
@@ -140,8 +217,19 @@ impl KeyValues {
         }
     }
 
+    fn find_text(&self, text: &str) -> Option<u32> {
+        let values = &self.values;
+        self.by_text
+            .find(hash_bytes(text.as_bytes()), |&id| {
+                text_at(values, id) == text
+            })
+            .copied()
+    }
+
     fn text_id(&mut self, text: &str) -> Option<u32> {
-        if let Some(&id) = self.by_text.get(text) {
+        let hash = hash_bytes(text.as_bytes());
+        let values = &self.values;
+        if let Some(&id) = self.by_text.find(hash, |&id| text_at(values, id) == text) {
             return Some(id);
         }
         if self.values.len() >= MAX_GROUPS {
@@ -149,13 +237,16 @@ impl KeyValues {
         }
         let id = self.values.len() as u32;
         self.values.push(Datum::Text(Arc::from(text)));
-        self.by_text.insert(Box::from(text), id);
+        let values = &self.values;
+        self.by_text
+            .insert_unique(hash, id, |&id| hash_bytes(text_at(values, id).as_bytes()));
         Some(id)
     }
 
     fn number_id(&mut self, value: f64, time: bool) -> Option<u32> {
         let bits = if value == 0.0 { 0 } else { value.to_bits() };
-        if let Some(&id) = self.by_bits.get(&bits) {
+        let hash = hash_number_bits(bits);
+        if let Some(&(_, id)) = self.by_bits.find(hash, |&(entry, _)| entry == bits) {
             return Some(id);
         }
         if self.values.len() >= MAX_GROUPS {
@@ -167,7 +258,8 @@ impl KeyValues {
         } else {
             Datum::Number(value)
         });
-        self.by_bits.insert(bits, id);
+        self.by_bits
+            .insert_unique(hash, (bits, id), |&(entry, _)| hash_number_bits(entry));
         Some(id)
     }
 
@@ -553,10 +645,6 @@ pub(super) fn evaluate_layer(
             .as_ref()
             .map(|kind| kind.value)
     };
-    let wanted_names: Vec<String> = wanted
-        .iter()
-        .map(|&index| names.get(index).cloned().unwrap_or_default())
-        .collect();
     let binned_slots: Vec<usize> = bound
         .iter()
         .filter(|(binding, _)| binding.bins.is_some())
@@ -568,17 +656,13 @@ pub(super) fn evaluate_layer(
     let mut probed_kinds: Vec<Option<AttributeKind>> = vec![None; wanted.len()];
     let mut extents: Vec<Option<(f64, f64)>> = vec![None; wanted.len()];
     if needs_probe || !binned_slots.is_empty() {
-        let mut table = TableAccumulator::with_columns(&wanted_names);
+        let mut probes: Vec<KindProbe> = wanted.iter().map(|_| KindProbe::default()).collect();
         let mut seen = 0u64;
         let scanned = rows.scan(&wanted, &mut |cells| {
             seen += 1;
             if needs_probe && seen <= KIND_PROBE_ROWS {
-                table.rows += 1;
-                for (column, cell) in table.columns.iter_mut().zip(cells) {
-                    match cell {
-                        Some(text) => column.add_text(text),
-                        None => column.add_missing(),
-                    }
+                for (probe, cell) in probes.iter_mut().zip(cells) {
+                    probe.add(*cell);
                 }
             }
             for &slot in &binned_slots {
@@ -607,9 +691,8 @@ pub(super) fn evaluate_layer(
             return None;
         }
         if needs_probe {
-            let profile = table.finish(None, DataFormat::Csv, false, &[]);
-            for (slot, column) in profile.columns.iter().enumerate() {
-                probed_kinds[slot] = Some(column.kind);
+            for (slot, probe) in probes.iter().enumerate() {
+                probed_kinds[slot] = Some(probe.kind());
             }
         }
     }
@@ -902,7 +985,7 @@ fn evaluate_groups(
         })
         .collect();
     let mut groups: Vec<Group> = Vec::new();
-    let mut group_of: HashMap<Vec<u32>, usize> = HashMap::new();
+    let mut group_of: HashTable<usize> = HashTable::new();
     let mut key = Vec::with_capacity(key_plans.len() + 1);
     let mut rows_read = 0u64;
     let mut rows_left_out = 0u64;
@@ -975,8 +1058,12 @@ fn evaluate_groups(
             }
             measured.push(value);
         }
-        let group_index = match group_of.get(key.as_slice()) {
-            Some(&index) => index,
+        let key_hash = hash_key(&key);
+        let found = group_of
+            .find(key_hash, |&index| groups[index].key == key)
+            .copied();
+        let group_index = match found {
+            Some(index) => index,
             None => {
                 if groups.len() >= MAX_GROUPS {
                     rows_over_cap += 1;
@@ -990,7 +1077,9 @@ fn evaluate_groups(
                         .map(|&index| Accumulator::new(plans_view[index].summary()))
                         .collect(),
                 });
-                group_of.insert(key.clone(), groups.len() - 1);
+                group_of.insert_unique(key_hash, groups.len() - 1, |&index| {
+                    hash_key(&groups[index].key)
+                });
                 groups.len() - 1
             }
         };
@@ -1471,7 +1560,7 @@ fn evaluate_rows(
     // series, then drawing order: panel, series, and along x for lines
     let rank_in = |plan: usize, datum: &Datum, values: &KeyValues| -> u32 {
         let id = match datum {
-            Datum::Text(text) => values.by_text.get(&**text).copied(),
+            Datum::Text(text) => values.find_text(text),
             _ => None,
         };
         id.and_then(|id| ranks[plan].get(id as usize).copied())

@@ -298,4 +298,24 @@ mod tests {
         // rank error at most 0.1 % of 10,001 values: within 10 ranks of 5,000
         assert!((median - 5000.0).abs() <= 10.0, "{median}");
     }
+
+    #[test]
+    fn distinct_counts_move_to_an_estimate_within_its_error() {
+        let mut accumulator = Accumulator::new(Some(Summary::Distinct));
+        for step in 0..20_000u64 {
+            let cell = CellValue {
+                present: true,
+                number: None,
+                hash: crate::data::sketch::hash_number_bits(step % 5000),
+                datum: Datum::Missing,
+            };
+            accumulator.add(&cell);
+        }
+        assert_eq!(accumulator.result(), Some(5000.0));
+        assert!(accumulator.to_sketch(0.001));
+        assert!(accumulator.is_estimate());
+        let estimate = accumulator.result().unwrap_or(f64::NAN);
+        // HyperLogLog with 2^14 registers: 0.81 % standard error; four of them allowed here
+        assert!((estimate - 5000.0).abs() <= 5000.0 * 0.0325, "{estimate}");
+    }
 }

@@ -572,3 +572,46 @@ fn the_data_layer_opener_plugs_in_as_is() {
     assert_eq!(chart.layers.len(), 1);
     assert_eq!(bars(&chart)[0], ("North".to_string(), Some(20.0)));
 }
+
+/// Inline rows that say they are a sampled head.
+struct SampledRows(InlineRows);
+
+impl RowSource for SampledRows {
+    fn column_names(&self) -> Vec<String> {
+        self.0.column_names()
+    }
+
+    fn scan(
+        &mut self,
+        wanted: &[usize],
+        row: &mut dyn FnMut(&[Option<&str>]) -> bool,
+    ) -> Result<(), DataError> {
+        self.0.scan(wanted, row)
+    }
+
+    fn is_sample(&self) -> bool {
+        true
+    }
+}
+
+#[test]
+fn a_chart_from_a_sampled_head_says_so() {
+    let spec = spec_of(&bar_of("sum"));
+    let mut open = |source: &Source| -> Result<Box<dyn RowSource + Send>, DataError> {
+        match &source.location {
+            SourceLocation::Rows { rows, .. } => {
+                Ok(Box::new(SampledRows(InlineRows::new(rows.clone()))))
+            }
+            _ => Err(DataError {
+                kind: crate::data::DataErrorKind::NotFound,
+                message: "no file here".to_string(),
+                path: None,
+                line: None,
+                byte_offset: None,
+            }),
+        }
+    };
+    let chart = evaluate_chart(&spec, &mut open, &EvalOptions::default());
+    assert!(chart.is_sample);
+    assert!(!evaluate(&bar_of("sum")).is_sample);
+}

@@ -178,6 +178,7 @@ fn big_scatter(points: u64) {
         spec_dir: path.parent().map(Path::to_path_buf).unwrap_or_default(),
         workspace_root: path.parent().map(Path::to_path_buf),
         allow_outside_workspace: false,
+        limits: markwell::data::ProfileLimits::default(),
     };
     let before = peak_resident_kib().unwrap_or(0);
     let started = Instant::now();
