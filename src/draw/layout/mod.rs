@@ -3,8 +3,18 @@
 //! (`ticks`), axes and their titles, a legend per colour, size and shape channel, the panel grid
 //! (panels wrap), margins from the measured width of the labels (`text`), and the marks.
 //!
+//! The marks of each layer are placed in `marks`, the legends in `legend`.
+//!
 //! The scene is plain public data: the SVG writer only translates it, and rules and tests read
 //! positions, lengths and colours from it. Pure: no IO.
+
+mod legend;
+mod marks;
+
+use legend::{legend_channels, legend_group};
+use marks::{layer_group, mark_inset, symbol_radius};
+
+pub use legend::MAX_LEGEND_ENTRIES;
 
 use std::collections::HashMap;
 use std::sync::{Mutex, OnceLock};
@@ -535,6 +545,43 @@ fn scale_ticks(scale: &PositionScale, target: usize) -> Vec<(Option<f64>, f64, S
             .filter_map(|category| Some((None, band.centre(category)?, shorten_label(category))))
             .collect(),
         PositionScale::Continuous(continuous) => {
+            // a nice domain is the loose labelling's span: when the loose search lands on the
+            // domain's ends again, its ticks are the ones drawn (ticks at both ends of the axis)
+            if matches!(
+                continuous.transform,
+                Transform::Even | Transform::SquareRoot
+            ) {
+                let (low, high) = (
+                    continuous.domain.0.min(continuous.domain.1),
+                    continuous.domain.0.max(continuous.domain.1),
+                );
+                let tolerance = (high - low).abs() * 1e-9;
+                if let Ok(loose) = extended_ticks(
+                    low,
+                    high,
+                    TickOptions {
+                        target_count: target,
+                        loose: true,
+                    },
+                ) {
+                    let ends_match = loose
+                        .first()
+                        .is_some_and(|first| (first - low).abs() <= tolerance)
+                        && loose
+                            .last()
+                            .is_some_and(|last| (last - high).abs() <= tolerance);
+                    if ends_match {
+                        return loose
+                            .values
+                            .iter()
+                            .zip(&loose.labels)
+                            .filter_map(|(value, label)| {
+                                Some((Some(*value), continuous.map(*value)?, label.clone()))
+                            })
+                            .collect();
+                    }
+                }
+            }
             let ticks = continuous.ticks(target);
             let pairs = match &ticks {
                 ScaleTicks::Numeric { .. } | ScaleTicks::Calendar(_) => ticks.pairs(),
@@ -1155,18 +1202,48 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         });
     }
 
+    // the nice domains again at the final plot size, so the axes' ticks (searched with the same
+    // target count) reach the domain's ends
+    let x_scale = x_scale.and(
+        x_info
+            .as_ref()
+            .and_then(|info| position_scale(info, target_ticks(plot_width, true))),
+    );
+    let y_scale = y_scale.and(
+        y_info
+            .as_ref()
+            .and_then(|info| position_scale(info, target_ticks(plot_height, false))),
+    );
+    // symbols and labels drawn at the ends of a continuous scale stay inside the plot: its
+    // range is inset by the largest symbol's radius
+    let inset = mark_inset(chart);
+    let inset_for = |scale: &PositionScale| match scale {
+        PositionScale::Continuous(_) => inset,
+        PositionScale::Band(_) => 0.0,
+    };
     let panel_scales: Vec<(Option<PositionScale>, Option<PositionScale>)> = panels
         .iter()
         .map(|panel| {
             let x = match (&x_scale, &x_info) {
                 (Some(scale), Some(info)) => {
-                    Some(scale.with_range(x_range(panel.plot.x, panel.plot.right(), info)))
+                    let inset = inset_for(scale);
+                    Some(scale.with_range(x_range(
+                        panel.plot.x + inset,
+                        panel.plot.right() - inset,
+                        info,
+                    )))
                 }
                 _ => None,
             };
             let y = match (&y_scale, &y_info) {
                 (Some(scale), Some(info)) => {
-                    Some(scale.with_range(y_range(panel.plot.y, panel.plot.bottom(), info, scale)))
+                    let inset = inset_for(scale);
+                    Some(scale.with_range(y_range(
+                        panel.plot.y + inset,
+                        panel.plot.bottom() - inset,
+                        info,
+                        scale,
+                    )))
                 }
                 _ => None,
             };
@@ -1368,6 +1445,14 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         legends.push(legend);
     }
 
+    for info in [&x_info, &y_info].into_iter().flatten() {
+        if info.spacing == Some(Spacing::Ranked) && matches!(info.domain, Domain::Numeric { .. }) {
+            notes.push(format!(
+                "`ranked` spacing on `{}` is drawn as even spacing",
+                info.channel.as_str()
+            ));
+        }
+    }
     for layer in &chart.layers {
         for info in &layer.channels {
             if matches!(info.channel, Channel::Tilt | Channel::Texture) {
@@ -1604,1081 +1689,6 @@ fn axis_primitives(axis: &AxisLayout, panel: &PanelLayout) -> Vec<Node> {
         }
     }
     nodes
-}
-
-// ---------------------------------------------------------------------------------------------
-// Marks
-
-struct LayerScales<'a> {
-    x: Option<(&'a PositionScale, usize)>,
-    y: Option<(&'a PositionScale, usize)>,
-}
-
-#[allow(clippy::too_many_arguments)]
-fn layer_group(
-    chart: &EvaluatedChart,
-    layer_index: usize,
-    layer: &EvaluatedLayer,
-    panels: &[PanelLayout],
-    panel_scales: &[(Option<PositionScale>, Option<PositionScale>)],
-    background: Srgb8,
-    is_pie: bool,
-    notes: &mut Vec<String>,
-) -> Group {
-    let colour_index = [Channel::Hue, Channel::Luminance, Channel::Saturation]
-        .iter()
-        .find_map(|channel| layer.channel_index(*channel));
-    let colour_scale =
-        colour_index.and_then(|index| ColourScale::new(&layer.channels[index], background));
-    let default_colour = cached_categorical(1, background)
-        .first()
-        .copied()
-        .unwrap_or(Srgb8::new(0x2f, 0x5d, 0x8a))
-        .to_hex();
-    let size_index = layer.channel_index(Channel::Area);
-    let size_max = size_index
-        .and_then(|index| match layer.channels[index].domain {
-            Domain::Numeric { min, max } => Some(min.abs().max(max.abs())),
-            _ => None,
-        })
-        .filter(|max| *max > 0.0);
-    let shape_index = layer.channel_index(Channel::Shape);
-    let shape_categories = shape_index.and_then(|index| match &layer.channels[index].domain {
-        Domain::Categories(categories) => Some(categories.clone()),
-        _ => None,
-    });
-    let label_index = layer.channel_index(Channel::Label);
-    let angle_index = layer.channel_index(Channel::Angle);
-    let x_index = layer.channel_index(Channel::X);
-    let y_index = layer.channel_index(Channel::Y);
-    let labelled = layer.marks.len() <= MAX_LABELLED_MARKS;
-    let series_count = layer
-        .marks
-        .iter()
-        .map(|mark| mark.series)
-        .max()
-        .map_or(1, |max| max as usize + 1);
-
-    let colour_of = |mark: &DrawnMark| -> String {
-        colour_index
-            .and_then(|index| {
-                colour_scale
-                    .as_ref()
-                    .and_then(|scale| scale.colour(mark.values.get(index)?))
-            })
-            .unwrap_or_else(|| default_colour.clone())
-    };
-    let describe = |mark: &DrawnMark, value: Option<f64>| -> Option<String> {
-        if !labelled {
-            return None;
-        }
-        let mut parts: Vec<String> = Vec::new();
-        for (info, datum) in layer.channels.iter().zip(&mark.values) {
-            let is_value = matches!(
-                (info.channel, &info.domain),
-                (
-                    Channel::X | Channel::Y | Channel::Angle,
-                    Domain::Numeric { .. }
-                )
-            );
-            if is_value {
-                continue;
-            }
-            if let Some(text) = datum_text(datum) {
-                parts.push(text);
-            }
-        }
-        let mut text = parts.join(", ");
-        if let Some(value) = value {
-            if !text.is_empty() {
-                text.push_str(": ");
-            }
-            text.push_str(&format_number(value));
-        }
-        Some(text)
-    };
-
-    let mut children: Vec<Node> = Vec::new();
-    let mut skipped = 0u64;
-
-    if let Some(grid) = &layer.density {
-        for (panel, (x, y)) in panels.iter().zip(panel_scales) {
-            if let (Some(PositionScale::Continuous(x)), Some(PositionScale::Continuous(y))) = (x, y)
-            {
-                if let Some(node) = density_image(grid, x, y, panel) {
-                    children.push(node);
-                }
-            }
-        }
-        if children.is_empty() {
-            notes.push(format!(
-                "layer {}: the density grid needs number or time positions on both axes",
-                layer.index + 1
-            ));
-        }
-        return Group {
-            role: Role::Density,
-            label: Some(format!(
-                "{} rows drawn as a density grid of {} by {} cells",
-                layer.rows_read, grid.width, grid.height
-            )),
-            children,
-        };
-    }
-
-    if is_pie || layer.mark == Mark::Wedge {
-        let Some(angle_index) = angle_index else {
-            notes.push(format!(
-                "layer {}: a wedge needs an `angle` channel",
-                layer.index + 1
-            ));
-            return empty_layer(layer);
-        };
-        for panel in panels {
-            let marks: Vec<(usize, &DrawnMark)> = layer
-                .marks
-                .iter()
-                .enumerate()
-                .filter(|(_, mark)| mark.panel as usize == panel.index)
-                .collect();
-            let total: f64 = marks
-                .iter()
-                .filter_map(|(_, mark)| mark.values.get(angle_index)?.as_f64())
-                .filter(|value| *value > 0.0)
-                .sum();
-            if total <= 0.0 {
-                continue;
-            }
-            let centre = Point {
-                x: panel.plot.x + panel.plot.width / 2.0,
-                y: panel.plot.y + panel.plot.height / 2.0,
-            };
-            let radius = (panel.plot.width.min(panel.plot.height) / 2.0 - 4.0).max(2.0);
-            let mut angle = 0.0;
-            for (mark_index, mark) in marks {
-                let Some(value) = mark.values.get(angle_index).and_then(Datum::as_f64) else {
-                    skipped += 1;
-                    continue;
-                };
-                if value <= 0.0 {
-                    skipped += 1;
-                    continue;
-                }
-                let sweep = value / total * std::f64::consts::TAU;
-                let mut paint = Paint::fill(&colour_of(mark));
-                paint.stroke = Some(chart_background_hex(background));
-                paint.stroke_width = 1.0;
-                children.push(Node::Primitive(Primitive {
-                    shape: Shape::Wedge {
-                        centre,
-                        radius,
-                        start_angle: angle,
-                        end_angle: angle + sweep,
-                    },
-                    paint,
-                    label: describe(mark, Some(value)),
-                    mark: Some(MarkRef {
-                        layer: layer_index,
-                        mark: mark_index,
-                    }),
-                }));
-                angle += sweep;
-            }
-        }
-        note_skipped(notes, layer, skipped);
-        return layer_group_of(chart, layer, children);
-    }
-
-    let scales_of = |panel: usize| -> LayerScales<'_> {
-        let (x, y) = panel_scales
-            .get(panel)
-            .map(|(x, y)| (x.as_ref(), y.as_ref()))
-            .unwrap_or((None, None));
-        LayerScales {
-            x: x.zip(x_index),
-            y: y.zip(y_index),
-        }
-    };
-
-    match layer.mark {
-        Mark::Bar | Mark::Segment => {
-            let continuous_band =
-                continuous_band_widths(layer, panels, panel_scales, x_index, y_index);
-            for (mark_index, mark) in layer.marks.iter().enumerate() {
-                let scales = scales_of(mark.panel as usize);
-                let Some(panel) = panels.get(mark.panel as usize) else {
-                    skipped += 1;
-                    continue;
-                };
-                let geometry = bar_geometry(
-                    mark,
-                    &scales,
-                    panel,
-                    layer.arrange,
-                    series_count,
-                    continuous_band,
-                );
-                let Some((rect, value)) = geometry else {
-                    skipped += 1;
-                    continue;
-                };
-                let colour = colour_of(mark);
-                let (shape, paint) = if layer.mark == Mark::Bar {
-                    (Shape::Rect(rect), Paint::fill(&colour))
-                } else {
-                    let (from, to) = if rect.width <= rect.height {
-                        let x = rect.x + rect.width / 2.0;
-                        (
-                            Point { x, y: rect.y },
-                            Point {
-                                x,
-                                y: rect.bottom(),
-                            },
-                        )
-                    } else {
-                        let y = rect.y + rect.height / 2.0;
-                        (Point { x: rect.x, y }, Point { x: rect.right(), y })
-                    };
-                    (Shape::Line { from, to }, Paint::stroke(&colour, 1.5))
-                };
-                children.push(Node::Primitive(Primitive {
-                    shape,
-                    paint,
-                    label: describe(mark, value),
-                    mark: Some(MarkRef {
-                        layer: layer_index,
-                        mark: mark_index,
-                    }),
-                }));
-            }
-        }
-        Mark::Line | Mark::Area => {
-            // vertices of one (panel, series) joined in order of the position channel
-            type Series<'a> = ((u32, u32), Vec<(usize, &'a DrawnMark)>);
-            let mut series: Vec<Series<'_>> = Vec::new();
-            for (mark_index, mark) in layer.marks.iter().enumerate() {
-                let key = (mark.panel, mark.series);
-                match series.iter_mut().find(|(existing, _)| *existing == key) {
-                    Some((_, marks)) => marks.push((mark_index, mark)),
-                    None => series.push((key, vec![(mark_index, mark)])),
-                }
-            }
-            for ((panel_index, _), marks) in series {
-                let scales = scales_of(panel_index as usize);
-                let (Some((x_scale, x_at)), Some((y_scale, y_at))) = (scales.x, scales.y) else {
-                    skipped += marks.len() as u64;
-                    continue;
-                };
-                // the position channel is the one with the band or calendar scale, else x
-                let vertical_values = !matches!(y_scale, PositionScale::Band(_))
-                    || matches!(x_scale, PositionScale::Band(_));
-                let mut vertices: Vec<(f64, f64, Option<f64>, usize)> = Vec::new();
-                for (mark_index, mark) in &marks {
-                    let (Some(x), Some(y)) = (
-                        mark.values
-                            .get(x_at)
-                            .and_then(|datum| x_scale.position(datum)),
-                        mark.values
-                            .get(y_at)
-                            .and_then(|datum| y_scale.position(datum)),
-                    ) else {
-                        skipped += 1;
-                        continue;
-                    };
-                    let start = mark.stack_start.and_then(|start| {
-                        if vertical_values {
-                            y_scale.position(&Datum::Number(start))
-                        } else {
-                            x_scale.position(&Datum::Number(start))
-                        }
-                    });
-                    vertices.push((x, y, start, *mark_index));
-                }
-                if vertices.is_empty() {
-                    continue;
-                }
-                if vertical_values {
-                    vertices.sort_by(|a, b| a.0.total_cmp(&b.0));
-                } else {
-                    vertices.sort_by(|a, b| a.1.total_cmp(&b.1));
-                }
-                let first_mark = vertices[0].3;
-                let mark = &layer.marks[first_mark];
-                let colour = colour_of(mark);
-                let series_label = if labelled {
-                    let mut label = describe_series(layer, mark);
-                    if label.is_empty() {
-                        label = format!("{} points", vertices.len());
-                    } else {
-                        label = format!("{label}, {} points", vertices.len());
-                    }
-                    Some(label)
-                } else {
-                    None
-                };
-                let top: Vec<Point> = vertices
-                    .iter()
-                    .map(|(x, y, _, _)| Point { x: *x, y: *y })
-                    .collect();
-                if layer.mark == Mark::Line {
-                    let mut paint = Paint::stroke(&colour, 2.0);
-                    paint.fill = None;
-                    children.push(Node::Primitive(Primitive {
-                        shape: Shape::Polyline {
-                            points: top,
-                            closed: false,
-                        },
-                        paint,
-                        label: series_label,
-                        mark: Some(MarkRef {
-                            layer: layer_index,
-                            mark: first_mark,
-                        }),
-                    }));
-                } else {
-                    let base = if vertical_values {
-                        y_scale.baseline()
-                    } else {
-                        x_scale.baseline()
-                    };
-                    let Some(base) = base else {
-                        skipped += vertices.len() as u64;
-                        continue;
-                    };
-                    let mut points = top;
-                    for (x, y, start, _) in vertices.iter().rev() {
-                        let start = start.unwrap_or(base);
-                        points.push(if vertical_values {
-                            Point { x: *x, y: start }
-                        } else {
-                            Point { x: start, y: *y }
-                        });
-                    }
-                    let mut paint = Paint::fill(&colour);
-                    paint.fill_opacity = if layer.arrange == Some(Arrange::Overlap) {
-                        0.55
-                    } else {
-                        0.9
-                    };
-                    children.push(Node::Primitive(Primitive {
-                        shape: Shape::Polyline {
-                            points,
-                            closed: true,
-                        },
-                        paint,
-                        label: series_label,
-                        mark: Some(MarkRef {
-                            layer: layer_index,
-                            mark: first_mark,
-                        }),
-                    }));
-                }
-            }
-        }
-        Mark::Point | Mark::Text => {
-            for (mark_index, mark) in layer.marks.iter().enumerate() {
-                let scales = scales_of(mark.panel as usize);
-                let Some(panel) = panels.get(mark.panel as usize) else {
-                    skipped += 1;
-                    continue;
-                };
-                let centre_x = match scales.x {
-                    Some((scale, at)) => {
-                        mark.values.get(at).and_then(|datum| scale.position(datum))
-                    }
-                    None => Some(panel.plot.x + panel.plot.width / 2.0),
-                };
-                let centre_y = match scales.y {
-                    Some((scale, at)) => {
-                        mark.values.get(at).and_then(|datum| scale.position(datum))
-                    }
-                    None => Some(panel.plot.y + panel.plot.height / 2.0),
-                };
-                let (Some(x), Some(y)) = (centre_x, centre_y) else {
-                    skipped += 1;
-                    continue;
-                };
-                let centre = Point { x, y };
-                let colour = colour_of(mark);
-                if layer.mark == Mark::Text {
-                    let content = label_index
-                        .and_then(|index| datum_text(mark.values.get(index)?))
-                        .unwrap_or_default();
-                    if content.is_empty() {
-                        skipped += 1;
-                        continue;
-                    }
-                    let item = text_item(
-                        Point {
-                            x,
-                            y: y + (ascent(MARK_LABEL_SIZE) - descent(MARK_LABEL_SIZE)) / 2.0,
-                        },
-                        Text {
-                            content: &shorten_label(&content),
-                            size: MARK_LABEL_SIZE,
-                            anchor: Anchor::Middle,
-                            rotation: 0.0,
-                            colour: &colour,
-                        },
-                    );
-                    children.push(Node::Primitive(Primitive {
-                        paint: Paint::fill(&colour),
-                        shape: Shape::Text(item),
-                        label: None,
-                        mark: Some(MarkRef {
-                            layer: layer_index,
-                            mark: mark_index,
-                        }),
-                    }));
-                    continue;
-                }
-                let radius = match (size_index, size_max) {
-                    (Some(index), Some(max)) => mark
-                        .values
-                        .get(index)
-                        .and_then(Datum::as_f64)
-                        .map(|value| symbol_radius(value, max)),
-                    _ => Some(DEFAULT_POINT_RADIUS),
-                };
-                let Some(radius) = radius else {
-                    skipped += 1;
-                    continue;
-                };
-                let symbol = match (shape_index, &shape_categories) {
-                    (Some(index), Some(categories)) => mark
-                        .values
-                        .get(index)
-                        .and_then(category_key)
-                        .and_then(|key| categories.iter().position(|c| *c == key))
-                        .map_or(Symbol::Circle, |i| SYMBOLS[i % SYMBOLS.len()]),
-                    _ => Symbol::Circle,
-                };
-                let mut paint = Paint::fill(&colour);
-                paint.fill_opacity = 0.8;
-                paint.stroke = Some(chart_background_hex(background));
-                paint.stroke_width = 0.6;
-                let shape = if symbol == Symbol::Circle {
-                    Shape::Circle { centre, radius }
-                } else {
-                    Shape::Symbol {
-                        symbol,
-                        centre,
-                        radius,
-                    }
-                };
-                if matches!(symbol, Symbol::Plus | Symbol::Cross) {
-                    paint = Paint::stroke(&colour, 1.6);
-                }
-                children.push(Node::Primitive(Primitive {
-                    shape,
-                    paint,
-                    label: describe(mark, None),
-                    mark: Some(MarkRef {
-                        layer: layer_index,
-                        mark: mark_index,
-                    }),
-                }));
-            }
-        }
-        Mark::Cell => {
-            for (mark_index, mark) in layer.marks.iter().enumerate() {
-                let scales = scales_of(mark.panel as usize);
-                let (Some((x_scale, x_at)), Some((y_scale, y_at))) = (scales.x, scales.y) else {
-                    skipped += 1;
-                    continue;
-                };
-                let (Some((x, w)), Some((y, h))) = (
-                    mark.values.get(x_at).and_then(|datum| x_scale.band(datum)),
-                    mark.values.get(y_at).and_then(|datum| y_scale.band(datum)),
-                ) else {
-                    skipped += 1;
-                    continue;
-                };
-                // tiles touch: widen each band to its step, less a hairline
-                let (step_x, step_y) = (band_step(x_scale), band_step(y_scale));
-                let rect = BoxRect {
-                    x: x - (step_x - w) / 2.0 + 0.5,
-                    y: y.min(y + h) - (step_y - h.abs()) / 2.0 + 0.5,
-                    width: (step_x - 1.0).max(0.5),
-                    height: (step_y - 1.0).max(0.5),
-                };
-                let value = colour_index
-                    .and_then(|index| mark.values.get(index))
-                    .and_then(Datum::as_f64);
-                children.push(Node::Primitive(Primitive {
-                    shape: Shape::Rect(rect),
-                    paint: Paint::fill(&colour_of(mark)),
-                    label: describe(mark, value),
-                    mark: Some(MarkRef {
-                        layer: layer_index,
-                        mark: mark_index,
-                    }),
-                }));
-            }
-        }
-        Mark::Wedge => {}
-    }
-    note_skipped(notes, layer, skipped);
-    layer_group_of(chart, layer, children)
-}
-
-fn band_step(scale: &PositionScale) -> f64 {
-    match scale {
-        PositionScale::Band(band) => band.step().abs(),
-        PositionScale::Continuous(_) => 0.0,
-    }
-}
-
-fn chart_background_hex(background: Srgb8) -> String {
-    background.to_hex()
-}
-
-fn empty_layer(layer: &EvaluatedLayer) -> Group {
-    Group {
-        role: Role::Layer(layer.mark),
-        label: Some(format!(
-            "layer {} ({}), not drawn",
-            layer.index + 1,
-            layer.mark.as_str()
-        )),
-        children: Vec::new(),
-    }
-}
-
-fn layer_group_of(chart: &EvaluatedChart, layer: &EvaluatedLayer, children: Vec<Node>) -> Group {
-    let _ = chart;
-    Group {
-        role: Role::Layer(layer.mark),
-        label: Some(format!(
-            "{} {}",
-            children.len(),
-            plural_mark(layer.mark, children.len())
-        )),
-        children,
-    }
-}
-
-fn note_skipped(notes: &mut Vec<String>, layer: &EvaluatedLayer, skipped: u64) {
-    if skipped > 0 {
-        notes.push(format!(
-            "layer {}: {skipped} {} not drawn (a value missing or outside its scale)",
-            layer.index + 1,
-            if skipped == 1 { "mark" } else { "marks" }
-        ));
-    }
-}
-
-fn datum_text(datum: &Datum) -> Option<String> {
-    match datum {
-        Datum::Missing => None,
-        Datum::Number(value) => Some(format_number(*value)),
-        Datum::Time(seconds) => {
-            let civil = crate::draw::ticks::CivilTime::from_seconds(seconds.floor() as i64);
-            Some(format!(
-                "{:04}-{:02}-{:02}",
-                civil.year, civil.month, civil.day
-            ))
-        }
-        Datum::Text(text) => Some(text.to_string()),
-    }
-}
-
-fn describe_series(layer: &EvaluatedLayer, mark: &DrawnMark) -> String {
-    layer
-        .channels
-        .iter()
-        .zip(&mark.values)
-        .filter(|(info, _)| !info.channel.is_position())
-        .filter_map(|(_, datum)| datum_text(datum))
-        .collect::<Vec<_>>()
-        .join(", ")
-}
-
-fn symbol_radius(value: f64, max: f64) -> f64 {
-    // the symbol's area, not its radius, is proportional to the value
-    (MAX_SYMBOL_RADIUS * (value.abs() / max).sqrt()).max(MIN_SYMBOL_RADIUS)
-}
-
-/// Bar widths on a continuous axis: 80 % of the smallest gap between neighbouring positions.
-fn continuous_band_widths(
-    layer: &EvaluatedLayer,
-    panels: &[PanelLayout],
-    panel_scales: &[(Option<PositionScale>, Option<PositionScale>)],
-    x_index: Option<usize>,
-    y_index: Option<usize>,
-) -> f64 {
-    let (Some(x_at), Some((Some(x_scale), _))) = (x_index, panel_scales.first()) else {
-        return 8.0;
-    };
-    let _ = y_index;
-    let mut pixels: Vec<f64> = layer
-        .marks
-        .iter()
-        .filter(|mark| mark.panel == 0)
-        .filter_map(|mark| x_scale.position(mark.values.get(x_at)?))
-        .collect();
-    pixels.sort_by(f64::total_cmp);
-    pixels.dedup_by(|a, b| (*a - *b).abs() < 1e-9);
-    let smallest_gap = pixels
-        .windows(2)
-        .map(|pair| pair[1] - pair[0])
-        .fold(f64::INFINITY, f64::min);
-    let width = panels.first().map_or(100.0, |panel| panel.plot.width);
-    if smallest_gap.is_finite() {
-        (smallest_gap * 0.8).clamp(1.0, width / 2.0)
-    } else {
-        (width / 10.0).max(1.0)
-    }
-}
-
-/// A bar's box and the value it shows (its length in data units).
-fn bar_geometry(
-    mark: &DrawnMark,
-    scales: &LayerScales<'_>,
-    panel: &PanelLayout,
-    arrange: Option<Arrange>,
-    series_count: usize,
-    continuous_width: f64,
-) -> Option<(BoxRect, Option<f64>)> {
-    let x = scales.x;
-    let y = scales.y;
-    // which channel carries the value: the continuous one beside a band, else y
-    let horizontal = match (x, y) {
-        (Some((x_scale, _)), Some((y_scale, _))) => {
-            matches!(y_scale, PositionScale::Band(_))
-                && matches!(x_scale, PositionScale::Continuous(_))
-        }
-        (Some((PositionScale::Continuous(_), _)), None) => true,
-        _ => false,
-    };
-    let (position, value) = if horizontal { (y, x) } else { (x, y) };
-    let side_by_side = arrange == Some(Arrange::SideBySide) && series_count > 1;
-    // the band across the bar
-    let (start, thickness) = match position {
-        Some((scale, at)) => {
-            let datum = mark.values.get(at)?;
-            match scale {
-                PositionScale::Band(_) => scale.band(datum)?,
-                PositionScale::Continuous(_) => {
-                    let centre = scale.position(datum)?;
-                    (centre - continuous_width / 2.0, continuous_width)
-                }
-            }
-        }
-        None => {
-            if horizontal {
-                (panel.plot.y, panel.plot.height)
-            } else {
-                (panel.plot.x, panel.plot.width)
-            }
-        }
-    };
-    let (start, thickness) = if side_by_side {
-        let part = thickness / series_count as f64;
-        (start + part * mark.series as f64, part)
-    } else {
-        (start, thickness)
-    };
-    // the extent along the value axis
-    let (low_pixel, high_pixel, shown) = match value {
-        Some((scale, at)) => {
-            let datum = mark.values.get(at)?;
-            let end_value = datum.as_f64()?;
-            let end = scale.position(datum)?;
-            let (begin, begin_value) = match mark.stack_start {
-                Some(stack_start) => (scale.position(&Datum::Number(stack_start))?, stack_start),
-                None => {
-                    let base = scale.baseline()?;
-                    let base_value = match scale {
-                        PositionScale::Continuous(continuous) => continuous.invert(base),
-                        PositionScale::Band(_) => None,
-                    };
-                    (base, base_value.unwrap_or(0.0))
-                }
-            };
-            let shown = if mark.stack_start.is_some() {
-                end_value - begin_value
-            } else {
-                end_value
-            };
-            (begin.min(end), begin.max(end), Some(shown))
-        }
-        None => {
-            if horizontal {
-                (panel.plot.x, panel.plot.right(), None)
-            } else {
-                (panel.plot.y, panel.plot.bottom(), None)
-            }
-        }
-    };
-    let rect = if horizontal {
-        BoxRect {
-            x: low_pixel,
-            y: start,
-            width: high_pixel - low_pixel,
-            height: thickness,
-        }
-    } else {
-        BoxRect {
-            x: start,
-            y: low_pixel,
-            width: thickness,
-            height: high_pixel - low_pixel,
-        }
-    };
-    if ![rect.x, rect.y, rect.width, rect.height]
-        .iter()
-        .all(|v| v.is_finite())
-    {
-        return None;
-    }
-    Some((rect, shown))
-}
-
-fn density_image(
-    grid: &DensityGrid,
-    x: &ContinuousScale,
-    y: &ContinuousScale,
-    panel: &PanelLayout,
-) -> Option<Node> {
-    let cells = (grid.width as usize).checked_mul(grid.height as usize)?;
-    if cells == 0 || grid.counts.len() != cells || cells > 4096 * 4096 {
-        return None;
-    }
-    let left = x.map(grid.x_domain.0)?;
-    let right = x.map(grid.x_domain.1)?;
-    let top = y.map(grid.y_domain.1)?;
-    let bottom = y.map(grid.y_domain.0)?;
-    let bounds = BoxRect {
-        x: left.min(right),
-        y: top.min(bottom),
-        width: (right - left).abs(),
-        height: (bottom - top).abs(),
-    };
-    let _ = panel;
-    let png = density_png(grid)?;
-    Some(Node::Primitive(Primitive {
-        shape: Shape::Image(ImageItem {
-            bounds,
-            png,
-            pixel_width: grid.width,
-            pixel_height: grid.height,
-        }),
-        paint: Paint::fill(INK),
-        label: None,
-        mark: None,
-    }))
-}
-
-/// The grid as an RGBA PNG: empty cells transparent, counts on the ramp by the logarithm of the
-/// count (common practice for density plots, so single points still show).
-pub fn density_png(grid: &DensityGrid) -> Option<Vec<u8>> {
-    let max = grid.counts.iter().copied().max().unwrap_or(0);
-    let scale = (1.0 + f64::from(max)).ln().max(1e-9);
-    let mut pixels = Vec::with_capacity(grid.counts.len() * 4);
-    let table: Vec<[u8; 3]> = (0..=255)
-        .map(|step| {
-            let colour = ramp_colour(step as f64 / 255.0);
-            [colour.red, colour.green, colour.blue]
-        })
-        .collect();
-    for count in &grid.counts {
-        if *count == 0 {
-            pixels.extend_from_slice(&[0, 0, 0, 0]);
-        } else {
-            let t = (1.0 + f64::from(*count)).ln() / scale;
-            let step = ((0.15 + 0.85 * t) * 255.0).round().clamp(0.0, 255.0) as usize;
-            let [red, green, blue] = table[step];
-            pixels.extend_from_slice(&[red, green, blue, 255]);
-        }
-    }
-    let size = resvg::tiny_skia::IntSize::from_wh(grid.width, grid.height)?;
-    let pixmap = resvg::tiny_skia::Pixmap::from_vec(pixels, size)?;
-    pixmap.encode_png().ok()
-}
-
-// ---------------------------------------------------------------------------------------------
-// Legends
-
-struct LegendSpec {
-    channel: Channel,
-    title: String,
-    entries: Vec<LegendEntry>,
-    width: f64,
-}
-
-const SWATCH: f64 = 11.0;
-/// Entries one legend lists at most; past it the last says how many more there are.
-pub const MAX_LEGEND_ENTRIES: usize = 16;
-const LEGEND_ROW: f64 = 17.0;
-
-fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<LegendSpec> {
-    let mut specs: Vec<LegendSpec> = Vec::new();
-    for layer in &chart.layers {
-        for info in &layer.channels {
-            let entries: Vec<LegendEntry> = if info.channel.is_colour() {
-                let Some(scale) = ColourScale::new(info, background) else {
-                    continue;
-                };
-                match &scale {
-                    ColourScale::Categories {
-                        categories,
-                        colours,
-                    } => categories
-                        .iter()
-                        .zip(colours)
-                        .map(|(category, colour)| LegendEntry {
-                            label: shorten_label(category),
-                            colour: Some(colour.clone()),
-                            symbol: None,
-                            radius: SWATCH / 2.0,
-                        })
-                        .collect(),
-                    ColourScale::Ramp { low, high, .. } => legend_values(*low, *high)
-                        .into_iter()
-                        .map(|(value, label)| LegendEntry {
-                            label,
-                            colour: Some(scale.ramp_at(value).to_hex()),
-                            symbol: None,
-                            radius: SWATCH / 2.0,
-                        })
-                        .collect(),
-                }
-            } else if info.channel == Channel::Area && layer.mark == Mark::Point {
-                let Domain::Numeric { min, max } = info.domain else {
-                    continue;
-                };
-                let reach = min.abs().max(max.abs());
-                if reach <= 0.0 {
-                    continue;
-                }
-                legend_values(min.max(0.0), max)
-                    .into_iter()
-                    .filter(|(value, _)| *value > 0.0)
-                    .map(|(value, label)| LegendEntry {
-                        label,
-                        colour: None,
-                        symbol: Some(Symbol::Circle),
-                        radius: symbol_radius(value, reach),
-                    })
-                    .collect()
-            } else if info.channel == Channel::Shape {
-                let Domain::Categories(categories) = &info.domain else {
-                    continue;
-                };
-                categories
-                    .iter()
-                    .enumerate()
-                    .map(|(index, category)| LegendEntry {
-                        label: shorten_label(category),
-                        colour: None,
-                        symbol: Some(SYMBOLS[index % SYMBOLS.len()]),
-                        radius: DEFAULT_POINT_RADIUS + 1.0,
-                    })
-                    .collect()
-            } else {
-                continue;
-            };
-            if entries.is_empty()
-                || specs
-                    .iter()
-                    .any(|spec| spec.channel == info.channel && spec.title == info.title)
-            {
-                continue;
-            }
-            let mut entries = entries;
-            if entries.len() > MAX_LEGEND_ENTRIES {
-                let hidden = entries.len() - (MAX_LEGEND_ENTRIES - 1);
-                entries.truncate(MAX_LEGEND_ENTRIES - 1);
-                entries.push(LegendEntry {
-                    label: format!("and {hidden} more"),
-                    colour: None,
-                    symbol: None,
-                    radius: SWATCH / 2.0,
-                });
-            }
-            let mark_room = entries
-                .iter()
-                .map(|entry| entry.radius * 2.0)
-                .fold(SWATCH, f64::max);
-            let width = entries
-                .iter()
-                .map(|entry| mark_room + 6.0 + text_width(&entry.label, LEGEND_SIZE))
-                .fold(text_width(&info.title, LEGEND_SIZE), f64::max)
-                .min(220.0);
-            specs.push(LegendSpec {
-                channel: info.channel,
-                title: info.title.clone(),
-                entries,
-                width,
-            });
-        }
-    }
-    if let Some(layer) = chart.layers.iter().find(|layer| layer.density.is_some()) {
-        let max = layer
-            .density
-            .as_ref()
-            .and_then(|grid| grid.counts.iter().copied().max())
-            .unwrap_or(0);
-        if max > 0 {
-            let scale = (1.0 + f64::from(max)).ln();
-            let mut entries = Vec::new();
-            let mut seen = Vec::new();
-            for count in [1u32, 10, 100, 1_000, 10_000, 100_000, 1_000_000] {
-                if count > max || seen.contains(&count) {
-                    continue;
-                }
-                seen.push(count);
-                let t = (1.0 + f64::from(count)).ln() / scale;
-                entries.push(LegendEntry {
-                    label: format_number(f64::from(count)),
-                    colour: Some(ramp_colour(0.15 + 0.85 * t).to_hex()),
-                    symbol: None,
-                    radius: SWATCH / 2.0,
-                });
-            }
-            if !seen.contains(&max) {
-                entries.push(LegendEntry {
-                    label: format_number(f64::from(max)),
-                    colour: Some(ramp_colour(1.0).to_hex()),
-                    symbol: None,
-                    radius: SWATCH / 2.0,
-                });
-            }
-            let title = "rows per cell".to_string();
-            let width = text_width(&title, LEGEND_SIZE).max(SWATCH + 6.0 + 50.0);
-            specs.push(LegendSpec {
-                channel: Channel::Luminance,
-                title,
-                entries,
-                width,
-            });
-        }
-    }
-    specs
-}
-
-fn legend_values(low: f64, high: f64) -> Vec<(f64, String)> {
-    match extended_ticks(
-        low,
-        high,
-        TickOptions {
-            target_count: 5,
-            loose: false,
-        },
-    ) {
-        Ok(ticks) => ticks
-            .values
-            .into_iter()
-            .zip(ticks.labels)
-            .filter(|(value, _)| {
-                *value >= low - 1e-9 * (high - low).abs()
-                    && *value <= high + 1e-9 * (high - low).abs()
-            })
-            .collect(),
-        Err(_) => vec![(low, format_number(low))],
-    }
-}
-
-fn legend_group(spec: LegendSpec, x: f64, top: f64) -> (Group, LegendLayout) {
-    let mut children = Vec::new();
-    let title_item = text_item(
-        Point {
-            x,
-            y: top + ascent(LEGEND_SIZE),
-        },
-        Text {
-            content: &spec.title,
-            size: LEGEND_SIZE,
-            anchor: Anchor::Start,
-            rotation: 0.0,
-            colour: INK,
-        },
-    );
-    children.push(text_node(title_item));
-    let mark_room = spec
-        .entries
-        .iter()
-        .map(|entry| entry.radius * 2.0)
-        .fold(SWATCH, f64::max);
-    let mut y = top + line_height(LEGEND_SIZE) + 4.0;
-    for entry in &spec.entries {
-        let row = LEGEND_ROW.max(entry.radius * 2.0 + 4.0);
-        let centre = Point {
-            x: x + mark_room / 2.0,
-            y: y + row / 2.0,
-        };
-        match (entry.symbol, &entry.colour) {
-            (None, Some(colour)) => children.push(plain(
-                Shape::Rect(BoxRect {
-                    x: centre.x - SWATCH / 2.0,
-                    y: centre.y - SWATCH / 2.0,
-                    width: SWATCH,
-                    height: SWATCH,
-                }),
-                Paint::fill(colour),
-            )),
-            (Some(symbol), _) => {
-                let paint = Paint::stroke(INK, 1.0);
-                let shape = if symbol == Symbol::Circle {
-                    Shape::Circle {
-                        centre,
-                        radius: entry.radius,
-                    }
-                } else {
-                    Shape::Symbol {
-                        symbol,
-                        centre,
-                        radius: entry.radius,
-                    }
-                };
-                children.push(plain(shape, paint));
-            }
-            (None, None) => {}
-        }
-        children.push(text_node(text_item(
-            Point {
-                x: x + mark_room + 6.0,
-                y: centre.y + (ascent(LEGEND_SIZE) - descent(LEGEND_SIZE)) / 2.0,
-            },
-            Text {
-                content: &entry.label,
-                size: LEGEND_SIZE,
-                anchor: Anchor::Start,
-                rotation: 0.0,
-                colour: MUTED_INK,
-            },
-        )));
-        y += row;
-    }
-    let bounds = BoxRect {
-        x,
-        y: top,
-        width: spec.width,
-        height: y - top,
-    };
-    let label = format!(
-        "legend, {}: {}",
-        spec.title,
-        spec.entries
-            .iter()
-            .map(|entry| entry.label.as_str())
-            .collect::<Vec<_>>()
-            .join(", ")
-    );
-    (
-        Group {
-            role: Role::Legend,
-            label: Some(label),
-            children,
-        },
-        LegendLayout {
-            channel: spec.channel,
-            title: spec.title,
-            bounds,
-            entries: spec.entries,
-        },
-    )
 }
 
 // ---------------------------------------------------------------------------------------------
