@@ -4,7 +4,10 @@
 //!
 //! Memory: a delimited file is read through the profile's record reader (a reused 1 MiB buffer,
 //! cells are slices of it, nothing is allocated per cell or per row); a JSON file is streamed
-//! element by element with one reused text buffer per row; inline rows are the spec's own.
+//! element by element with one reused text buffer per row (its keys, the columns, are learnt by
+//! one pass when it is opened); inline rows are the spec's own. A delimited file of 8 MiB or
+//! more is split into records on a second thread, which hands over batches of the wanted cells
+//! (at most a few batches of 8,192 rows in flight).
 //! Cells are handed over as text, exactly as the profile reads them (a JSON number becomes its
 //! shortest round-trip text, which parses back to the same number).
 
