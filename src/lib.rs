@@ -5,6 +5,7 @@
 //! Only `lsp` talks LSP; only `cli` talks to the terminal.
 
 pub mod analysis;
+pub mod budget;
 pub mod cli;
 pub mod data;
 pub mod diagnostic;

@@ -46,6 +46,7 @@ fn load(text: &str) -> (markwell::analysis::ParsedDocument, DataContext) {
         spec_dir: demo_dir(),
         workspace_root: Some(demo_dir()),
         allow_outside_workspace: false,
+        ..Default::default()
     };
     let data = cache().load_for_spec(&document.spec, &options);
     (document, data)

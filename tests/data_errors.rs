@@ -178,6 +178,7 @@ fn options_in(folder: &Path) -> ResolveOptions {
         spec_dir: folder.to_path_buf(),
         workspace_root: Some(folder.to_path_buf()),
         allow_outside_workspace: false,
+        ..Default::default()
     }
 }
 
@@ -275,6 +276,7 @@ fn absent_and_broken_data_are_reported_under_different_rules() {
         spec_dir: folder.path().to_path_buf(),
         workspace_root: Some(folder.path().to_path_buf()),
         allow_outside_workspace: false,
+        ..Default::default()
     };
     for (file, rule) in cases {
         let text = format!(

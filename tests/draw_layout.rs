@@ -427,3 +427,41 @@ fn png_scale_multiplies_the_pixel_size() {
     assert!(markwell::draw::png::rasterise(&svg, 0.0).is_err());
     assert!(markwell::draw::png::rasterise(&svg, f32::NAN).is_err());
 }
+
+#[test]
+fn hostile_charts_lay_out_without_panics_and_stay_parseable() {
+    use markwell::eval::model::{Datum, Domain};
+    // five thousand colours, missing and non-finite values, an empty domain, a NaN frame
+    let names: Vec<String> = (0..5000).map(|i| format!("stall {i}")).collect();
+    let refs: Vec<&str> = names.iter().map(String::as_str).collect();
+    let mut chart = charts::orchard_stack(Arrange::Stack);
+    chart.width = f64::NAN;
+    chart.height = -3.0;
+    chart.title = Some("<script>&\u{1}".to_string());
+    let layer = &mut chart.layers[0];
+    layer.channels[2].domain = charts::categories(&refs);
+    for (index, mark) in layer.marks.iter_mut().enumerate() {
+        mark.values[2] = charts::text(refs[index * 500]);
+    }
+    layer.marks[0].values[1] = Datum::Missing;
+    layer.marks[1].values[1] = Datum::Number(f64::NAN);
+    layer.marks[2].values[0] = Datum::Number(f64::INFINITY);
+    let mut empty = charts::bakery_bars();
+    empty.layers[0].channels[1].domain = Domain::Empty;
+    let mut inverted = charts::bakery_bars();
+    inverted.layers[0].channels[1].domain = Domain::Numeric {
+        min: f64::NAN,
+        max: 1e308,
+    };
+    inverted.layers[0].channels[1].extent = Some((5.0, 5.0));
+    for chart in [chart, empty, inverted] {
+        let scene = layout(&chart);
+        assert_eq!((scene.width, scene.height), (640.0, 400.0));
+        for legend in &scene.legends {
+            assert!(legend.entries.len() <= markwell::draw::layout::MAX_LEGEND_ENTRIES);
+        }
+        let svg = write_svg(&scene);
+        roxmltree::Document::parse(&svg).unwrap();
+        parse_svg(&svg).unwrap();
+    }
+}

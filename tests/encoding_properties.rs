@@ -149,6 +149,7 @@ fn analyse(
         spec_dir: folder.to_path_buf(),
         workspace_root: Some(folder.to_path_buf()),
         allow_outside_workspace: false,
+        ..Default::default()
     };
     let data = cache().load_for_spec(&document.spec, &options);
     let diagnostics = analyze(&document, &data, &AnalysisConfig::default());

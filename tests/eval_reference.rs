@@ -112,6 +112,7 @@ fn markwell_results(file: &str, group: &str, columns: &[&str]) -> Results {
         spec_dir: folder.clone(),
         workspace_root: Some(folder),
         allow_outside_workspace: false,
+        limits: markwell::data::ProfileLimits::default(),
     };
     let mut results = Results::new();
     for column in columns {

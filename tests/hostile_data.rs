@@ -91,3 +91,50 @@ fn binary_and_invalid_utf8_are_clear_errors_or_profiles_never_panics() {
         Err(error) => assert_eq!(error.kind, DataErrorKind::InvalidUtf8, "{}", error.message),
     }
 }
+
+/// A CSV of `rows` rows of an orchard ledger.
+fn orchard_rows(rows: usize) -> Vec<u8> {
+    let mut text = String::from("orchard,apples,picked\n");
+    for row in 0..rows {
+        text.push_str(&format!(
+            "orchard{},{},2024-09-{:02}\n",
+            row % 40,
+            row % 997,
+            row % 28 + 1
+        ));
+    }
+    text.into_bytes()
+}
+
+#[test]
+fn a_tiny_time_budget_stops_the_scan_with_a_clear_error() {
+    use markwell::budget::TimeBudget;
+    use markwell::data::ProfileLimits;
+    // bound: the scan stops at its first look at the clock (every 4096 records), well under 5 s
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let big = write(dir.path(), "big.csv", &orchard_rows(400_000));
+    assert!(std::fs::metadata(&big).map_or(0, |m| m.len()) > SAMPLE_BYTES as u64);
+    let small = write(dir.path(), "small.csv", &orchard_rows(20_000));
+    let cache = ProfileCache::new();
+    for (path, seconds) in [(&big, 0.0), (&big, 0.000_001), (&small, 0.0)] {
+        let limits = ProfileLimits {
+            time: TimeBudget::seconds(seconds),
+            ..ProfileLimits::default()
+        };
+        let started = Instant::now();
+        let result = cache.full_profile_within(path, &ReadOptions::default(), &limits, &|_| true);
+        let error = result.err().unwrap_or_else(|| panic!("{path:?} profiled"));
+        assert_eq!(error.kind, DataErrorKind::TimedOut, "{}", error.message);
+        assert!(
+            error.message.contains("time budget") && error.message.contains("profile-seconds"),
+            "{}",
+            error.message
+        );
+        assert!(started.elapsed() < Duration::from_secs(5));
+    }
+    // nothing is cached from a stopped scan: with time enough the same file profiles
+    let full = cache
+        .full_profile(&big, &ReadOptions::default(), &|_| true)
+        .unwrap_or_else(|error| panic!("{}", error.message));
+    assert_eq!(full.rows, 400_000);
+}

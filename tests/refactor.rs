@@ -14,6 +14,7 @@ fn options() -> ResolveOptions {
         spec_dir: fixtures.join("data"),
         workspace_root: Some(fixtures),
         allow_outside_workspace: false,
+        ..Default::default()
     }
 }
 
@@ -156,6 +157,7 @@ fn demo_options() -> ResolveOptions {
         spec_dir: demo.clone(),
         workspace_root: Some(demo),
         allow_outside_workspace: false,
+        ..Default::default()
     }
 }
 

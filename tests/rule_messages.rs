@@ -23,6 +23,7 @@ fn messages(rule: &str, mark_and_bind: &str) -> Vec<String> {
         spec_dir: PathBuf::from(env!("CARGO_MANIFEST_DIR")),
         workspace_root: None,
         allow_outside_workspace: false,
+        ..Default::default()
     };
     let data = ProfileCache::new().load_for_spec(&document.spec, &options);
     analyze(&document, &data, &AnalysisConfig::default())

@@ -10,6 +10,8 @@
 //!
 //! [data]
 //! allow-outside-workspace = false # may `source.path` leave the workspace folder?
+//! profile-memory-mib = 256        # memory budget of one profile (at least 16)
+//! profile-seconds = 60            # time budget of one profile
 //! ```
 
 use std::collections::HashMap;
@@ -75,6 +77,25 @@ pub fn parse_severity_setting(text: &str) -> Result<Option<Severity>, String> {
 pub struct ProjectConfig {
     pub analysis: AnalysisConfig,
     pub allow_outside_workspace: bool,
+    /// Memory and time budgets of one profile.
+    pub profile_limits: crate::data::ProfileLimits,
+}
+
+/// The keys `[data]` accepts.
+const DATA_KEYS: [&str; 3] = [
+    "allow-outside-workspace",
+    "profile-memory-mib",
+    "profile-seconds",
+];
+
+/// A positive number from TOML (an integer or a float).
+fn positive_number(value: &toml::Value) -> Option<f64> {
+    let number = match value {
+        toml::Value::Integer(integer) => *integer as f64,
+        toml::Value::Float(float) => *float,
+        _ => return None,
+    };
+    (number.is_finite() && number > 0.0).then_some(number)
 }
 
 /// Read `markwell.toml` text. Problems that still leave a usable configuration (a misspelt rule,
@@ -132,16 +153,34 @@ pub fn parse_project_config(text: &str) -> Result<(ProjectConfig, Vec<String>), 
                         ("allow-outside-workspace", _) => warnings.push(
                             "data.allow-outside-workspace: expected `true` or `false`".to_string(),
                         ),
+                        ("profile-memory-mib", value) => match value.as_integer() {
+                            Some(mebibytes) if mebibytes >= 16 => {
+                                config.profile_limits.memory =
+                                    crate::budget::MemoryBudget::mebibytes(mebibytes as u64)
+                            }
+                            _ => warnings.push(
+                                "data.profile-memory-mib: expected a whole number of MiB, at least 16"
+                                    .to_string(),
+                            ),
+                        },
+                        ("profile-seconds", value) => match positive_number(value) {
+                            Some(seconds) => {
+                                config.profile_limits.time =
+                                    crate::budget::TimeBudget::seconds(seconds)
+                            }
+                            None => warnings.push(
+                                "data.profile-seconds: expected a number of seconds above 0"
+                                    .to_string(),
+                            ),
+                        },
                         _ => warnings.push(
-                            match crate::spec::suggest::closest_name(
-                                data_key,
-                                ["allow-outside-workspace"],
-                            ) {
+                            match crate::spec::suggest::closest_name(data_key, DATA_KEYS) {
                                 Some(suggestion) => format!(
                                     "data.{data_key}: no such setting; did you mean `{suggestion}`?"
                                 ),
                                 None => format!(
-                                    "data.{data_key}: no such setting; `[data]` has only `allow-outside-workspace`"
+                                    "data.{data_key}: no such setting; `[data]` has `{}`",
+                                    DATA_KEYS.join("`, `")
                                 ),
                             },
                         ),
@@ -192,6 +231,19 @@ mod tests {
             Some(Severity::Error)
         );
         assert!(config.allow_outside_workspace);
+        let (budgets, warnings) =
+            parse_project_config("[data]\nprofile-memory-mib = 64\nprofile-seconds = 0.5\n")
+                .unwrap_or_else(|error| panic!("{error}"));
+        assert!(warnings.is_empty(), "{warnings:?}");
+        assert_eq!(budgets.profile_limits.memory.bytes, 64 << 20);
+        assert_eq!(
+            budgets.profile_limits.time,
+            crate::budget::TimeBudget::seconds(0.5)
+        );
+        let (_, warnings) =
+            parse_project_config("[data]\nprofile-memory-mib = 2\nprofile-seconds = -1\n")
+                .unwrap_or_else(|error| panic!("{error}"));
+        assert_eq!(warnings.len(), 2, "{warnings:?}");
     }
 
     #[test]

@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 use crate::analysis::config::{
     parse_project_config, parse_severity_setting, ProjectConfig, CONFIG_FILE_NAME,
 };
-use crate::analysis::{analyze, parse_document};
+use crate::analysis::{analyze_with_evaluation, parse_document};
 use crate::data::{ProfileCache, ResolveOptions};
 use crate::diagnostic::{Diagnostic, Severity};
 
@@ -54,6 +54,8 @@ pub struct CheckArgs {
     /// Configuration file (default: `markwell.toml` at the workspace root).
     #[arg(long)]
     pub config: Option<PathBuf>,
+    #[command(flatten)]
+    pub budgets: super::profile::ProfileBudgetArgs,
 }
 
 /// Extensions of data files (given to `check` by mistake).
@@ -116,10 +118,17 @@ impl Checker<'_> {
             workspace_root: Some(workspace_root.to_path_buf()),
             allow_outside_workspace: self.args.allow_outside_workspace
                 || project.allow_outside_workspace,
+            limits: self.args.budgets.apply(project.profile_limits),
         };
         let data = self.cache.load_for_spec(&document.spec, &options);
+        let evaluation = evaluate_exactly(&document.spec, &options);
         let mut diagnostics = encoding_diagnostics;
-        diagnostics.extend(analyze(&document, &data, &config));
+        diagnostics.extend(analyze_with_evaluation(
+            &document,
+            &data,
+            &config,
+            evaluation.as_ref(),
+        ));
         // messages quote data text: no control characters reach the terminal or the log
         for diagnostic in &mut diagnostics {
             if let std::borrow::Cow::Owned(escaped) =
@@ -132,7 +141,27 @@ impl Checker<'_> {
     }
 }
 
+/// What the chart draws, evaluated over all of its rows (`check` has the time for the exact
+/// evaluation), for the rules that judge the drawn values. A layer that cannot be evaluated is
+/// named in the evaluation's notes; a panic inside it is caught and leaves the rules to the
+/// profiles.
+pub fn evaluate_exactly(
+    spec: &crate::spec::model::ChartSpec,
+    options: &ResolveOptions,
+) -> Option<crate::eval::EvaluatedChart> {
+    let mut open =
+        |source: &crate::spec::model::Source| crate::data::rows::open_rows(source, options, false);
+    std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        crate::eval::evaluate_chart(spec, &mut open, &crate::eval::EvalOptions::default())
+    }))
+    .ok()
+}
+
 pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Result<u8> {
+    if let Some(problem) = args.budgets.problem() {
+        writeln!(err, "markwell: {problem}")?;
+        return Ok(EXIT_TROUBLE);
+    }
     let mut command_line_config = crate::analysis::AnalysisConfig::default();
     for setting in &args.severities {
         let Some((rule, level)) = setting.split_once('=') else {
@@ -214,13 +243,6 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
                 })
             }
         }
-        // the workspace root is looked for no higher than this (see `fsguard::discover_root`)
-        let given = if path.is_dir() {
-            path.clone()
-        } else {
-            path.parent().map(Path::to_path_buf).unwrap_or_default()
-        };
-        ceilings.extend(std::iter::repeat_n(given, files.len() - before));
     }
 
     let checker = Checker {
@@ -491,7 +513,7 @@ pub fn find_workspace_root(spec_path: &Path, given: &Path) -> PathBuf {
     crate::fsguard::discover_root(spec_path, Some(&ceiling))
 }
 
-fn load_project_config(
+pub(super) fn load_project_config(
     explicit: Option<&Path>,
     workspace_root: &Path,
 ) -> Result<ProjectConfig, Vec<RunError>> {

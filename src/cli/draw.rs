@@ -239,13 +239,29 @@ fn draw_one(
         .chain(&document.diagnostics)
         .filter(|diagnostic| diagnostic.severity == Severity::Error)
         .collect();
+    // the project's configuration (containment opt-in, profile budgets), as `check` reads it
+    let project = match super::check::load_project_config(None, &workspace_root) {
+        Ok(project) => project,
+        Err(errors) => {
+            for error in errors {
+                writeln!(
+                    err,
+                    "markwell: {}: {}",
+                    printable(&error.path),
+                    printable(&error.message)
+                )?;
+            }
+            return Ok(Outcome::Trouble);
+        }
+    };
     let options = ResolveOptions {
         spec_dir: spec_path
             .parent()
             .map(Path::to_path_buf)
             .unwrap_or_else(|| PathBuf::from(".")),
         workspace_root: Some(workspace_root),
-        allow_outside_workspace: args.allow_outside_workspace,
+        allow_outside_workspace: args.allow_outside_workspace || project.allow_outside_workspace,
+        limits: project.profile_limits,
     };
     let mut open = |source: &crate::spec::model::Source| rows_for(source, &options);
     let chart = evaluate_chart(&document.spec, &mut open, &EvalOptions::default());

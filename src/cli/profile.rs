@@ -57,6 +57,42 @@ pub struct ProfileArgs {
     /// Cell delimiter for delimited text (default: inferred).
     #[arg(long)]
     pub delimiter: Option<char>,
+    #[command(flatten)]
+    pub budgets: ProfileBudgetArgs,
+}
+
+/// The budgets of one profile on the command line (over `[data]` of `markwell.toml`).
+#[derive(Args, Debug, Clone, Default)]
+pub struct ProfileBudgetArgs {
+    /// Memory budget of one profile in MiB (default 256, at least 16).
+    #[arg(long, value_name = "MIB", value_parser = clap::value_parser!(u64).range(16..))]
+    pub profile_memory_mib: Option<u64>,
+    /// Time budget of one profile in seconds (default 60).
+    #[arg(long, value_name = "SECONDS")]
+    pub profile_seconds: Option<f64>,
+}
+
+impl ProfileBudgetArgs {
+    /// `limits` with what the command line sets laid over it.
+    pub fn apply(&self, mut limits: crate::data::ProfileLimits) -> crate::data::ProfileLimits {
+        if let Some(mebibytes) = self.profile_memory_mib {
+            limits.memory = crate::budget::MemoryBudget::mebibytes(mebibytes);
+        }
+        if let Some(seconds) = self.profile_seconds {
+            limits.time = crate::budget::TimeBudget::seconds(seconds);
+        }
+        limits
+    }
+
+    /// A message when a setting is out of range.
+    pub fn problem(&self) -> Option<String> {
+        match self.profile_seconds {
+            Some(seconds) if !(seconds.is_finite() && seconds > 0.0) => Some(format!(
+                "`--profile-seconds {seconds}`: expected a number of seconds above 0"
+            )),
+            _ => None,
+        }
+    }
 }
 
 /// Files at least this big show progress on a terminal.
@@ -89,6 +125,11 @@ fn is_chart_spec(path: &std::path::Path) -> bool {
 }
 
 pub fn run(args: &ProfileArgs, out: &mut dyn Write, err: &mut dyn Write) -> std::io::Result<u8> {
+    if let Some(problem) = args.budgets.problem() {
+        writeln!(err, "markwell: {problem}")?;
+        return Ok(2);
+    }
+    let limits = args.budgets.apply(crate::data::ProfileLimits::default());
     let cache = ProfileCache::new();
     let read = ReadOptions {
         format: args.data_format.map(DataFormatArgument::format),
@@ -98,6 +139,7 @@ pub fn run(args: &ProfileArgs, out: &mut dyn Write, err: &mut dyn Write) -> std:
         spec_dir: std::env::current_dir().unwrap_or_default(),
         workspace_root: None,
         allow_outside_workspace: true,
+        limits,
     };
     let mut trouble = false;
     let mut json_profiles = Vec::new();
@@ -138,9 +180,9 @@ pub fn run(args: &ProfileArgs, out: &mut dyn Write, err: &mut dyn Write) -> std:
             true
         };
         let result = if args.sample {
-            cache.sample_profile(&path, &read)
+            cache.sample_profile_within(&path, &read, &limits)
         } else {
-            cache.full_profile(&path, &read, &progress)
+            cache.full_profile_within(&path, &read, &limits, &progress)
         };
         if show_progress {
             eprintln!();

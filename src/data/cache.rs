@@ -13,13 +13,13 @@ use std::sync::atomic::Ordering;
 use std::sync::{Arc, Condvar, Mutex, MutexGuard};
 use std::time::{Duration, SystemTime};
 
-use super::csv_reader::{read_header, scan_bytes, scan_file, ScanControl};
-use super::json_reader::{add_inline_rows, find_key_range, scan_json_array, scan_ndjson};
+use super::csv_reader::{read_header_within, scan_bytes_within, scan_file, ScanControl};
+use super::json_reader::{add_inline_rows, find_key_ranges, scan_json_array, scan_ndjson};
 use super::profile::TableAccumulator;
 use super::resolve::resolve_source_path;
 use super::{
-    io_error, DataContext, DataError, DataErrorKind, DataProfile, ReadOptions, ResolveOptions,
-    SourceData, SourceKey,
+    io_error, too_many_columns_error, DataContext, DataError, DataErrorKind, DataProfile,
+    ProfileLimits, ReadOptions, ResolveOptions, SourceData, SourceKey,
 };
 use crate::spec::model::{ChartSpec, DataFormat, InlineRow, Source, SourceLocation};
 
@@ -131,8 +131,10 @@ pub fn open_data_file(path: &Path) -> Result<File, DataError> {
     }
 }
 
+/// Threads of a full scan: at most two, the number of readers the memory budget allows for
+/// (see [`ProfileLimits`]).
 fn worker_threads() -> usize {
-    std::thread::available_parallelism().map_or(1, |count| count.get().min(8))
+    std::thread::available_parallelism().map_or(1, |count| count.get().min(2))
 }
 
 /// The delimiter as one byte.
@@ -296,6 +298,21 @@ fn profile_file(
     path: &Path,
     read: &ReadOptions,
     depth: ScanDepth<'_>,
+    limits: &ProfileLimits,
+) -> Result<DataProfile, DataError> {
+    let mut control = ScanControl::within(*limits);
+    let result = profile_file_under(path, read, depth, &mut control);
+    match result {
+        Err(error) if error.kind == DataErrorKind::Cancelled => Err(control.stop_error(Some(path))),
+        other => other,
+    }
+}
+
+fn profile_file_under(
+    path: &Path,
+    read: &ReadOptions,
+    depth: ScanDepth<'_>,
+    control: &mut ScanControl,
 ) -> Result<DataProfile, DataError> {
     let (size, modified) = file_stamp(path)?;
     let mut file = open_data_file(path)?;
@@ -325,9 +342,11 @@ fn profile_file(
         ));
     }
     let mark_length = head.len() - after_mark.len();
-    let control = ScanControl::default();
     let in_memory = complete || matches!(depth, ScanDepth::Sample);
     let truncated = !complete;
+    control.readers = if in_memory { 1 } else { worker_threads() };
+    control.truncated_input = truncated && in_memory;
+    let control: &ScanControl = control;
 
     let mut header_ranges: Vec<Option<(u64, u64)>> = Vec::new();
     let table: TableAccumulator = match (format, in_memory) {
@@ -337,7 +356,7 @@ fn profile_file(
             } else {
                 &head
             };
-            let (header, table) = scan_bytes(bytes, delimiter, Some(path), truncated)?;
+            let (header, table) = scan_bytes_within(bytes, delimiter, Some(path), control)?;
             header_ranges = header.ranges;
             table
         }
@@ -346,52 +365,57 @@ fn profile_file(
             header_source
                 .seek(SeekFrom::Start(mark_length as u64))
                 .map_err(|error| io_error(Some(path), &error))?;
-            let header = read_header(header_source, mark_length as u64, delimiter, Some(path))?;
+            let header = read_header_within(
+                header_source,
+                mark_length as u64,
+                delimiter,
+                Some(path),
+                &control.limits,
+            )?;
             header_ranges = header.ranges.clone();
             let progress = match depth {
                 ScanDepth::Full(progress) => progress,
                 ScanDepth::Sample => &|_| true,
             };
-            let wait = |finished: &dyn Fn() -> bool| {
-                wait_with_progress(finished, &control, size, progress)
-            };
+            let wait =
+                |finished: &dyn Fn() -> bool| wait_with_progress(finished, control, size, progress);
             scan_file(
                 path,
                 size,
                 delimiter,
                 &header,
                 worker_threads(),
-                &control,
+                control,
                 &wait,
             )?
         }
-        (DataFormat::Json, true) => scan_json_array(after_mark, truncated, &control, Some(path))?,
+        (DataFormat::Json, true) => scan_json_array(after_mark, truncated, control, Some(path))?,
         (DataFormat::Ndjson, true) => {
             let bytes = if truncated {
                 cut_at_last_line(after_mark)
             } else {
                 after_mark
             };
-            scan_ndjson(bytes, truncated, &control, Some(path))?
+            scan_ndjson(bytes, truncated, control, Some(path))?
         }
         (DataFormat::Json | DataFormat::Ndjson, false) => {
             let progress = match depth {
                 ScanDepth::Full(progress) => progress,
                 ScanDepth::Sample => &|_| true,
             };
-            scan_json_file(path, format, mark_length as u64, size, &control, progress)?
+            scan_json_file(path, format, mark_length as u64, size, control, progress)?
         }
     };
     if control.cancelled.load(Ordering::Relaxed) {
-        // the caller asked to stop, even if the threads finished before they noticed
-        return Err(super::csv_reader::cancelled_error(Some(path)));
+        // the caller asked to stop (or time ran out), even if the threads finished before
+        // they noticed
+        return Err(control.stop_error(Some(path)));
+    }
+    if table.is_too_wide() {
+        return Err(too_many_columns_error(Some(path), None, &control.limits));
     }
     if matches!(format, DataFormat::Json | DataFormat::Ndjson) {
-        header_ranges = table
-            .names
-            .iter()
-            .map(|name| find_key_range(&head, name))
-            .collect();
+        header_ranges = find_key_ranges(&head, &table.names);
     }
 
     let (size_after, modified_after) = file_stamp(path)?;
@@ -468,6 +492,8 @@ fn wait_with_progress(
         if !progress(done.min(1.0)) {
             control.cancelled.store(true, Ordering::Relaxed);
         }
+        // the deadline is also watched here, for a reader stuck inside one long record
+        control.should_stop();
         std::thread::sleep(pause);
         pause = (pause * 2).min(Duration::from_millis(25));
     }
@@ -590,11 +616,21 @@ impl ProfileCache {
     /// A first profile from a bounded head of the file (`is_sample` when the file is longer);
     /// a cached full profile when there is one.
     pub fn sample_profile(&self, path: &Path, read: &ReadOptions) -> SourceData {
+        self.sample_profile_within(path, read, &ProfileLimits::default())
+    }
+
+    /// [`ProfileCache::sample_profile`] within `limits`.
+    pub fn sample_profile_within(
+        &self,
+        path: &Path,
+        read: &ReadOptions,
+        limits: &ProfileLimits,
+    ) -> SourceData {
         let key = ProfileCache::key_for(path, read);
         if let Some(profile) = self.cached(&key, false) {
             return Ok(profile);
         }
-        let profile = Arc::new(profile_file(&key.path, read, ScanDepth::Sample)?);
+        let profile = Arc::new(profile_file(&key.path, read, ScanDepth::Sample, limits)?);
         self.store(key, &profile);
         Ok(profile)
     }
@@ -605,6 +641,18 @@ impl ProfileCache {
         &self,
         path: &Path,
         read: &ReadOptions,
+        progress: &dyn Fn(f64) -> bool,
+    ) -> SourceData {
+        self.full_profile_within(path, read, &ProfileLimits::default(), progress)
+    }
+
+    /// [`ProfileCache::full_profile`] within `limits` (memory and time). A profile cached
+    /// under other limits is reused as it is.
+    pub fn full_profile_within(
+        &self,
+        path: &Path,
+        read: &ReadOptions,
+        limits: &ProfileLimits,
         progress: &dyn Fn(f64) -> bool,
     ) -> SourceData {
         let key = ProfileCache::key_for(path, read);
@@ -618,7 +666,12 @@ impl ProfileCache {
                 return Err(super::csv_reader::cancelled_error(Some(&key.path)))
             }
         };
-        let profile = Arc::new(profile_file(&key.path, read, ScanDepth::Full(progress))?);
+        let profile = Arc::new(profile_file(
+            &key.path,
+            read,
+            ScanDepth::Full(progress),
+            limits,
+        )?);
         self.store(key, &profile);
         Ok(profile)
     }
@@ -694,9 +747,9 @@ impl ProfileCache {
                 let path = resolve_source_path(&written.value, options)?;
                 let read = ReadOptions::for_source(source);
                 if sampled {
-                    self.sample_profile(&path, &read)
+                    self.sample_profile_within(&path, &read, &options.limits)
                 } else {
-                    self.full_profile(&path, &read, &|_| true)
+                    self.full_profile_within(&path, &read, &options.limits, &|_| true)
                 }
             }
             SourceLocation::Rows { rows, .. } => profile_inline_rows(rows).map(Arc::new),

@@ -22,11 +22,16 @@ use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 use memchr::{memchr, memchr2, memchr_iter};
 
 use super::profile::TableAccumulator;
-use super::{io_error, DataError, DataErrorKind, DataProblem};
+use super::{
+    io_error, record_too_long_error, timed_out_error, too_many_columns_error, DataError,
+    DataErrorKind, DataProblem, ProfileLimits,
+};
+use crate::budget::Deadline;
 
 const BUFFER_BYTES: usize = 1 << 20;
-/// A single record may not be longer than this (an unterminated quote in a big file would
-/// otherwise pull the whole file into memory).
+/// A single record may not be longer than this by default (an unterminated quote in a big file
+/// would otherwise pull the whole file into memory); profiles take theirs from the memory
+/// budget ([`ProfileLimits::record_bytes`]).
 pub const MAX_RECORD_BYTES: usize = 64 << 20;
 /// Files with less data than this are scanned by one thread.
 const PARALLEL_MINIMUM_BYTES: u64 = 8 << 20;
@@ -61,6 +66,8 @@ enum ParseOutcome {
     },
     NeedMore,
     End,
+    /// More cells than `max_fields`.
+    TooManyFields,
 }
 
 /// A buffered RFC 4180 record reader over any byte source.
@@ -77,6 +84,8 @@ pub struct RecordReader<R> {
     scratch: Vec<u8>,
     lines_consumed: u64,
     bytes_read: u64,
+    max_record_bytes: usize,
+    max_fields: usize,
 }
 
 impl<R: Read> RecordReader<R> {
@@ -105,7 +114,25 @@ impl<R: Read> RecordReader<R> {
             scratch: Vec::new(),
             lines_consumed: 0,
             bytes_read: 0,
+            max_record_bytes: MAX_RECORD_BYTES,
+            max_fields: usize::MAX,
         }
+    }
+
+    /// Refuse records of more than `fields` cells (an `InvalidInput` error): the cells' spans
+    /// take memory too (a record of commas only would otherwise cost 24 bytes a byte).
+    pub fn with_max_fields(mut self, fields: usize) -> RecordReader<R> {
+        self.max_fields = fields.max(1);
+        self
+    }
+
+    /// Refuse records longer than `bytes` (an `InvalidData` error) instead of the default.
+    pub fn with_max_record_bytes(mut self, bytes: usize) -> RecordReader<R> {
+        self.max_record_bytes = bytes.max(1024);
+        if self.buffer.len() > self.max_record_bytes {
+            self.buffer.truncate(self.max_record_bytes);
+        }
+        self
     }
 
     /// File offset where the next record (or blank line) starts.
@@ -156,13 +183,13 @@ impl<R: Read> RecordReader<R> {
             self.start = 0;
         }
         if self.end == self.buffer.len() {
-            if self.buffer.len() >= MAX_RECORD_BYTES {
+            if self.buffer.len() >= self.max_record_bytes {
                 return Err(std::io::Error::new(
                     std::io::ErrorKind::InvalidData,
                     "record too long",
                 ));
             }
-            let grown = (self.buffer.len() * 2).min(MAX_RECORD_BYTES);
+            let grown = (self.buffer.len() * 2).min(self.max_record_bytes);
             self.buffer.resize(grown, 0);
         }
         loop {
@@ -211,6 +238,12 @@ impl<R: Read> RecordReader<R> {
                 }
                 ParseOutcome::NeedMore => self.fill()?,
                 ParseOutcome::End => return Ok(None),
+                ParseOutcome::TooManyFields => {
+                    return Err(std::io::Error::new(
+                        std::io::ErrorKind::InvalidInput,
+                        "too many cells",
+                    ))
+                }
             }
         }
     }
@@ -242,6 +275,9 @@ impl<R: Read> RecordReader<R> {
         self.fields.clear();
         let mut field_start = 0;
         for position in memchr_iter(self.delimiter, line) {
+            if self.fields.len() >= self.max_fields {
+                return ParseOutcome::TooManyFields;
+            }
             self.fields.push(FieldSpan {
                 raw_start: data_start + field_start,
                 raw_end: data_start + position,
@@ -273,6 +309,9 @@ impl<R: Read> RecordReader<R> {
         let mut newlines = 0u64;
         let mut unterminated = false;
         loop {
+            if self.fields.len() >= self.max_fields {
+                return ParseOutcome::TooManyFields;
+            }
             let raw_start = position;
             if data.get(position) == Some(&b'"') {
                 let scratch_start = self.scratch.len();
@@ -420,10 +459,44 @@ pub fn read_header<R: Read>(
     delimiter: u8,
     path: Option<&Path>,
 ) -> Result<Header, DataError> {
-    let mut reader = RecordReader::new(source, start_offset, delimiter);
+    read_header_within(
+        source,
+        start_offset,
+        delimiter,
+        path,
+        &ProfileLimits::UNTIMED,
+    )
+}
+
+/// The error for a failed read of records: too long a record, or the IO error.
+fn record_read_error(
+    path: Option<&Path>,
+    limits: &ProfileLimits,
+    error: &std::io::Error,
+) -> DataError {
+    if error.kind() == std::io::ErrorKind::InvalidData {
+        record_too_long_error(path, limits)
+    } else if error.kind() == std::io::ErrorKind::InvalidInput {
+        too_many_columns_error(path, None, limits)
+    } else {
+        io_error(path, error)
+    }
+}
+
+/// [`read_header`] within `limits` (record length and column count).
+pub fn read_header_within<R: Read>(
+    source: R,
+    start_offset: u64,
+    delimiter: u8,
+    path: Option<&Path>,
+    limits: &ProfileLimits,
+) -> Result<Header, DataError> {
+    let mut reader = RecordReader::new(source, start_offset, delimiter)
+        .with_max_record_bytes(limits.record_bytes())
+        .with_max_fields(limits.max_columns().saturating_add(1));
     let record = reader
         .next_record(u64::MAX)
-        .map_err(|error| io_error(path, &error))?;
+        .map_err(|error| record_read_error(path, limits, &error))?;
     let Some(record) = record else {
         return Err(DataError {
             kind: DataErrorKind::Empty,
@@ -433,8 +506,17 @@ pub fn read_header<R: Read>(
             byte_offset: None,
         });
     };
+    if reader.field_count() > limits.max_columns() {
+        return Err(too_many_columns_error(
+            path,
+            Some(reader.field_count()),
+            limits,
+        ));
+    }
     let mut names: Vec<String> = Vec::with_capacity(reader.field_count());
     let mut ranges = Vec::with_capacity(reader.field_count());
+    let mut seen: std::collections::HashMap<String, usize> =
+        std::collections::HashMap::with_capacity(reader.field_count());
     for index in 0..reader.field_count() {
         let range = reader.field_byte_range(index);
         let offset = range.map_or(record.byte_offset, |(start, _)| start);
@@ -460,7 +542,7 @@ pub fn read_header<R: Read>(
                 offset,
             ));
         }
-        if let Some(first) = names.iter().position(|existing| *existing == name) {
+        if let Some(&first) = seen.get(&name) {
             return Err(bad_header(
                 path,
                 format!(
@@ -471,6 +553,7 @@ pub fn read_header<R: Read>(
                 offset,
             ));
         }
+        seen.insert(name.clone(), index);
         names.push(name);
         ranges.push(range);
     }
@@ -490,6 +573,54 @@ pub struct ScanControl {
     /// The input is a head cut from a longer file: a last record left inside an open quote
     /// is the cut's doing, not the file's, and is dropped.
     pub truncated_input: bool,
+    /// Memory and time the scan may take (the time as the `deadline` below).
+    pub limits: ProfileLimits,
+    pub deadline: Deadline,
+    /// Set when a scan stopped because the deadline passed.
+    pub timed_out: AtomicBool,
+    /// Threads scanning at once (each gets its share of the memory budget); 0 counts as 1.
+    pub readers: usize,
+}
+
+/// Cells between two looks at the clock and the cancel flag (besides every 4096 records), so
+/// that very wide rows are checked as often as narrow ones.
+const CELLS_BETWEEN_CHECKS: u64 = 1 << 20;
+
+impl ScanControl {
+    /// A control for a scan within `limits`, its deadline starting now.
+    pub fn within(limits: ProfileLimits) -> ScanControl {
+        ScanControl {
+            limits,
+            deadline: limits.time.start(),
+            ..ScanControl::default()
+        }
+    }
+
+    /// Whether the scan should stop: cancelled, or out of time (which is remembered).
+    pub fn should_stop(&self) -> bool {
+        if self.cancelled.load(Ordering::Relaxed) {
+            return true;
+        }
+        if self.deadline.passed() {
+            self.timed_out.store(true, Ordering::Relaxed);
+            self.cancelled.store(true, Ordering::Relaxed);
+            return true;
+        }
+        false
+    }
+
+    /// The error for a scan that stopped early: timed out, or cancelled.
+    pub fn stop_error(&self, path: Option<&Path>) -> DataError {
+        if self.timed_out.load(Ordering::Relaxed) {
+            timed_out_error(path, &self.limits)
+        } else {
+            cancelled_error(path)
+        }
+    }
+
+    pub fn table_budget(&self) -> super::profile::TableBudget {
+        self.limits.table_budget(self.readers)
+    }
 }
 
 /// What one scan of a byte range produced.
@@ -523,15 +654,18 @@ pub fn scan_records<R: Read>(
     control: &ScanControl,
     path: Option<&Path>,
 ) -> Result<RangeScan, DataError> {
-    let mut reader = RecordReader::new(source, start_offset, delimiter);
-    let mut table = TableAccumulator::with_columns(names);
+    let mut reader = RecordReader::new(source, start_offset, delimiter)
+        .with_max_record_bytes(control.limits.record_bytes())
+        .with_max_fields(control.limits.max_columns().saturating_add(1));
+    let mut table = TableAccumulator::with_budget(names, control.table_budget());
     let width = names.len();
     let mut reported_bytes = 0u64;
     let mut records_since_check = 0u32;
+    let mut cells_since_check = 0u64;
     loop {
         let record = reader
             .next_record(limit)
-            .map_err(|error| io_error(path, &error))?;
+            .map_err(|error| record_read_error(path, &control.limits, &error))?;
         let Some(record) = record else { break };
         if record.unterminated_quote && control.truncated_input {
             break;
@@ -584,15 +718,17 @@ pub fn scan_records<R: Read>(
             }
         }
         records_since_check += 1;
-        if records_since_check >= 4096 {
+        cells_since_check += cell_count as u64;
+        if records_since_check >= 4096 || cells_since_check >= CELLS_BETWEEN_CHECKS {
             records_since_check = 0;
+            cells_since_check = 0;
             let read = reader.bytes_read();
             control
                 .bytes_done
                 .fetch_add(read - reported_bytes, Ordering::Relaxed);
             reported_bytes = read;
-            if control.cancelled.load(Ordering::Relaxed) {
-                return Err(cancelled_error(path));
+            if control.should_stop() {
+                return Err(control.stop_error(path));
             }
         }
     }
@@ -725,7 +861,8 @@ pub fn scan_file(
             Some(existing) => existing.merge(&scan.table),
         }
     }
-    Ok(table.unwrap_or_else(|| TableAccumulator::with_columns(&header.names)))
+    Ok(table
+        .unwrap_or_else(|| TableAccumulator::with_budget(&header.names, control.table_budget())))
 }
 
 /// Profile delimited text held in memory (a sampled head, or a small file read at once).
@@ -735,24 +872,34 @@ pub fn scan_bytes(
     path: Option<&Path>,
     truncated: bool,
 ) -> Result<(Header, TableAccumulator), DataError> {
+    let control = ScanControl {
+        truncated_input: truncated,
+        ..ScanControl::within(ProfileLimits::UNTIMED)
+    };
+    scan_bytes_within(bytes, delimiter, path, &control)
+}
+
+/// [`scan_bytes`] under `control` (its limits, deadline and whether the input is a cut head).
+pub fn scan_bytes_within(
+    bytes: &[u8],
+    delimiter: u8,
+    path: Option<&Path>,
+    control: &ScanControl,
+) -> Result<(Header, TableAccumulator), DataError> {
     let bom = if bytes.starts_with(&[0xEF, 0xBB, 0xBF]) {
         3
     } else {
         0
     };
-    let header = read_header(&bytes[bom..], bom as u64, delimiter, path)?;
+    let header = read_header_within(&bytes[bom..], bom as u64, delimiter, path, &control.limits)?;
     let data_start = header.data_start as usize;
-    let control = ScanControl {
-        truncated_input: truncated,
-        ..ScanControl::default()
-    };
     let mut scan = scan_records(
         bytes.get(data_start..).unwrap_or(&[]),
         header.data_start,
         u64::MAX,
         delimiter,
         &header.names,
-        &control,
+        control,
         path,
     )
     .map_err(|mut error| {

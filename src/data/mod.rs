@@ -244,6 +244,121 @@ impl ReadOptions {
     }
 }
 
+/// How much one profile may take: memory and time (`[data]` in `markwell.toml`:
+/// `profile-memory-mib`, `profile-seconds`; `--profile-memory-mib` and `--profile-seconds` on
+/// the command line).
+///
+/// The memory budget `B` is shared out so that no shape of data exceeds it:
+/// - **records**: one record (a CSV row, an NDJSON line, an element of a JSON array) may be
+///   at most `B / 16` bytes (16 MiB by default); a scan has at most two readers, each holding
+///   one record and its unescaped copy: at most `B / 4`;
+/// - **distinct values**: all columns together `B / 4`, an equal share each; a column whose
+///   exact values outgrow its share switches to the HyperLogLog estimate (with fewer registers,
+///   and so a larger stated error, when the share is small);
+/// - **columns**: at most `B / 2 / COLUMN_FIXED_BYTES` columns (104,857 by default); a wider
+///   file is refused with a message saying how to raise the budget.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct ProfileLimits {
+    pub memory: crate::budget::MemoryBudget,
+    pub time: crate::budget::TimeBudget,
+}
+
+impl ProfileLimits {
+    /// No time limit, the default memory budget (for tests and tools).
+    pub const UNTIMED: ProfileLimits = ProfileLimits {
+        memory: crate::budget::MemoryBudget::DEFAULT_PROFILE,
+        time: crate::budget::TimeBudget::UNLIMITED,
+    };
+
+    pub fn record_bytes(&self) -> usize {
+        (self.memory.bytes / 16).min(usize::MAX as u64) as usize
+    }
+
+    pub fn max_columns(&self) -> usize {
+        ((self.memory.bytes / 2) as usize / profile::COLUMN_FIXED_BYTES).max(1)
+    }
+
+    /// The table budget of one of `readers` scanning threads.
+    pub fn table_budget(&self, readers: usize) -> profile::TableBudget {
+        profile::TableBudget {
+            distinct_bytes: (self.memory.bytes / 4) as usize / readers.max(1),
+            max_columns: self.max_columns(),
+        }
+    }
+
+    /// How to lift the limits, for messages.
+    pub fn how_to_raise(setting: &str) -> String {
+        format!("`{setting}` under `[data]` in markwell.toml raises it")
+    }
+}
+
+/// A record longer than the limits allow.
+pub fn record_too_long_error(path: Option<&Path>, limits: &ProfileLimits) -> DataError {
+    let shown = path.map_or_else(
+        || "the data".to_string(),
+        |path| format!("`{}`", path.display()),
+    );
+    DataError {
+        kind: DataErrorKind::TooLarge,
+        message: format!(
+            "a record (a row or a line) in {shown} is longer than {} MiB, the most one profile reads at once within its memory budget of {} MiB (an unclosed quote?); {}",
+            limits.record_bytes() >> 20,
+            limits.memory.mebibytes_shown(),
+            ProfileLimits::how_to_raise("profile-memory-mib")
+        ),
+        path: path.map(Path::to_path_buf),
+        line: None,
+        byte_offset: None,
+    }
+}
+
+/// A file with more columns than the limits allow.
+pub fn too_many_columns_error(
+    path: Option<&Path>,
+    columns: Option<usize>,
+    limits: &ProfileLimits,
+) -> DataError {
+    let shown = path.map_or_else(
+        || "the data".to_string(),
+        |path| format!("`{}`", path.display()),
+    );
+    let count = match columns {
+        Some(count) => format!("{count} columns"),
+        None => format!("more than {} columns", limits.max_columns()),
+    };
+    DataError {
+        kind: DataErrorKind::TooLarge,
+        message: format!(
+            "{shown} has {count}; a profile within its memory budget of {} MiB holds at most {} columns; {}",
+            limits.memory.mebibytes_shown(),
+            limits.max_columns(),
+            ProfileLimits::how_to_raise("profile-memory-mib")
+        ),
+        path: path.map(Path::to_path_buf),
+        line: Some(0),
+        byte_offset: None,
+    }
+}
+
+/// The time budget ran out.
+pub fn timed_out_error(path: Option<&Path>, limits: &ProfileLimits) -> DataError {
+    let shown = path.map_or_else(
+        || "the data".to_string(),
+        |path| format!("`{}`", path.display()),
+    );
+    DataError {
+        kind: DataErrorKind::TimedOut,
+        message: format!(
+            "profiling {shown} took longer than its time budget of {} and was stopped; {}",
+            limits.time.describe(),
+            ProfileLimits::how_to_raise("profile-seconds")
+        ),
+        path: path.map(Path::to_path_buf),
+        line: None,
+        byte_offset: None,
+    }
+}
+
 /// Where the spec lives and what it may read.
 #[derive(Clone, Debug, Default)]
 pub struct ResolveOptions {
@@ -252,6 +367,8 @@ pub struct ResolveOptions {
     /// Paths that leave this root (after resolving symlinks) are refused.
     pub workspace_root: Option<PathBuf>,
     pub allow_outside_workspace: bool,
+    /// How much one profile may take.
+    pub limits: ProfileLimits,
 }
 
 #[derive(Clone, Debug, PartialEq)]

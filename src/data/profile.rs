@@ -19,6 +19,7 @@ use super::infer::{
 };
 use super::sketch::{
     equal_width_bin, hash_bytes, hash_number_bits, CompensatedSum, DoublingHistogram, HyperLogLog,
+    HYPERLOGLOG_MINIMUM_PRECISION, HYPERLOGLOG_PRECISION, SMALL_FINE_BIN_COUNT,
 };
 use super::{ColumnProfile, DataProblem, DataProfile, DistinctCount, NumericSummary};
 use crate::spec::model::{AttributeKind, DataFormat, ZeroMeaning};
@@ -51,13 +52,80 @@ struct TextEntry {
     count: u64,
 }
 
-/// Exact distinct values with counts, then a HyperLogLog once there are too many.
-#[derive(Clone, Debug, Default)]
+/// What one column's distinct values may take: the table sets it from its memory budget and
+/// its width (see [`TableBudget`]); a column alone is bounded only by the fixed caps.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct DistinctQuota {
+    /// Bytes of exact values (tables and text) before the switch to an estimate, and the most
+    /// the estimate with its kept values and histogram may take after it.
+    pub bytes: usize,
+    /// HyperLogLog precision of the estimate.
+    pub precision: u32,
+}
+
+impl DistinctQuota {
+    pub const UNBOUNDED: DistinctQuota = DistinctQuota {
+        bytes: usize::MAX,
+        precision: HYPERLOGLOG_PRECISION,
+    };
+
+    /// The quota for a share of `bytes`: the sketch takes at most a quarter of it.
+    pub fn for_share(bytes: usize) -> DistinctQuota {
+        let mut precision = HYPERLOGLOG_PRECISION;
+        while precision > HYPERLOGLOG_MINIMUM_PRECISION && (1usize << precision) > bytes / 4 {
+            precision -= 1;
+        }
+        DistinctQuota { bytes, precision }
+    }
+
+    fn histogram_bins(&self) -> usize {
+        if self.bytes < 64 << 10 {
+            SMALL_FINE_BIN_COUNT
+        } else {
+            DoublingHistogram::default().fine_bins()
+        }
+    }
+}
+
+/// Bytes a `hashbrown` table with room for `capacity` entries of `entry` bytes allocates
+/// (buckets are a power of two, at most 7/8 full, one control byte each, plus a group).
+fn table_heap_bytes(capacity: usize, entry: usize) -> usize {
+    if capacity == 0 {
+        return 0;
+    }
+    let buckets = if capacity < 8 {
+        (capacity + 1).next_power_of_two()
+    } else {
+        (capacity * 8 / 7).next_power_of_two()
+    };
+    buckets * (entry + 1) + 16
+}
+
+/// Exact distinct values with counts, then a HyperLogLog once there are too many (by count,
+/// by bytes of text, or by the quota the table's memory budget gives the column).
+#[derive(Clone, Debug)]
 struct DistinctTracker {
     numbers: HashTable<NumberEntry>,
     texts: HashTable<TextEntry>,
     text_arena: Vec<u8>,
     estimate: Option<Box<HyperLogLog>>,
+    /// Every number since the switch to an estimate (before it, the exact values give the
+    /// histogram), so a column that stays exact allocates no bins.
+    histogram: DoublingHistogram,
+    quota: DistinctQuota,
+}
+
+impl Default for DistinctTracker {
+    fn default() -> DistinctTracker {
+        DistinctTracker {
+            numbers: HashTable::new(),
+            texts: HashTable::new(),
+            text_arena: Vec::new(),
+            estimate: None,
+            histogram: DoublingHistogram::default(),
+            quota: DistinctQuota::UNBOUNDED,
+        }
+    }
 }
 
 /// Equal numbers share one key: `-0.0` is `0.0`.
@@ -74,31 +142,79 @@ impl DistinctTracker {
         self.numbers.len() + self.texts.len()
     }
 
+    /// Bytes held on the heap (an estimate from the capacities, computed in constant time).
+    fn heap_bytes(&self) -> usize {
+        table_heap_bytes(self.numbers.capacity(), std::mem::size_of::<NumberEntry>())
+            + table_heap_bytes(self.texts.capacity(), std::mem::size_of::<TextEntry>())
+            + self.text_arena.capacity()
+            + self.estimate.as_ref().map_or(0, |sketch| {
+                sketch.heap_bytes() + std::mem::size_of::<HyperLogLog>()
+            })
+            + self.histogram.heap_bytes()
+    }
+
     fn over_cap(&self) -> bool {
-        self.exact_len() > EXACT_DISTINCT_CAP || self.text_arena.len() > EXACT_DISTINCT_BYTES_CAP
+        self.exact_len() > EXACT_DISTINCT_CAP
+            || self.text_arena.len() > EXACT_DISTINCT_BYTES_CAP
+            || self.heap_bytes() > self.quota.bytes
     }
 
     fn switch_to_estimate(&mut self) {
         if self.estimate.is_some() {
             return;
         }
-        let mut sketch = Box::new(HyperLogLog::new());
+        let mut sketch = Box::new(HyperLogLog::with_precision(self.quota.precision));
+        let mut histogram = DoublingHistogram::with_fine_bins(self.quota.histogram_bins());
         for entry in self.numbers.iter() {
             sketch.add_hash(hash_number_bits(entry.bits));
+            histogram.add(f64::from_bits(entry.bits), entry.count);
         }
         for entry in self.texts.iter() {
             sketch.add_hash(entry.hash);
         }
         self.estimate = Some(sketch);
+        self.histogram = histogram;
         self.keep_only_most_frequent();
     }
 
+    /// Apply a new (smaller) quota: switch to an estimate, coarsen it, or keep fewer values.
+    fn set_quota(&mut self, quota: DistinctQuota) {
+        self.quota = quota;
+        if let Some(sketch) = &mut self.estimate {
+            if sketch.precision() > quota.precision {
+                **sketch = sketch.folded_to(quota.precision);
+            }
+            if self.histogram.fine_bins() > quota.histogram_bins() {
+                let mut coarse = DoublingHistogram::with_fine_bins(quota.histogram_bins());
+                coarse.merge(&self.histogram);
+                self.histogram = coarse;
+            }
+            if self.heap_bytes() > quota.bytes {
+                self.keep_only_most_frequent();
+            }
+        } else if self.over_cap() {
+            self.switch_to_estimate();
+        }
+    }
+
     /// After the switch to an estimate, keep counting only the most frequent values seen so
-    /// far: a small table stays in the processor's cache and bounds memory.
+    /// far (at most [`KEPT_AFTER_SWITCH`] of each sort, and within what the quota leaves after
+    /// the sketch and the histogram): a small table stays in the processor's cache and bounds
+    /// memory.
     fn keep_only_most_frequent(&mut self) {
+        let fixed = self
+            .estimate
+            .as_ref()
+            .map_or(0, |sketch| sketch.heap_bytes())
+            + self.histogram.heap_bytes();
+        let room = self.quota.bytes.saturating_sub(fixed) / 2;
+        // an entry costs its slot (about twice its size once the table's slack is counted)
+        let number_cost = 2 * (std::mem::size_of::<NumberEntry>() + 1);
+        let text_cost = 2 * (std::mem::size_of::<TextEntry>() + 1);
+
         let mut numbers: Vec<NumberEntry> = self.numbers.iter().copied().collect();
         numbers.sort_unstable_by_key(|entry| std::cmp::Reverse(entry.count));
-        numbers.truncate(KEPT_AFTER_SWITCH);
+        numbers.truncate(KEPT_AFTER_SWITCH.min(room / number_cost));
         let mut number_table = HashTable::with_capacity(numbers.len());
         for entry in numbers {
             number_table.insert_unique(hash_number_bits(entry.bits), entry, |entry| {
@@ -109,8 +225,18 @@ impl DistinctTracker {
 
         let mut texts: Vec<TextEntry> = self.texts.iter().copied().collect();
         texts.sort_unstable_by_key(|entry| std::cmp::Reverse(entry.count));
-        texts.truncate(KEPT_AFTER_SWITCH);
-        let mut arena = Vec::new();
+        let mut used = 0usize;
+        let mut kept = 0usize;
+        for entry in &texts {
+            let cost = text_cost.saturating_add(entry.length as usize);
+            if kept == KEPT_AFTER_SWITCH || used.saturating_add(cost) > room {
+                break;
+            }
+            used += cost;
+            kept += 1;
+        }
+        texts.truncate(kept);
+        let mut arena = Vec::with_capacity(used.saturating_sub(kept * text_cost));
         let mut text_table = HashTable::with_capacity(texts.len());
         for entry in texts {
             let text = DistinctTracker::text_of(&self.text_arena, &entry);
@@ -125,8 +251,16 @@ impl DistinctTracker {
     }
 
     fn add_number_count(&mut self, value: f64, count: u64) {
+        self.add_number_count_to(value, count, true);
+    }
+
+    /// `to_histogram`: false for values a merged estimate's histogram already holds.
+    fn add_number_count_to(&mut self, value: f64, count: u64, to_histogram: bool) {
         let bits = canonical_number_bits(value);
         let hash = hash_number_bits(bits);
+        if to_histogram && self.estimate.is_some() {
+            self.histogram.add(value, count);
+        }
         if let Some(entry) = self.numbers.find_mut(hash, |entry| entry.bits == bits) {
             entry.count += count;
             return;
@@ -184,8 +318,14 @@ impl DistinctTracker {
     }
 
     fn merge(&mut self, other: &DistinctTracker) {
+        if other.estimate.is_some() {
+            // its histogram holds all its numbers, the kept ones included
+            self.switch_to_estimate();
+            self.histogram.merge(&other.histogram);
+        }
+        let to_histogram = other.estimate.is_none();
         for entry in other.numbers.iter() {
-            self.add_number_count(f64::from_bits(entry.bits), entry.count);
+            self.add_number_count_to(f64::from_bits(entry.bits), entry.count, to_histogram);
         }
         for entry in other.texts.iter() {
             let text = DistinctTracker::text_of(&other.text_arena, entry);
@@ -209,7 +349,7 @@ impl DistinctTracker {
             Some(sketch) => DistinctCount {
                 value: sketch.estimate().round() as u64,
                 exact: false,
-                relative_error: HyperLogLog::relative_standard_error(),
+                relative_error: sketch.relative_error(),
             },
         }
     }
@@ -309,7 +449,6 @@ pub struct ColumnAccumulator {
     non_numeric_examples: Vec<String>,
     samples: Vec<String>,
     distinct: DistinctTracker,
-    histogram: DoublingHistogram,
 }
 
 impl ColumnAccumulator {
@@ -338,7 +477,6 @@ impl ColumnAccumulator {
         }
         self.numeric_count += 1;
         self.numeric_sum.add(value);
-        self.histogram.add(value, 1);
         self.distinct.add_number_count(value, 1);
     }
 
@@ -438,7 +576,6 @@ impl ColumnAccumulator {
             self.keep_sample(sample);
         }
         self.distinct.merge(&other.distinct);
-        self.histogram.merge(&other.histogram);
     }
 
     fn finish(&self, name: &str, index: usize, rows: u64) -> ColumnProfile {
@@ -474,7 +611,8 @@ impl ColumnAccumulator {
                 }
                 bins
             } else {
-                self.histogram
+                self.distinct
+                    .histogram
                     .rebin(self.numeric_min, self.numeric_max, bin_count)
             };
             NumericSummary {
@@ -651,6 +789,22 @@ pub fn histogram_bin_count(min: f64, max: f64, all_integers: bool) -> usize {
     }
 }
 
+/// Bytes one column costs a profile whatever its values: its accumulator, its name (kept
+/// twice, in order and in the index), a few samples, and the finished [`ColumnProfile`] with
+/// its strings. Measured with `markwell check` on 100,000 one-row columns (see
+/// `tests/hostile_limits.rs`: 1.25 KB a column), rounded up.
+pub const COLUMN_FIXED_BYTES: usize = 1280;
+
+/// What a table may hold, from the profile's memory budget (see [`super::ProfileLimits`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct TableBudget {
+    /// Bytes for the distinct values of all columns together: each column gets an equal
+    /// share of it (recomputed as the table widens), and switches to an estimate past it.
+    pub distinct_bytes: usize,
+    /// Most columns; keys past it are not profiled and the table is marked too wide.
+    pub max_columns: usize,
+}
+
 /// The profile of a whole table under construction.
 #[derive(Clone, Debug, Default)]
 pub struct TableAccumulator {
@@ -661,6 +815,11 @@ pub struct TableAccumulator {
     problems: Vec<DataProblem>,
     /// Problems seen, including those not kept.
     problem_total: u64,
+    budget: Option<TableBudget>,
+    /// Columns the quotas were last computed for (a power of two).
+    quota_level: usize,
+    /// A key past `max_columns` was seen (and left out).
+    too_wide: bool,
 }
 
 impl TableAccumulator {
@@ -672,6 +831,35 @@ impl TableAccumulator {
         table
     }
 
+    /// A table for `names` (possibly none yet, for JSON) that stays within `budget`. The
+    /// caller checks the width of a header against `budget.max_columns` first.
+    pub fn with_budget(names: &[String], budget: TableBudget) -> TableAccumulator {
+        let mut table = TableAccumulator {
+            budget: Some(budget),
+            quota_level: names.len().max(1).next_power_of_two(),
+            ..TableAccumulator::default()
+        };
+        table.names.reserve(names.len());
+        table.columns.reserve(names.len());
+        table.index_by_name.reserve(names.len());
+        for name in names {
+            table.column_index(name);
+        }
+        table
+    }
+
+    /// Whether a key was left out for the column limit.
+    pub fn is_too_wide(&self) -> bool {
+        self.too_wide
+    }
+
+    fn quota_at(&self, level: usize) -> DistinctQuota {
+        match self.budget {
+            None => DistinctQuota::UNBOUNDED,
+            Some(budget) => DistinctQuota::for_share(budget.distinct_bytes / level.max(1)),
+        }
+    }
+
     /// The index of column `name`, adding it (for JSON rows, whose keys appear as they come).
     pub fn column_index(&mut self, name: &str) -> usize {
         if let Some(&index) = self.index_by_name.get(name) {
@@ -679,9 +867,36 @@ impl TableAccumulator {
         }
         let index = self.names.len();
         self.names.push(name.to_string());
-        self.columns.push(ColumnAccumulator::default());
+        let mut column = ColumnAccumulator::default();
+        if self.budget.is_some() {
+            if self.names.len() > self.quota_level {
+                // twice as wide: every column's share halves (amortised constant per column)
+                self.quota_level = self.names.len().next_power_of_two();
+                let quota = self.quota_at(self.quota_level);
+                for existing in &mut self.columns {
+                    existing.distinct.set_quota(quota);
+                }
+            }
+            column.distinct.quota = self.quota_at(self.quota_level);
+        }
+        self.columns.push(column);
         self.index_by_name.insert(name.to_string(), index);
         index
+    }
+
+    /// Like [`TableAccumulator::column_index`], but `None` (and the table marked too wide)
+    /// for a new key past the budget's column limit.
+    pub fn try_column_index(&mut self, name: &str) -> Option<usize> {
+        if let Some(&index) = self.index_by_name.get(name) {
+            return Some(index);
+        }
+        if let Some(budget) = self.budget {
+            if self.names.len() >= budget.max_columns {
+                self.too_wide = true;
+                return None;
+            }
+        }
+        Some(self.column_index(name))
     }
 
     pub fn add_problem(&mut self, problem: DataProblem) {
@@ -712,6 +927,7 @@ impl TableAccumulator {
             self.columns[index].merge(column);
         }
         self.rows += other.rows;
+        self.too_wide |= other.too_wide;
         for problem in &other.problems {
             if self.problems.len() < PROBLEM_CAP {
                 self.problems.push(problem.clone());

@@ -1069,6 +1069,7 @@ mod tests {
             spec_dir: folder.clone(),
             workspace_root: Some(folder),
             allow_outside_workspace: false,
+            limits: crate::data::ProfileLimits::default(),
         };
         let source = |path: &str| Source {
             range: Default::default(),

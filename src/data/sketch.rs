@@ -53,9 +53,12 @@ pub fn hash_number_bits(bits: u64) -> u64 {
 }
 
 /// Bits of the register index: m = 2^14 = 16384 registers (16 KiB), standard error
-/// 1.04 / sqrt(16384) = 0.8125 %.
+/// 1.04 / sqrt(16384) = 0.8125 %. A profile under a tight memory budget (a very wide file)
+/// uses fewer registers per column, down to [`HYPERLOGLOG_MINIMUM_PRECISION`], and says so
+/// through the larger error it reports.
 pub const HYPERLOGLOG_PRECISION: u32 = 14;
-const REGISTER_COUNT: usize = 1 << HYPERLOGLOG_PRECISION;
+/// 2^4 = 16 registers: standard error 26 %, the least a column's sketch may have.
+pub const HYPERLOGLOG_MINIMUM_PRECISION: u32 = 4;
 
 /// HyperLogLog distinct-count estimator.
 ///
@@ -65,9 +68,17 @@ const REGISTER_COUNT: usize = 1 << HYPERLOGLOG_PRECISION;
 /// correction `m ln(m / V)` when the raw estimate is at most `5/2 m` and `V` registers are zero,
 /// and the standard error `1.04 / sqrt(m)`. The paper's large-range correction exists for 32-bit
 /// hashes; with 64-bit hashes it is not needed (Heule, Nunkesser, Hall 2013, "HyperLogLog in
-/// practice", from memory).
+/// practice", from memory). The `alpha_m` formula is the paper's for m >= 128; for the smaller
+/// sketches of very wide files the paper's table gives 0.673 (m = 16), 0.697 (m = 32) and
+/// 0.709 (m = 64) (from memory), used here.
+///
+/// Two sketches of different precision merge by folding the finer one down (register `j` at
+/// precision `p` lands in `j >> (p - q)` at `q`; the dropped index bits lead the remaining bits,
+/// so the rank is their leading zeros plus one, or `p - q` plus the old rank when they are all
+/// zero). The fold gives exactly the sketch that precision `q` would have built.
 #[derive(Clone, Debug)]
 pub struct HyperLogLog {
+    precision: u32,
     registers: Vec<u8>,
 }
 
@@ -79,21 +90,47 @@ impl Default for HyperLogLog {
 
 impl HyperLogLog {
     pub fn new() -> HyperLogLog {
+        HyperLogLog::with_precision(HYPERLOGLOG_PRECISION)
+    }
+
+    /// A sketch of `2^precision` registers (precision clamped to 4..=14).
+    pub fn with_precision(precision: u32) -> HyperLogLog {
+        let precision = precision.clamp(HYPERLOGLOG_MINIMUM_PRECISION, HYPERLOGLOG_PRECISION);
         HyperLogLog {
-            registers: vec![0; REGISTER_COUNT],
+            precision,
+            registers: vec![0; 1 << precision],
         }
     }
 
-    /// Standard error of the estimate relative to the true count.
+    pub fn precision(&self) -> u32 {
+        self.precision
+    }
+
+    /// Bytes the registers take.
+    pub fn heap_bytes(&self) -> usize {
+        self.registers.len()
+    }
+
+    /// Standard error of the estimate relative to the true count, at the default precision.
     pub fn relative_standard_error() -> f64 {
-        1.04 / (REGISTER_COUNT as f64).sqrt()
+        HyperLogLog::relative_standard_error_at(HYPERLOGLOG_PRECISION)
+    }
+
+    pub fn relative_standard_error_at(precision: u32) -> f64 {
+        1.04 / ((1u64 << precision) as f64).sqrt()
+    }
+
+    /// Standard error of this sketch's estimate relative to the true count.
+    pub fn relative_error(&self) -> f64 {
+        HyperLogLog::relative_standard_error_at(self.precision)
     }
 
     pub fn add_hash(&mut self, hash: u64) {
-        let index = (hash >> (64 - HYPERLOGLOG_PRECISION)) as usize;
-        let remaining = hash << HYPERLOGLOG_PRECISION;
+        let precision = self.precision;
+        let index = (hash >> (64 - precision)) as usize;
+        let remaining = hash << precision;
         // position of the leftmost 1-bit among the remaining 64 - p bits, 1-based
-        let rank = (remaining.leading_zeros().min(64 - HYPERLOGLOG_PRECISION) + 1) as u8;
+        let rank = (remaining.leading_zeros().min(64 - precision) + 1) as u8;
         if let Some(register) = self.registers.get_mut(index) {
             if rank > *register {
                 *register = rank;
@@ -101,7 +138,45 @@ impl HyperLogLog {
         }
     }
 
+    /// This sketch at a coarser precision (the same when `precision` is not coarser).
+    pub fn folded_to(&self, precision: u32) -> HyperLogLog {
+        let precision = precision.clamp(HYPERLOGLOG_MINIMUM_PRECISION, self.precision);
+        if precision == self.precision {
+            return self.clone();
+        }
+        let dropped = self.precision - precision;
+        let mut folded = HyperLogLog::with_precision(precision);
+        for (index, &register) in self.registers.iter().enumerate() {
+            if register == 0 {
+                continue;
+            }
+            let low_bits = (index as u64) & ((1u64 << dropped) - 1);
+            let rank = if low_bits != 0 {
+                // the dropped bits, as the leading bits of a `dropped`-bit field
+                (low_bits.leading_zeros() - (64 - dropped) + 1) as u8
+            } else {
+                (dropped as u8).saturating_add(register)
+            };
+            let target = &mut folded.registers[index >> dropped];
+            if rank > *target {
+                *target = rank;
+            }
+        }
+        folded
+    }
+
+    /// Merge `other` in; when the precisions differ, the result has the coarser one.
     pub fn merge(&mut self, other: &HyperLogLog) {
+        if other.precision < self.precision {
+            *self = self.folded_to(other.precision);
+        }
+        let folded;
+        let other = if other.precision > self.precision {
+            folded = other.folded_to(self.precision);
+            &folded
+        } else {
+            other
+        };
         for (mine, theirs) in self.registers.iter_mut().zip(other.registers.iter()) {
             if *theirs > *mine {
                 *mine = *theirs;
@@ -110,8 +185,13 @@ impl HyperLogLog {
     }
 
     pub fn estimate(&self) -> f64 {
-        let register_count = REGISTER_COUNT as f64;
-        let alpha = 0.7213 / (1.0 + 1.079 / register_count);
+        let register_count = self.registers.len() as f64;
+        let alpha = match self.registers.len() {
+            16 => 0.673,
+            32 => 0.697,
+            64 => 0.709,
+            _ => 0.7213 / (1.0 + 1.079 / register_count),
+        };
         let mut harmonic_sum = 0.0;
         let mut zero_registers = 0usize;
         for &register in &self.registers {
@@ -159,6 +239,8 @@ impl CompensatedSum {
 }
 
 const FINE_BIN_COUNT: usize = 512;
+/// Fine bins of the small histogram that columns of very wide files keep (512 bytes).
+pub const SMALL_FINE_BIN_COUNT: usize = 64;
 
 /// A histogram of equal, power-of-two-wide bins aligned on multiples of the width. When a value
 /// falls outside the bins, the width doubles and neighbouring bins merge, so memory stays fixed
@@ -170,16 +252,13 @@ pub struct DoublingHistogram {
     first_bin: i64,
     counts: Vec<u64>,
     total: u64,
+    /// Bins kept at once: 512, or [`SMALL_FINE_BIN_COUNT`] under a tight memory budget.
+    fine_bins: usize,
 }
 
 impl Default for DoublingHistogram {
     fn default() -> DoublingHistogram {
-        DoublingHistogram {
-            width: (-30.0f64).exp2(),
-            first_bin: 0,
-            counts: Vec::new(),
-            total: 0,
-        }
+        DoublingHistogram::with_fine_bins(FINE_BIN_COUNT)
     }
 }
 
@@ -188,6 +267,26 @@ fn floor_div_by_two(value: i64) -> i64 {
 }
 
 impl DoublingHistogram {
+    /// A histogram that keeps `fine_bins` bins (at least 16).
+    pub fn with_fine_bins(fine_bins: usize) -> DoublingHistogram {
+        DoublingHistogram {
+            width: (-30.0f64).exp2(),
+            first_bin: 0,
+            counts: Vec::new(),
+            total: 0,
+            fine_bins: fine_bins.max(16),
+        }
+    }
+
+    pub fn fine_bins(&self) -> usize {
+        self.fine_bins
+    }
+
+    /// Bytes the bins take.
+    pub fn heap_bytes(&self) -> usize {
+        self.counts.capacity() * std::mem::size_of::<u64>()
+    }
+
     fn bin_of(&self, value: f64) -> i64 {
         // `as` saturates, so huge values land far away and force doublings, never a panic
         (value / self.width).floor() as i64
@@ -195,7 +294,7 @@ impl DoublingHistogram {
 
     fn double_width(&mut self) {
         let new_first = floor_div_by_two(self.first_bin);
-        let mut merged = vec![0u64; FINE_BIN_COUNT];
+        let mut merged = vec![0u64; self.fine_bins];
         for (offset, &count) in self.counts.iter().enumerate() {
             let old_bin = self.first_bin + offset as i64;
             let new_offset = (floor_div_by_two(old_bin) - new_first) as usize;
@@ -221,13 +320,13 @@ impl DoublingHistogram {
             let (occupied_low, occupied_high) = self.occupied_span().unwrap_or((low, high));
             let span_low = occupied_low.min(low);
             let span_high = occupied_high.max(high);
-            if span_high.saturating_sub(span_low) < FINE_BIN_COUNT as i64 {
+            if span_high.saturating_sub(span_low) < self.fine_bins as i64 {
                 if span_low < self.first_bin
-                    || span_high >= self.first_bin + FINE_BIN_COUNT as i64
+                    || span_high >= self.first_bin + self.fine_bins as i64
                     || self.counts.is_empty()
                 {
                     // shift the window to start at the lowest needed bin
-                    let mut shifted = vec![0u64; FINE_BIN_COUNT];
+                    let mut shifted = vec![0u64; self.fine_bins];
                     for (offset, &count) in self.counts.iter().enumerate() {
                         let bin = self.first_bin + offset as i64;
                         if count > 0 {
@@ -257,13 +356,13 @@ impl DoublingHistogram {
         let mut bin = self.bin_of(value);
         if self.counts.is_empty()
             || bin < self.first_bin
-            || bin >= self.first_bin + FINE_BIN_COUNT as i64
+            || bin >= self.first_bin + self.fine_bins as i64
         {
             self.cover(bin, bin);
             bin = self.bin_of(value);
         }
         let offset = bin - self.first_bin;
-        if (0..FINE_BIN_COUNT as i64).contains(&offset) {
+        if (0..self.fine_bins as i64).contains(&offset) {
             self.counts[offset as usize] += count;
         } else if let Some(last) = self.counts.last_mut() {
             // only reachable at the very edge of the f64 range
@@ -340,6 +439,24 @@ pub fn equal_width_bin(value: f64, min: f64, max: f64, bin_count: usize) -> usiz
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_folded_sketch_is_the_sketch_built_at_the_coarser_precision() {
+        let mut fine = HyperLogLog::new();
+        let mut coarse = HyperLogLog::with_precision(7);
+        for value in 0..50_000u64 {
+            let hash = hash_number_bits(value);
+            fine.add_hash(hash);
+            coarse.add_hash(hash);
+        }
+        let folded = fine.folded_to(7);
+        assert_eq!(folded.registers, coarse.registers);
+        let mut merged = HyperLogLog::new();
+        merged.merge(&coarse);
+        assert_eq!(merged.precision(), 7);
+        let error = (coarse.estimate() - 50_000.0).abs() / 50_000.0;
+        assert!(error < 3.0 * coarse.relative_error(), "error {error}");
+    }
 
     #[test]
     fn doubling_histogram_keeps_every_count_and_orders_bins() {

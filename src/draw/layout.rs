@@ -1068,7 +1068,22 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         } else {
             0.0
         };
-    let panel_gap_x = if columns > 1 { 16.0 } else { 0.0 };
+    // level labels of a continuous x axis are centred on their ticks: the end ones reach past
+    // the plot by half their width, into the margins and the gaps between panels
+    let x_overhang = match (&x_scale, &x_info) {
+        (Some(scale @ PositionScale::Continuous(_)), Some(info)) => {
+            let ranged = scale.with_range(x_range(0.0, estimate_width, info));
+            max_label_width(&fitting_x_ticks(&ranged, estimate_width), TICK_LABEL_SIZE) / 2.0 + 2.0
+        }
+        _ => 0.0,
+    };
+    let right = right.max(x_overhang);
+    let left = left.max(x_overhang);
+    let panel_gap_x = if columns > 1 {
+        16f64.max(2.0 * x_overhang + MIN_LABEL_GAP)
+    } else {
+        0.0
+    };
     let plot_width =
         ((width - left - right - panel_gap_x * (columns - 1) as f64) / columns as f64).max(10.0);
 
@@ -1160,6 +1175,7 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         .collect();
 
     // panel backgrounds, strips, grid and axes
+    let mut panel_groups = Vec::new();
     for (panel, (x, y)) in panels.iter().zip(&panel_scales) {
         let mut furniture = Vec::new();
         if let Some(label) = &panel.label {
@@ -1187,7 +1203,6 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
             )));
         }
         let mut grid = Vec::new();
-        let mut axis_nodes = Vec::new();
         if let (Some(scale), Some(info)) = (x, &x_info) {
             let ticks = fitting_x_ticks(scale, panel.plot.width);
             let axis = x_axis(panel, scale, info, ticks, x_setting);
@@ -1208,7 +1223,6 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
                     ));
                 }
             }
-            axis_nodes.push(axis_group(&axis, panel));
             axes.push(axis);
         }
         if let (Some(scale), Some(info)) = (y, &y_info) {
@@ -1231,9 +1245,9 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
                     ));
                 }
             }
-            axis_nodes.push(axis_group(&axis, panel));
             axes.push(axis);
         }
+        panel_groups.push(groups.len());
         groups.push(Group {
             role: Role::Panel,
             label: panel.label.as_ref().map(|label| format!("panel {label}")),
@@ -1250,9 +1264,38 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
                 }),
             ]
             .into_iter()
-            .chain(axis_nodes)
             .collect(),
         });
+    }
+
+    // a label that would touch one already drawn (of any axis: neighbouring panels' ends meet)
+    // is left out; its tick stays
+    let mut drawn_labels: Vec<BoxRect> = Vec::new();
+    for axis in &mut axes {
+        for tick in &mut axis.ticks {
+            let Some(bounds) = tick.label_bounds() else {
+                continue;
+            };
+            let padded = BoxRect {
+                x: bounds.x - MIN_LABEL_GAP / 2.0,
+                y: bounds.y,
+                width: bounds.width + MIN_LABEL_GAP,
+                height: bounds.height,
+            };
+            if drawn_labels.iter().any(|other| other.overlaps(&padded)) {
+                tick.label_item = None;
+            } else {
+                drawn_labels.push(bounds);
+            }
+        }
+    }
+    for axis in &axes {
+        if let (Some(group_index), Some(panel)) =
+            (panel_groups.get(axis.panel), panels.get(axis.panel))
+        {
+            let node = axis_group(axis, panel);
+            groups[*group_index].children.push(node);
+        }
     }
 
     // axis titles, once for the grid
@@ -2365,6 +2408,8 @@ struct LegendSpec {
 }
 
 const SWATCH: f64 = 11.0;
+/// Entries one legend lists at most; past it the last says how many more there are.
+pub const MAX_LEGEND_ENTRIES: usize = 16;
 const LEGEND_ROW: f64 = 17.0;
 
 fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<LegendSpec> {
@@ -2440,6 +2485,17 @@ fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<LegendSpec>
                     .any(|spec| spec.channel == info.channel && spec.title == info.title)
             {
                 continue;
+            }
+            let mut entries = entries;
+            if entries.len() > MAX_LEGEND_ENTRIES {
+                let hidden = entries.len() - (MAX_LEGEND_ENTRIES - 1);
+                entries.truncate(MAX_LEGEND_ENTRIES - 1);
+                entries.push(LegendEntry {
+                    label: format!("and {hidden} more"),
+                    colour: None,
+                    symbol: None,
+                    radius: SWATCH / 2.0,
+                });
             }
             let mark_room = entries
                 .iter()

@@ -11,6 +11,7 @@
 pub mod completion;
 pub mod convert;
 pub mod documents;
+pub mod evaluate;
 pub mod features;
 pub mod framing;
 pub mod log;

@@ -13,6 +13,10 @@
 //!   are computed in the background (`spawn_blocking`, `$/progress` with percentages after
 //!   0.5 s when the client supports it), then the specs reading the file are analysed again;
 //!   watched-file events invalidate the cache and re-analyse the specs that read the file;
+//! - evaluation (what the chart draws, for the rules that judge it): inside the analysis task
+//!   over the sampled head of the data, then exactly in the background (`spawn_blocking`, after
+//!   the text has rested for [`EXACT_EVALUATION_AFTER`]); the exact scan stops once its text is
+//!   superseded, and its result is used only for the generation it was computed for;
 //! - every handler body runs inside `catch_unwind`: a panic becomes a logged error response (or a
 //!   logged dropped notification), never a dead server;
 //! - requests to the client (configuration, registration, progress tokens) time out after 5 s.
@@ -31,8 +35,9 @@ use tower_lsp::{Client, LanguageServer};
 
 use crate::analysis::config::{parse_project_config, ProjectConfig, CONFIG_FILE_NAME};
 use crate::analysis::refactor::refactors_at;
-use crate::analysis::{analyze, parse_document, AnalysisConfig};
+use crate::analysis::{analyze_with_evaluation, parse_document, AnalysisConfig};
 use crate::data::{DataContext, ProfileCache, ReadOptions, ResolveOptions};
+use crate::eval::EvaluatedChart;
 use crate::lsp::completion;
 use crate::lsp::convert::{self, from_lsp_position, to_lsp_range};
 use crate::lsp::documents::{next_generation, AnalysisOutcome, OpenDocument, TextChange};
@@ -103,6 +108,8 @@ struct Session {
     file_config: AnalysisConfig,
     /// `[data] allow-outside-workspace` of `markwell.toml`.
     allow_outside_workspace: bool,
+    /// `[data] profile-memory-mib` and `profile-seconds` of `markwell.toml`.
+    profile_limits: crate::data::ProfileLimits,
     editor_settings: EditorSettings,
     config: Arc<AnalysisConfig>,
 }
@@ -121,6 +128,12 @@ struct DocumentRecord {
     published: Option<Vec<lsp::Diagnostic>>,
     /// Data files read by the latest analysis.
     data_paths: Vec<PathBuf>,
+    /// The latest evaluation of one generation of the text: over the sampled head, until the
+    /// exact one (over all the rows) replaces it. Reused while the text and the data stay the
+    /// same (a full profile arriving does not evaluate the head again).
+    evaluation: Option<(u64, Arc<EvaluatedChart>)>,
+    /// The generation whose exact evaluation is being computed, when one is.
+    exact_evaluation_running: Option<u64>,
 }
 
 /// Everything the handlers and the analysis tasks share.
@@ -154,6 +167,8 @@ struct Snapshot {
     index: Arc<LineIndex>,
     resolve: ResolveOptions,
     config: Arc<AnalysisConfig>,
+    /// The evaluation of this text, when it was computed already (sampled or exact).
+    known_evaluation: Option<Arc<EvaluatedChart>>,
 }
 
 fn lock<T>(mutex: &Mutex<T>) -> MutexGuard<'_, T> {
@@ -189,19 +204,28 @@ fn guarded<T>(what: &str, body: impl FnOnce() -> T) -> jsonrpc::Result<T> {
     })
 }
 
-/// Parse, load the data (a sampled first profile for files without a cached full one) and run
-/// the rules. With `reuse_data`, no data is loaded (the request path).
+/// Parse, load the data (a sampled first profile for files without a cached full one), evaluate
+/// the chart (exactly when that was done for this text, else over the sampled head) and run the
+/// rules. With `reuse_data`, no data is loaded and nothing is evaluated (the request path).
 fn analyse_snapshot(
     snapshot: &Snapshot,
     cache: &ProfileCache,
     reuse_data: Option<Arc<DataContext>>,
 ) -> AnalysisOutcome {
     let parsed = parse_document(snapshot.index.text());
-    let data = match reuse_data {
-        Some(data) => data,
-        None => Arc::new(cache.load_for_spec_sampled(&parsed.spec, &snapshot.resolve)),
+    let (data, evaluation) = match reuse_data {
+        Some(data) => (data, snapshot.known_evaluation.clone()),
+        None => {
+            let data = Arc::new(cache.load_for_spec_sampled(&parsed.spec, &snapshot.resolve));
+            let evaluation = snapshot.known_evaluation.clone().or_else(|| {
+                crate::lsp::evaluate::evaluate_sampled(&parsed.spec, &snapshot.resolve)
+                    .map(Arc::new)
+            });
+            (data, evaluation)
+        }
     };
-    let diagnostics = analyze(&parsed, &data, &snapshot.config);
+    let diagnostics =
+        analyze_with_evaluation(&parsed, &data, &snapshot.config, evaluation.as_deref());
     let pending_full_scans = sampled_sources(&parsed.spec, &data);
     AnalysisOutcome {
         version: snapshot.version,
@@ -211,6 +235,7 @@ fn analyse_snapshot(
         data,
         diagnostics,
         pending_full_scans,
+        evaluation,
     }
 }
 
@@ -310,8 +335,14 @@ impl Backend {
                 spec_dir,
                 workspace_root: session.workspace_root.clone(),
                 allow_outside_workspace: session.allow_outside_workspace,
+                limits: session.profile_limits,
             },
             config: session.config.clone(),
+            known_evaluation: record
+                .evaluation
+                .as_ref()
+                .filter(|(generation, _)| *generation == record.document.generation)
+                .map(|(_, evaluation)| evaluation.clone()),
         }
     }
 
@@ -562,6 +593,11 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         };
         let encoding = lock(&state.session).encoding;
         let pending_full_scans = outcome.pending_full_scans.clone();
+        let wants_exact_evaluation = outcome
+            .evaluation
+            .as_ref()
+            .is_some_and(|evaluation| evaluation.is_sample);
+        let analysed_spec = outcome.parsed.clone();
         let (to_publish, full_profiles_arrived) = {
             let mut documents = lock(&state.documents);
             let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
@@ -571,6 +607,13 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                 continue; // stale: analyse the newer text
             }
             record.data_paths = features::data_paths(&outcome.data);
+            let known_exactly = record
+                .evaluation
+                .as_ref()
+                .is_some_and(|(known, evaluation)| *known == generation && !evaluation.is_sample);
+            if let (Some(evaluation), false) = (&outcome.evaluation, known_exactly) {
+                record.evaluation = Some((generation, evaluation.clone()));
+            }
             // a full profile replaced a sample: the inlay hints (value ranges) are out of date
             let full_profiles_arrived = record.document.latest.as_ref().is_some_and(|previous| {
                 previous.pending_full_scans.len() > outcome.pending_full_scans.len()
@@ -615,6 +658,9 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         }
         for (path, read) in pending_full_scans {
             start_full_scan(state.clone(), path, read);
+        }
+        if wants_exact_evaluation {
+            start_exact_evaluation(state.clone(), uri.clone(), generation, analysed_spec);
         }
         if full_profiles_arrived && lock(&state.session).supports_inlay_hint_refresh {
             let refreshed =
@@ -695,6 +741,103 @@ fn published_diagnostics(
     published
 }
 
+/// The text must rest this long before its exact evaluation starts, so that typing does not
+/// start (and stop) a whole-file scan per keystroke. markwell's choice, no source.
+const EXACT_EVALUATION_AFTER: Duration = Duration::from_millis(300);
+
+/// Evaluate generation `generation` of `uri` exactly (over all rows) in the background, once the
+/// text has rested; then analyse it again with that evaluation. Stops (and drops its result)
+/// when the text is superseded or the document closed; one run per document at a time.
+fn start_exact_evaluation(
+    state: Arc<ServerState>,
+    uri: lsp::Url,
+    generation: u64,
+    parsed: Arc<crate::analysis::ParsedDocument>,
+) {
+    let resolve = {
+        let mut documents = lock(&state.documents);
+        let Some(record) = documents.get_mut(&uri) else {
+            return;
+        };
+        let done = record
+            .evaluation
+            .as_ref()
+            .is_some_and(|(done, evaluation)| *done == generation && !evaluation.is_sample);
+        if done
+            || record.exact_evaluation_running.is_some()
+            || record.document.generation != generation
+        {
+            return;
+        }
+        record.exact_evaluation_running = Some(generation);
+        Backend::snapshot_of(&state, &uri, record).resolve
+    };
+    tokio::spawn(async move {
+        tokio::time::sleep(EXACT_EVALUATION_AFTER).await;
+        let still_current: crate::lsp::evaluate::StillCurrent = {
+            let state = state.clone();
+            let uri = uri.clone();
+            Arc::new(move || {
+                lock(&state.documents)
+                    .get(&uri)
+                    .is_some_and(|record| record.document.generation == generation)
+            })
+        };
+        let evaluation = if still_current() {
+            let task = tokio::task::spawn_blocking(move || {
+                crate::lsp::evaluate::evaluate_exactly(&parsed.spec, &resolve, still_current)
+            });
+            match task.await {
+                Ok(evaluation) => evaluation,
+                Err(join_error) => {
+                    log::error(&format!("the evaluation of {uri} failed: {join_error}"));
+                    None
+                }
+            }
+        } else {
+            None
+        };
+        // `Some(None)`: stored, analyse again with it; `Some(Some(current))`: superseded, and the
+        // current text was analysed already (and found this run busy), so its exact evaluation
+        // starts from here; `None`: nothing to do
+        let next = {
+            let mut documents = lock(&state.documents);
+            let Some(record) = documents.get_mut(&uri) else {
+                return;
+            };
+            if record.exact_evaluation_running == Some(generation) {
+                record.exact_evaluation_running = None;
+            }
+            match evaluation {
+                Some(evaluation) if record.document.generation == generation => {
+                    record.evaluation = Some((generation, Arc::new(evaluation)));
+                    Some(None)
+                }
+                _ => record
+                    .document
+                    .current_analysis()
+                    .filter(|current| {
+                        current
+                            .evaluation
+                            .as_ref()
+                            .is_some_and(|evaluation| evaluation.is_sample)
+                    })
+                    .map(Some),
+            }
+        };
+        match next {
+            Some(None) => Backend {
+                state: state.clone(),
+            }
+            .schedule_analysis(uri),
+            Some(Some(current)) => {
+                start_exact_evaluation(state, uri, current.generation, current.parsed.clone())
+            }
+            None => {}
+        }
+    });
+}
+
 /// Compute the full profile of `path` in the background (off the async workers), with
 /// `$/progress` reports for scans longer than [`PROGRESS_AFTER`]; then analyse again every open
 /// spec that reads the file. One scan per file at a time.
@@ -702,6 +845,7 @@ fn start_full_scan(state: Arc<ServerState>, path: PathBuf, read: ReadOptions) {
     if !lock(&state.full_scans_running).insert(path.clone()) {
         return;
     }
+    let limits = lock(&state.session).profile_limits;
     tokio::spawn(async move {
         let share_done = Arc::new(AtomicU64::new(0));
         let cache = state.cache.clone();
@@ -709,7 +853,7 @@ fn start_full_scan(state: Arc<ServerState>, path: PathBuf, read: ReadOptions) {
         let scan_share = share_done.clone();
         let mut task = tokio::task::spawn_blocking(move || {
             catch_unwind(AssertUnwindSafe(|| {
-                cache.full_profile(&scan_path, &read, &|share| {
+                cache.full_profile_within(&scan_path, &read, &limits, &|share| {
                     scan_share.store((share.clamp(0.0, 1.0) * 100.0) as u64, Ordering::Relaxed);
                     true
                 })
@@ -978,6 +1122,7 @@ impl LanguageServer for Backend {
             let project = load_project_config(session.workspace_root.as_deref());
             session.file_config = project.analysis;
             session.allow_outside_workspace = project.allow_outside_workspace;
+            session.profile_limits = project.profile_limits;
             session.config = Arc::new(merge_settings(
                 &session.file_config,
                 &session.editor_settings,
@@ -1019,6 +1164,8 @@ impl LanguageServer for Backend {
                 rerun_requested: false,
                 published: None,
                 data_paths: Vec::new(),
+                evaluation: None,
+                exact_evaluation_running: None,
             };
             lock(&self.state.documents).insert(item.uri.clone(), record);
         });
@@ -1092,6 +1239,16 @@ impl LanguageServer for Backend {
         for path in &changed {
             self.state.cache.invalidate(path);
         }
+        // what was drawn from the changed files is drawn again
+        for record in lock(&self.state.documents).values_mut() {
+            if record
+                .data_paths
+                .iter()
+                .any(|read| changed.iter().any(|path| same_file(read, path)))
+            {
+                record.evaluation = None;
+            }
+        }
         // spec files that changed on disk: the index reads them again (or forgets them)
         let specs_changed: Vec<(PathBuf, bool)> = params
             .changes
@@ -1148,11 +1305,16 @@ impl LanguageServer for Backend {
         });
         if config_changed {
             let _ = guarded("workspace/didChangeWatchedFiles", || {
+                // the workspace rules may have changed which files can be read
+                for record in lock(&self.state.documents).values_mut() {
+                    record.evaluation = None;
+                }
                 {
                     let mut session = lock(&self.state.session);
                     let project = load_project_config(session.workspace_root.as_deref());
                     session.file_config = project.analysis;
                     session.allow_outside_workspace = project.allow_outside_workspace;
+                    session.profile_limits = project.profile_limits;
                     session.config = Arc::new(merge_settings(
                         &session.file_config,
                         &session.editor_settings,
@@ -2114,14 +2276,19 @@ fn check_closed_spec(
     root: Option<&Path>,
     allow_outside: bool,
     config: &AnalysisConfig,
+    limits: crate::data::ProfileLimits,
     cache: &ProfileCache,
     encoding: PositionEncoding,
 ) -> Option<(lsp::Url, Vec<lsp::Diagnostic>)> {
     let uri = convert::file_uri(&spec.path)?;
     let parsed = parse_document(&spec.text);
-    let resolve = workspace::resolve_options(&spec.path, root, allow_outside);
+    let mut resolve = workspace::resolve_options(&spec.path, root, allow_outside);
+    resolve.limits = limits;
     let data = cache.load_for_spec(&parsed.spec, &resolve);
-    let findings = analyze(&parsed, &data, config);
+    // the sampled head, as the open documents' first pass: a workspace check reads each data file's
+    // head once per spec, not every row
+    let evaluation = crate::lsp::evaluate::evaluate_sampled(&parsed.spec, &resolve);
+    let findings = analyze_with_evaluation(&parsed, &data, config, evaluation.as_ref());
     let index = LineIndex::new(&spec.text);
     let diagnostics = findings
         .iter()
@@ -2149,13 +2316,14 @@ async fn check_closed_specs(
         .filter(|spec| !open.contains(&spec.path) && wanted(spec))
         .cloned()
         .collect();
-    let (root, allow_outside, config, encoding) = {
+    let (root, allow_outside, config, encoding, limits) = {
         let session = lock(&state.session);
         (
             session.workspace_root.clone(),
             session.allow_outside_workspace,
             session.config.clone(),
             session.encoding,
+            session.profile_limits,
         )
     };
     let cache = state.cache.clone();
@@ -2169,6 +2337,7 @@ async fn check_closed_specs(
                         root.as_deref(),
                         allow_outside,
                         &config,
+                        limits,
                         &cache,
                         encoding,
                     )

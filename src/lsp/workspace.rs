@@ -36,9 +36,11 @@ pub struct WorkspaceIndex {
     pub left_out: usize,
 }
 
-/// The resolve options for a spec file at `path`.
+/// The resolve options for a spec file at `path` (default profile limits: set `limits` to the
+/// session's before reading data with them).
 pub fn resolve_options(path: &Path, root: Option<&Path>, allow_outside: bool) -> ResolveOptions {
     ResolveOptions {
+        limits: crate::data::ProfileLimits::default(),
         spec_dir: path
             .parent()
             .map(Path::to_path_buf)

@@ -51,6 +51,7 @@ fn measure(name: &str, text: &str, spec_dir: &Path, runs: usize) {
         spec_dir: spec_dir.to_path_buf(),
         workspace_root: Some(spec_dir.to_path_buf()),
         allow_outside_workspace: false,
+        ..Default::default()
     };
     let config = AnalysisConfig::default();
     // warm the profile cache

@@ -67,6 +67,7 @@ fn demo_specs() {
         spec_dir: folder.clone(),
         workspace_root: Some(folder.clone()),
         allow_outside_workspace: false,
+        limits: markwell::data::ProfileLimits::default(),
     };
     let mut names: Vec<PathBuf> = std::fs::read_dir(&folder)
         .map(|entries| {
@@ -186,6 +187,7 @@ fn bar_of_sums() {
         spec_dir: folder.clone(),
         workspace_root: Some(folder),
         allow_outside_workspace: false,
+        limits: markwell::data::ProfileLimits::default(),
     };
     let file_name = path
         .file_name()

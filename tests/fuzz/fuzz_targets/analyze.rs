@@ -16,6 +16,7 @@ fuzz_target!(|data: &[u8]| {
         spec_dir: std::path::PathBuf::from("/nonexistent-markwell-fuzz"),
         workspace_root: Some(std::path::PathBuf::from("/nonexistent-markwell-fuzz")),
         allow_outside_workspace: false,
+        ..Default::default()
     };
     let loaded = cache.load_for_spec_sampled(&document.spec, &options);
     for context in [loaded, DataContext::default()] {

@@ -1,0 +1,312 @@
+//! Memory and time budgets of one profile, measured on the real binary: very wide files, very
+//! long lines, many distinct values, and a tiny time budget. Each test generates its file in a
+//! temporary folder, runs `markwell` on it and reads the child's peak resident memory from
+//! `wait4` (its `ru_maxrss`), then asserts it under the stated bound.
+//!
+//! Bound: the default budget of one profile is 256 MiB; the process around it (binary, spec,
+//! analysis, output) adds a few tens of MiB (27 MiB measured for a spec without data), so every
+//! run here must stay under [`PEAK_BOUND_KIB`].
+
+use std::io::{Read, Write};
+use std::path::{Path, PathBuf};
+use std::process::{Command, Stdio};
+use std::time::{Duration, Instant};
+
+/// 256 MiB of budget plus 44 MiB for the process around it.
+const PEAK_BOUND_KIB: i64 = 300 * 1024;
+/// Longest one run may take here (debug build, 2-core CI machine).
+const RUN_LIMIT: Duration = Duration::from_secs(120);
+
+struct Run {
+    code: Option<i32>,
+    stdout: String,
+    stderr: String,
+    peak_kib: i64,
+    elapsed: Duration,
+}
+
+/// Run the binary in `dir` and measure its peak resident memory (KiB) with `wait4`.
+fn run_measured(args: &[&str], dir: &Path) -> Run {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_markwell"))
+        .current_dir(dir)
+        .env("NO_COLOR", "1")
+        .args(args)
+        .stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap_or_else(|error| panic!("spawn: {error}"));
+    let mut stdout = child.stdout.take().unwrap_or_else(|| panic!("stdout"));
+    let mut stderr = child.stderr.take().unwrap_or_else(|| panic!("stderr"));
+    let out_reader = std::thread::spawn(move || {
+        let mut bytes = Vec::new();
+        let _ = stdout.read_to_end(&mut bytes);
+        bytes
+    });
+    let err_reader = std::thread::spawn(move || {
+        let mut bytes = Vec::new();
+        let _ = stderr.read_to_end(&mut bytes);
+        bytes
+    });
+    let pid = child.id() as libc::pid_t;
+    let started = Instant::now();
+    let (status, usage) = loop {
+        let mut status: libc::c_int = 0;
+        // SAFETY: `rusage` is plain data that `wait4` fills; the pid is our own child.
+        let mut usage: libc::rusage = unsafe { std::mem::zeroed() };
+        let waited = unsafe { libc::wait4(pid, &mut status, libc::WNOHANG, &mut usage) };
+        if waited == pid {
+            break (status, usage);
+        }
+        assert!(waited == 0, "wait4 failed");
+        if started.elapsed() > RUN_LIMIT {
+            let _ = child.kill();
+            let _ = child.wait();
+            panic!("markwell {args:?} did not finish within {RUN_LIMIT:?}");
+        }
+        std::thread::sleep(Duration::from_millis(20));
+    };
+    let elapsed = started.elapsed();
+    // already reaped by `wait4`: this only lets the standard library know (it gets ECHILD)
+    let _ = child.wait();
+    let code = libc::WIFEXITED(status).then(|| libc::WEXITSTATUS(status));
+    Run {
+        code,
+        stdout: String::from_utf8_lossy(&out_reader.join().unwrap_or_default()).into_owned(),
+        stderr: String::from_utf8_lossy(&err_reader.join().unwrap_or_default()).into_owned(),
+        peak_kib: usage.ru_maxrss,
+        elapsed,
+    }
+}
+
+fn create(dir: &Path, name: &str) -> (PathBuf, std::io::BufWriter<std::fs::File>) {
+    let path = dir.join(name);
+    let file = std::fs::File::create(&path).unwrap_or_else(|error| panic!("{error}"));
+    (path, std::io::BufWriter::with_capacity(1 << 20, file))
+}
+
+fn finish(mut writer: std::io::BufWriter<std::fs::File>) {
+    writer.flush().unwrap_or_else(|error| panic!("{error}"));
+}
+
+fn spec_reading(dir: &Path, data: &str, x: &str, y: &str) -> String {
+    let name = format!("{}.chart.json", data.replace('.', "-"));
+    let text = format!(
+        r#"{{ "source": {{ "path": "{data}" }}, "mark": "bar", "bind": {{ "x": "{x}", "y": "{y}" }} }}"#
+    );
+    std::fs::write(dir.join(&name), text).unwrap_or_else(|error| panic!("{error}"));
+    name
+}
+
+fn assert_within_bound(run: &Run, what: &str) {
+    eprintln!(
+        "{what}: peak {} MiB in {:.1} s",
+        run.peak_kib / 1024,
+        run.elapsed.as_secs_f64()
+    );
+    assert!(
+        run.peak_kib < PEAK_BOUND_KIB,
+        "{what}: peak {} KiB over {PEAK_BOUND_KIB} KiB\n{}{}",
+        run.peak_kib,
+        run.stdout,
+        run.stderr
+    );
+}
+
+#[test]
+fn a_million_columns_are_refused_within_the_budget_with_a_clear_message() {
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let (_, mut writer) = create(dir.path(), "ledger.csv");
+    let columns = 1_000_000;
+    for index in 0..columns {
+        let separator = if index + 1 == columns { "\n" } else { "," };
+        write!(writer, "crate{index}{separator}").unwrap_or_else(|error| panic!("{error}"));
+    }
+    for index in 0..columns {
+        let separator = if index + 1 == columns { "\n" } else { "," };
+        write!(writer, "{}{separator}", index % 97).unwrap_or_else(|error| panic!("{error}"));
+    }
+    finish(writer);
+    let spec = spec_reading(dir.path(), "ledger.csv", "crate1", "crate2");
+    let run = run_measured(&["check", &spec], dir.path());
+    let output = format!("{}{}", run.stdout, run.stderr);
+    assert!(
+        output.contains("more than 104857 columns") && output.contains("profile-memory-mib"),
+        "{output}"
+    );
+    assert_within_bound(&run, "1,000,000 columns");
+}
+
+#[test]
+fn a_hundred_thousand_columns_are_profiled_within_the_budget() {
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let (_, mut writer) = create(dir.path(), "orchards.csv");
+    let columns = 100_000;
+    for index in 0..columns {
+        let separator = if index + 1 == columns { "\n" } else { "," };
+        write!(writer, "tree{index}{separator}").unwrap_or_else(|error| panic!("{error}"));
+    }
+    for row in 0..3 {
+        for index in 0..columns {
+            let separator = if index + 1 == columns { "\n" } else { "," };
+            write!(writer, "{}{separator}", (index + row) % 31)
+                .unwrap_or_else(|error| panic!("{error}"));
+        }
+    }
+    finish(writer);
+    let spec = spec_reading(dir.path(), "orchards.csv", "tree1", "tree2");
+    let run = run_measured(&["check", &spec], dir.path());
+    let output = format!("{}{}", run.stdout, run.stderr);
+    assert!(!output.contains("columns; a profile"), "{output}");
+    assert!(output.contains("1 spec checked"), "{output}");
+    assert_within_bound(&run, "100,000 columns");
+}
+
+#[test]
+fn a_hundred_megabyte_single_line_csv_is_refused_within_the_budget() {
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let (path, mut writer) = create(dir.path(), "oneline.csv");
+    let chunk = "ferry,".repeat(1 << 14);
+    let mut written = 0usize;
+    while written < 100_000_000 {
+        writer
+            .write_all(chunk.as_bytes())
+            .unwrap_or_else(|error| panic!("{error}"));
+        written += chunk.len();
+    }
+    finish(writer);
+    assert!(std::fs::metadata(&path).map_or(0, |m| m.len()) >= 100_000_000);
+    let run = run_measured(&["profile", "oneline.csv"], dir.path());
+    assert_eq!(run.code, Some(2), "{}{}", run.stdout, run.stderr);
+    assert!(
+        run.stderr.contains("longer than 16 MiB") && run.stderr.contains("profile-memory-mib"),
+        "{}",
+        run.stderr
+    );
+    assert_within_bound(&run, "100 MB single-line CSV");
+}
+
+#[test]
+fn a_two_hundred_megabyte_ndjson_line_is_refused_within_the_budget() {
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let (_, mut writer) = create(dir.path(), "harbour.ndjson");
+    writeln!(writer, r#"{{"boat": "small", "tons": 3}}"#).unwrap_or_else(|error| panic!("{error}"));
+    write!(writer, r#"{{"boat": "huge", "cargo": ""#).unwrap_or_else(|error| panic!("{error}"));
+    let chunk = "crates of apples ".repeat(1 << 12);
+    let mut written = 0usize;
+    while written < 200_000_000 {
+        writer
+            .write_all(chunk.as_bytes())
+            .unwrap_or_else(|error| panic!("{error}"));
+        written += chunk.len();
+    }
+    writeln!(writer, r#""}}"#).unwrap_or_else(|error| panic!("{error}"));
+    finish(writer);
+    let run = run_measured(&["profile", "harbour.ndjson"], dir.path());
+    assert_eq!(run.code, Some(2), "{}{}", run.stdout, run.stderr);
+    assert!(
+        run.stderr.contains("longer than 16 MiB") && run.stderr.contains("line 2"),
+        "{}",
+        run.stderr
+    );
+    assert_within_bound(&run, "200 MB NDJSON line");
+}
+
+#[test]
+fn a_json_object_with_two_hundred_thousand_keys_stays_within_the_budget() {
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let (_, mut writer) = create(dir.path(), "bakery.json");
+    write!(writer, "[{{").unwrap_or_else(|error| panic!("{error}"));
+    let keys = 200_000;
+    for index in 0..keys {
+        let separator = if index + 1 == keys { "" } else { ", " };
+        write!(writer, "\"loaf{index}\": {index}{separator}")
+            .unwrap_or_else(|error| panic!("{error}"));
+    }
+    write!(writer, "}}]").unwrap_or_else(|error| panic!("{error}"));
+    finish(writer);
+    let spec = spec_reading(dir.path(), "bakery.json", "loaf1", "loaf2");
+    let run = run_measured(&["check", &spec], dir.path());
+    let output = format!("{}{}", run.stdout, run.stderr);
+    // more keys than the budget's column limit: refused, naming the limit and the setting
+    assert!(
+        output.contains("more than 104857 columns") && output.contains("profile-memory-mib"),
+        "{output}"
+    );
+    assert_within_bound(&run, "JSON object with 200,000 keys");
+}
+
+#[test]
+fn a_wide_file_of_distinct_values_is_profiled_within_the_budget_with_estimates() {
+    // 1,000 columns x 8,000 rows, every cell different: exact sets took 870 MiB (34 s) before the
+    // budget (measured on the binary of the previous version)
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let (_, mut writer) = create(dir.path(), "mill.csv");
+    let columns = 1_000;
+    let rows = 8_000;
+    let mut line = String::new();
+    for index in 0..columns {
+        line.push_str(&format!("sack{index}"));
+        line.push(if index + 1 == columns { '\n' } else { ',' });
+    }
+    writer
+        .write_all(line.as_bytes())
+        .unwrap_or_else(|error| panic!("{error}"));
+    for row in 0..rows {
+        line.clear();
+        for index in 0..columns {
+            line.push_str(&format!("r{row}c{index}"));
+            line.push(if index + 1 == columns { '\n' } else { ',' });
+        }
+        writer
+            .write_all(line.as_bytes())
+            .unwrap_or_else(|error| panic!("{error}"));
+    }
+    finish(writer);
+    let run = run_measured(&["profile", "--format", "json", "mill.csv"], dir.path());
+    assert_eq!(run.code, Some(0), "{}", run.stderr);
+    let profile: serde_json::Value =
+        serde_json::from_str(&run.stdout).unwrap_or_else(|error| panic!("{error}"));
+    let first = &profile["columns"][0]["distinct"];
+    assert_eq!(first["exact"], serde_json::Value::Bool(false), "{first}");
+    let estimate = first["count"].as_f64().unwrap_or(0.0);
+    let error = first["relative_error"].as_f64().unwrap_or(1.0);
+    // within three stated standard errors of the truth
+    assert!(
+        (estimate - rows as f64).abs() <= 3.0 * error * rows as f64,
+        "{estimate} ± {error}"
+    );
+    assert_within_bound(&run, "1,000 columns of distinct values");
+}
+
+#[test]
+fn the_time_budget_is_set_in_markwell_toml_or_on_the_command_line() {
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let (_, mut writer) = create(dir.path(), "ferries.csv");
+    writeln!(writer, "ferry,crossings").unwrap_or_else(|error| panic!("{error}"));
+    for row in 0..300_000 {
+        writeln!(writer, "ferry{},{}", row % 12, row % 50)
+            .unwrap_or_else(|error| panic!("{error}"));
+    }
+    finish(writer);
+    std::fs::create_dir(dir.path().join(".git")).unwrap_or_else(|error| panic!("{error}"));
+    let spec = spec_reading(dir.path(), "ferries.csv", "ferry", "crossings");
+    std::fs::write(
+        dir.path().join("markwell.toml"),
+        "[data]\nprofile-seconds = 0.000001\n",
+    )
+    .unwrap_or_else(|error| panic!("{error}"));
+    let run = run_measured(&["check", &spec], dir.path());
+    let output = format!("{}{}", run.stdout, run.stderr);
+    assert!(output.contains("time budget of 0.000001 s"), "{output}");
+    // the command line wins over the file
+    let run = run_measured(&["check", "--profile-seconds", "600", &spec], dir.path());
+    let output = format!("{}{}", run.stdout, run.stderr);
+    assert!(!output.contains("time budget"), "{output}");
+    let run = run_measured(
+        &["profile", "--profile-seconds", "0", "ferries.csv"],
+        dir.path(),
+    );
+    assert_eq!(run.code, Some(2), "{}", run.stderr);
+    assert!(run.stderr.contains("above 0"), "{}", run.stderr);
+}
