@@ -469,7 +469,7 @@ pub fn read_header<R: Read>(
 }
 
 /// The error for a failed read of records: too long a record, or the IO error.
-fn record_read_error(
+pub(super) fn record_read_error(
     path: Option<&Path>,
     limits: &ProfileLimits,
     error: &std::io::Error,
