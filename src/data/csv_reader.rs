@@ -258,7 +258,9 @@ impl<R: Read> RecordReader<R> {
                 ParseOutcome::NeedMore
             };
         }
-        let (line_end, consumed, newlines) = match memchr(b'\n', data) {
+        // one pass finds the line's end or a quote before it (a quoted line takes the slow path)
+        let (line_end, consumed, newlines) = match memchr2(b'\n', b'"', data) {
+            Some(found) if data[found] == b'"' => return self.parse_quoted(),
             Some(newline) => (newline, newline + 1, 1),
             None if self.at_eof => (data.len(), data.len(), 0),
             None => return ParseOutcome::NeedMore,
@@ -266,9 +268,6 @@ impl<R: Read> RecordReader<R> {
         let mut line = &data[..line_end];
         if line.last() == Some(&b'\r') {
             line = &line[..line.len() - 1];
-        }
-        if memchr(b'"', line).is_some() {
-            return self.parse_quoted();
         }
         if line.is_empty() {
             return ParseOutcome::BlankLine { consumed };
@@ -470,7 +469,7 @@ pub fn read_header<R: Read>(
 }
 
 /// The error for a failed read of records: too long a record, or the IO error.
-fn record_read_error(
+pub(super) fn record_read_error(
     path: Option<&Path>,
     limits: &ProfileLimits,
     error: &std::io::Error,

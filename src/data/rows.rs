@@ -4,7 +4,10 @@
 //!
 //! Memory: a delimited file is read through the profile's record reader (a reused 1 MiB buffer,
 //! cells are slices of it, nothing is allocated per cell or per row); a JSON file is streamed
-//! element by element with one reused text buffer per row; inline rows are the spec's own.
+//! element by element with one reused text buffer per row (its keys, the columns, are learnt by
+//! one pass when it is opened); inline rows are the spec's own. A delimited file of 8 MiB or
+//! more is split into records on a second thread, which hands over batches of the wanted cells
+//! (at most a few batches of 8,192 rows in flight).
 //! Cells are handed over as text, exactly as the profile reads them (a JSON number becomes its
 //! shortest round-trip text, which parses back to the same number).
 
@@ -23,9 +26,9 @@ use super::cache::{
     check_is_text, cut_at_last_line, detect_format, file_stamp, open_data_file, read_head,
     simple_error, BYTE_ORDER_MARK, SAMPLE_BYTES,
 };
-use super::csv_reader::{read_header, RecordReader};
+use super::csv_reader::{read_header_within, record_read_error, RecordReader};
 use super::resolve::resolve_source_path;
-use super::{io_error, DataError, DataErrorKind, ReadOptions, ResolveOptions};
+use super::{io_error, DataError, DataErrorKind, ProfileLimits, ReadOptions, ResolveOptions};
 use crate::spec::model::{DataFormat, InlineRow, InlineValue, Source, SourceLocation};
 
 /// The rows of one source, delivered by the data layer (which does the IO).
@@ -65,7 +68,12 @@ pub fn open_rows(
     match &source.location {
         SourceLocation::Path(written) => {
             let path = resolve_source_path(&written.value, options)?;
-            open_file_rows(&path, &ReadOptions::for_source(source), sampled)
+            open_file_rows_within(
+                &path,
+                &ReadOptions::for_source(source),
+                sampled,
+                &options.limits,
+            )
         }
         SourceLocation::Rows { rows, .. } => Ok(Box::new(InlineRows::new(rows.clone()))),
         SourceLocation::Missing => Err(DataError {
@@ -83,6 +91,16 @@ pub fn open_file_rows(
     path: &Path,
     read: &ReadOptions,
     sampled: bool,
+) -> Result<Box<dyn RowSource + Send>, DataError> {
+    open_file_rows_within(path, read, sampled, &ProfileLimits::default())
+}
+
+/// [`open_file_rows`] within the profile's `limits` (the longest record, the most columns).
+pub fn open_file_rows_within(
+    path: &Path,
+    read: &ReadOptions,
+    sampled: bool,
+    limits: &ProfileLimits,
 ) -> Result<Box<dyn RowSource + Send>, DataError> {
     let (size, _) = file_stamp(path)?;
     let mut file = open_data_file(path)?;
@@ -117,11 +135,12 @@ pub fn open_file_rows(
                     DelimitedData::File(path.to_path_buf()),
                 )
             };
-            let header = read_header(
+            let header = read_header_within(
                 body.get(mark_length as usize..).unwrap_or(&[]),
                 mark_length,
                 delimiter,
                 Some(path),
+                limits,
             )?;
             Ok(Box::new(DelimitedRows {
                 path: path.to_path_buf(),
@@ -131,6 +150,7 @@ pub fn open_file_rows(
                 data_start: header.data_start,
                 is_sample,
                 size,
+                limits: *limits,
             }))
         }
         DataFormat::Json | DataFormat::Ndjson => {
@@ -178,6 +198,7 @@ struct DelimitedRows {
     is_sample: bool,
     /// File size in bytes.
     size: u64,
+    limits: ProfileLimits,
 }
 
 /// Files at least this big are read by two threads: one splits the records and copies the
@@ -215,6 +236,7 @@ impl DelimitedRows {
             sync_channel(BATCHES_IN_FLIGHT + 2);
         let width = self.names.len();
         let path = &self.path;
+        let limits = self.limits;
         std::thread::scope(|scope| {
             // owned by this closure: dropped when it returns (also early), which stops the
             // reading thread before the scope waits for it
@@ -225,7 +247,7 @@ impl DelimitedRows {
                     let record = match reader.next_record(u64::MAX) {
                         Ok(record) => record,
                         Err(error) => {
-                            batch.error = Some(io_error(Some(path), &error));
+                            batch.error = Some(record_read_error(Some(path), &limits, &error));
                             let _ = full_sender.send(batch);
                             return;
                         }
@@ -326,7 +348,7 @@ impl DelimitedRows {
         loop {
             let record = reader
                 .next_record(u64::MAX)
-                .map_err(|error| io_error(Some(&self.path), &error))?;
+                .map_err(|error| record_read_error(Some(&self.path), &self.limits, &error))?;
             let Some(record) = record else { break };
             if record.unterminated_quote && self.is_sample {
                 // the head was cut inside a quoted cell: that row is not whole
@@ -384,14 +406,18 @@ impl RowSource for DelimitedRows {
                     self.data_start,
                     self.delimiter,
                     body.len() + 1,
-                );
+                )
+                .with_max_record_bytes(self.limits.record_bytes())
+                .with_max_fields(self.limits.max_columns().saturating_add(1));
                 self.scan_reader(&mut reader, wanted, row)
             }
             DelimitedData::File(path) => {
                 let mut file = open_data_file(path)?;
                 file.seek(SeekFrom::Start(self.data_start))
                     .map_err(|error| io_error(Some(path), &error))?;
-                let mut reader = RecordReader::new(file, self.data_start, self.delimiter);
+                let mut reader = RecordReader::new(file, self.data_start, self.delimiter)
+                    .with_max_record_bytes(self.limits.record_bytes())
+                    .with_max_fields(self.limits.max_columns().saturating_add(1));
                 let parallel = std::thread::available_parallelism().map_or(1, |count| count.get());
                 if parallel >= 2 && self.size >= PIPELINE_MINIMUM_BYTES {
                     self.scan_pipelined(reader, wanted, row)
@@ -1032,6 +1058,29 @@ mod tests {
         });
         assert!(result.is_ok());
         assert_eq!(seen, 10);
+    }
+
+    #[test]
+    fn a_record_longer_than_the_budget_allows_is_an_error() {
+        let mut contents = String::from("id,note\n1,short\n2,");
+        contents.push_str(&"x".repeat(5000));
+        contents.push('\n');
+        let path = temporary_file("long-record.csv", contents.as_bytes());
+        let limits = ProfileLimits {
+            memory: crate::budget::MemoryBudget { bytes: 16 * 1024 },
+            ..ProfileLimits::default()
+        };
+        let opened = open_file_rows_within(&path, &ReadOptions::default(), false, &limits);
+        let Ok(mut rows) = opened else {
+            panic!("the header fits the budget");
+        };
+        let mut seen = 0;
+        let result = rows.scan(&[1], &mut |_| {
+            seen += 1;
+            true
+        });
+        assert_eq!(seen, 1);
+        assert!(matches!(result, Err(error) if error.kind == DataErrorKind::TooLarge));
     }
 
     #[test]
