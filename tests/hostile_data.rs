@@ -138,3 +138,53 @@ fn a_tiny_time_budget_stops_the_scan_with_a_clear_error() {
         .unwrap_or_else(|error| panic!("{}", error.message));
     assert_eq!(full.rows, 400_000);
 }
+
+#[test]
+fn a_key_named_twice_in_one_row_gives_one_cell_and_a_problem() {
+    // found by fuzzing (`data_readers`, input kept in the corpus as regression-duplicate-key):
+    // a row naming `crossings` twice counted two numbers in one row (more numbers than rows)
+    use markwell::data::csv_reader::ScanControl;
+    use markwell::data::json_reader::{scan_json_array, scan_ndjson};
+    use markwell::spec::model::DataFormat;
+    let ndjson: &[u8] =
+        b"{\"route\":\"North\",\"crossings\":4,\"crossings\":5}\n{\"route\":\"South\",\"crossings\":2}\n";
+    let array: &[u8] =
+        b"[{\"route\":\"North\",\"crossings\":4,\"crossings\":5},{\"route\":\"South\"}]";
+    let control = ScanControl::default();
+    for (format, table) in [
+        (
+            DataFormat::Ndjson,
+            scan_ndjson(ndjson, false, &control, None),
+        ),
+        (
+            DataFormat::Json,
+            scan_json_array(array, false, &control, None),
+        ),
+    ] {
+        let table = table.unwrap_or_else(|error| panic!("{}", error.message));
+        let profile = table.finish(None, format, false, &[]);
+        let crossings = profile
+            .column("crossings")
+            .unwrap_or_else(|| panic!("no crossings column"));
+        let numbers = crossings
+            .numeric
+            .as_ref()
+            .map_or(0, |numeric| numeric.count);
+        assert!(
+            numbers <= profile.rows,
+            "{numbers} numbers in {} rows",
+            profile.rows
+        );
+        // the first value counts, the repeated one does not
+        assert!(crossings.top_values.iter().any(|(value, _)| value == "4"));
+        assert!(!crossings.top_values.iter().any(|(value, _)| value == "5"));
+        assert!(
+            profile
+                .problems
+                .iter()
+                .any(|problem| problem.message.contains("names the key `crossings` twice")),
+            "{:?}",
+            profile.problems
+        );
+    }
+}
