@@ -137,18 +137,18 @@ impl<'c> DifferenceCache<'c> {
 
     /// `difference(candidates[candidate], candidates[chosen], floor)`, from the cache.
     fn difference(&mut self, candidate: usize, chosen: usize, floor: f64) -> f64 {
-        let count = self.candidates.len();
-        let column = self.columns[chosen].get_or_insert_with(|| vec![[f64::NAN; 4]; count]);
-        let values = &mut column[candidate];
+        let candidates = self.candidates;
+        let column =
+            self.columns[chosen].get_or_insert_with(|| vec![[f64::NAN; 4]; candidates.len()]);
         let mut worst = f64::INFINITY;
-        for vision in 0..4 {
-            if values[vision].is_nan() {
-                values[vision] = ciede2000(
-                    self.candidates[candidate].visions[vision],
-                    self.candidates[chosen].visions[vision],
+        for (vision, value) in column[candidate].iter_mut().enumerate() {
+            if value.is_nan() {
+                *value = ciede2000(
+                    candidates[candidate].visions[vision],
+                    candidates[chosen].visions[vision],
                 );
             }
-            worst = worst.min(values[vision]);
+            worst = worst.min(*value);
             if worst < floor {
                 break;
             }
@@ -225,10 +225,10 @@ pub fn categorical(count: usize, background: Srgb8) -> Result<CategoricalPalette
     while chosen.len() < count {
         let next = argmax(nearest.iter().copied());
         chosen.push(next);
-        for index in 0..candidates.len() {
-            if nearest[index] > 0.0 {
-                let to_next = cache.difference(index, next, nearest[index]);
-                nearest[index] = nearest[index].min(to_next);
+        for (index, nearest_so_far) in nearest.iter_mut().enumerate() {
+            if *nearest_so_far > 0.0 {
+                let to_next = cache.difference(index, next, *nearest_so_far);
+                *nearest_so_far = nearest_so_far.min(to_next);
             }
         }
     }
