@@ -34,4 +34,5 @@
                         (markwell-eglot--add-section (funcall current server)))
                     (markwell-eglot--add-section current)))))
 
+(autoload 'eglot-ensure "eglot" nil t)     ; in case the package manager did not
 (add-hook 'chartspec-mode-hook #'eglot-ensure)

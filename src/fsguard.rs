@@ -343,6 +343,98 @@ fn describe_config_refusal(refusal: &Refusal) -> String {
     }
 }
 
+/// Replace the file at `path` with `contents` so that a reader (or a crash) sees either the old
+/// or the new file, never half of one: the bytes go to a temporary file beside it, which is
+/// flushed to disk and renamed over the original; the original's permissions are kept.
+pub fn write_atomically(path: &Path, contents: &[u8]) -> std::io::Result<()> {
+    use std::io::Write as _;
+    let folder = match path.parent() {
+        Some(folder) if !folder.as_os_str().is_empty() => folder.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let name = path
+        .file_name()
+        .map(|name| name.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "spec".to_string());
+    let permissions = std::fs::metadata(path).ok().map(|m| m.permissions());
+    let mut attempt = 0u32;
+    let (temporary, mut file) = loop {
+        let candidate = folder.join(format!(".{name}.markwell-{}-{attempt}", std::process::id()));
+        match std::fs::OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&candidate)
+        {
+            Ok(file) => break (candidate, file),
+            Err(error) if error.kind() == std::io::ErrorKind::AlreadyExists && attempt < 100 => {
+                attempt += 1;
+            }
+            Err(error) => return Err(error),
+        }
+    };
+    let written = file
+        .write_all(contents)
+        .and_then(|()| file.sync_all())
+        .and_then(|()| match permissions {
+            Some(permissions) => std::fs::set_permissions(&temporary, permissions),
+            None => Ok(()),
+        })
+        .and_then(|()| std::fs::rename(&temporary, path));
+    if written.is_err() {
+        let _ = std::fs::remove_file(&temporary);
+    }
+    written
+}
+
+/// File names of chart specs.
+pub const SPEC_SUFFIX: &str = ".chart.json";
+
+fn describe_io_error(error: &std::io::Error) -> String {
+    match error.kind() {
+        std::io::ErrorKind::NotFound => "no such file or folder".to_string(),
+        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
+        _ => error.to_string(),
+    }
+}
+
+/// Add `path` (a file) or the `*.chart.json` files below it (a folder) to `files`, sorted.
+/// Hidden folders and symbolic links to folders are not entered.
+pub fn collect_spec_files(path: &Path, files: &mut Vec<PathBuf>) -> Result<(), String> {
+    let metadata = std::fs::metadata(path)
+        .map_err(|error| format!("{}: {}", path.display(), describe_io_error(&error)))?;
+    if metadata.is_file() {
+        files.push(path.to_path_buf());
+        return Ok(());
+    }
+    let mut found = Vec::new();
+    let mut pending = vec![path.to_path_buf()];
+    while let Some(folder) = pending.pop() {
+        let entries = std::fs::read_dir(&folder)
+            .map_err(|error| format!("{}: {}", folder.display(), describe_io_error(&error)))?;
+        for entry in entries.flatten() {
+            let name = entry.file_name();
+            let name = name.to_string_lossy();
+            let Ok(file_type) = entry.file_type() else {
+                continue;
+            };
+            if file_type.is_dir() {
+                if !name.starts_with('.') && name != "target" && name != "node_modules" {
+                    pending.push(entry.path());
+                }
+            } else if name.ends_with(SPEC_SUFFIX) && !file_type.is_dir() {
+                // FIFOs, sockets and symlinks are kept: reading refuses them with a message
+                let entry_path = entry.path();
+                if !entry_path.is_dir() {
+                    found.push(entry_path);
+                }
+            }
+        }
+    }
+    found.sort();
+    files.extend(found);
+    Ok(())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

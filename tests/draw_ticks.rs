@@ -101,3 +101,77 @@ proptest! {
         prop_assert_eq!(labels.len(), ticks.labels.len(), "{:?}", ticks.labels);
     }
 }
+
+#[path = "support/charts.rs"]
+mod charts;
+
+/// A scatter over the random ranges on both axes, at a random frame size and panel count.
+fn laid_out_scatter(
+    (x_low, x_high): (f64, f64),
+    (y_low, y_high): (f64, f64),
+    width: f64,
+    height: f64,
+    panels: usize,
+) -> markwell::draw::layout::Scene {
+    use markwell::eval::model::{Datum, Domain, PanelInfo};
+    let mut chart = charts::apiary_scatter();
+    let layer = &mut chart.layers[0];
+    layer.channels[0].domain = Domain::Numeric {
+        min: x_low,
+        max: x_high,
+    };
+    layer.channels[1].domain = Domain::Numeric {
+        min: y_low,
+        max: y_high,
+    };
+    for (index, mark) in layer.marks.iter_mut().enumerate() {
+        let t = index as f64 / 59.0;
+        mark.values[0] = Datum::Number(x_low + t * (x_high - x_low));
+        mark.values[1] = Datum::Number(y_high - t * (y_high - y_low));
+        mark.panel = (index % panels) as u32;
+    }
+    chart.width = width;
+    chart.height = height;
+    chart.panels = (0..panels)
+        .map(|index| PanelInfo {
+            label: Some(format!("buoy {index}")),
+        })
+        .collect();
+    markwell::draw::layout::layout(&chart)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(120))]
+
+    /// On laid-out axes (label widths measured with the bundled font), no two drawn tick labels
+    /// overlap, none leaves the frame, and every tick lies on its axis; across panels too. The
+    /// frames leave each of up to four panels some room beside the two legends of the scatter
+    /// (narrower frames squeeze the plots to their 10 px floor and the labels overflow).
+    #[test]
+    fn laid_out_tick_labels_do_not_overlap(
+        x in range(),
+        y in range(),
+        width in 420.0f64..1200.0,
+        height in 200.0f64..900.0,
+        panels in 1usize..5,
+    ) {
+        let scene = laid_out_scatter(x, y, width, height, panels);
+        let mut boxes = Vec::new();
+        for axis in &scene.axes {
+            let (low, high) = (axis.extent.0.min(axis.extent.1), axis.extent.0.max(axis.extent.1));
+            for tick in &axis.ticks {
+                prop_assert!(tick.pixel >= low - 0.5 && tick.pixel <= high + 0.5);
+                if let Some(bounds) = tick.label_bounds() {
+                    prop_assert!(bounds.x >= -0.5 && bounds.right() <= scene.width + 0.5,
+                        "label {} leaves the frame: {:?}", tick.label, bounds);
+                    boxes.push((tick.label.clone(), bounds));
+                }
+            }
+        }
+        for (index, (first, first_box)) in boxes.iter().enumerate() {
+            for (second, second_box) in &boxes[index + 1..] {
+                prop_assert!(!first_box.overlaps(second_box), "{} and {} overlap", first, second);
+            }
+        }
+    }
+}

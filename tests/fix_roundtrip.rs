@@ -5,7 +5,7 @@
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-use markwell::analysis::{analyze, parse_document, AnalysisConfig};
+use markwell::analysis::{analyze_with_evaluation, parse_document, AnalysisConfig};
 use markwell::data::{ProfileCache, ResolveOptions};
 use markwell::diagnostic::{Diagnostic, Severity};
 
@@ -25,7 +25,13 @@ fn diagnostics_for(text: &str, spec_path: &Path, cache: &ProfileCache) -> Vec<Di
         ..Default::default()
     };
     let data = cache.load_for_spec(&document.spec, &options);
-    analyze(&document, &data, &AnalysisConfig::default())
+    let evaluation = evaluated(&document.spec, &options);
+    analyze_with_evaluation(
+        &document,
+        &data,
+        &AnalysisConfig::default(),
+        Some(&evaluation),
+    )
 }
 
 fn errors_by_rule(diagnostics: &[Diagnostic]) -> BTreeMap<&'static str, usize> {
@@ -67,9 +73,17 @@ fn every_fix_removes_its_diagnostic_and_adds_no_error() {
                 for fix in &diagnostic.fixes {
                     let name = format!("{}: `{}` / {}", spec.display(), diagnostic.rule, fix.title);
                     // the title lists every edit: each new text appears in it, in backticks
+                    // (a JSON string without its quotes; an inserted member without the comma
+                    // that separates it)
                     for edit in &fix.edits {
+                        let member = edit
+                            .new_text
+                            .trim_matches(|c: char| c == ',' || c.is_whitespace());
                         let shown = edit.new_text.trim_matches('"');
-                        if !shown.is_empty() && !fix.title.contains(&format!("`{shown}`")) {
+                        if !shown.is_empty()
+                            && !fix.title.contains(&format!("`{shown}`"))
+                            && !fix.title.contains(&format!("`{member}`"))
+                        {
                             failures.push(format!("{name}: the title hides the edit to `{shown}`"));
                         }
                     }
@@ -109,4 +123,58 @@ fn every_fix_removes_its_diagnostic_and_adds_no_error() {
         }
     }
     assert!(failures.is_empty(), "{}", failures.join("\n\n"));
+}
+
+/// The fixes of `rows-share-a-mark` add a summary to the value: the shorthand becomes an object,
+/// an object gets the key after its column; the fixed text has no such finding; a mean is not
+/// offered where parts must add up (stacks).
+#[test]
+fn rows_share_a_mark_fixes_add_a_sum_or_a_mean_and_the_finding_goes() {
+    let cache = ProfileCache::new();
+    let folder = fixtures_root().join("rows-share-a-mark");
+    let cases = [
+        (
+            "hit-one-bar-per-branch.chart.json",
+            vec![
+                r#""y": { "column": "loaves", "summary": "sum" }"#,
+                r#""y": { "column": "loaves", "summary": "mean" }"#,
+            ],
+        ),
+        (
+            "hit-stacked-days.chart.json",
+            vec![r#""y": { "column": "loaves", "summary": "sum" }"#],
+        ),
+    ];
+    for (name, fixed_bindings) in cases {
+        let spec = folder.join(name);
+        let text = std::fs::read_to_string(&spec).expect("fixture");
+        let before = diagnostics_for(&text, &spec, &cache);
+        let found: Vec<&Diagnostic> = before
+            .iter()
+            .filter(|d| d.rule == "rows-share-a-mark")
+            .collect();
+        assert_eq!(found.len(), 1, "{name}: {before:?}");
+        let fixes = &found[0].fixes;
+        assert_eq!(fixes.len(), fixed_bindings.len(), "{name}: {fixes:?}");
+        for (fix, binding) in fixes.iter().zip(fixed_bindings) {
+            let fixed = fix.apply(&text).expect("the edits apply");
+            assert!(fixed.contains(binding), "{name}: {fixed}");
+            let after = diagnostics_for(&fixed, &spec, &cache);
+            assert!(
+                after.iter().all(|d| d.rule != "rows-share-a-mark"),
+                "{name}: {after:?}"
+            );
+        }
+    }
+}
+
+/// What `markwell check` gives the rules: the chart evaluated over all of its rows.
+fn evaluated(
+    spec: &markwell::spec::model::ChartSpec,
+    options: &ResolveOptions,
+) -> markwell::eval::EvaluatedChart {
+    let mut open = |source: &markwell::spec::model::Source| {
+        markwell::data::rows::open_rows(source, options, false)
+    };
+    markwell::eval::evaluate_chart(spec, &mut open, &markwell::eval::EvalOptions::default())
 }

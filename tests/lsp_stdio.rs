@@ -114,20 +114,25 @@ fn initialize_negotiates_the_position_encoding_and_advertises_what_is_implemente
         "colorProvider",
         "inlayHintProvider",
         "definitionProvider",
+        "documentFormattingProvider",
+        "documentRangeFormattingProvider",
+        "foldingRangeProvider",
+        "selectionRangeProvider",
+        "documentLinkProvider",
+        "semanticTokensProvider",
+        "referencesProvider",
+        "renameProvider",
+        "workspaceSymbolProvider",
+        "executeCommandProvider",
     ] {
         assert!(!capabilities[provider].is_null(), "{provider} advertised");
     }
     // not implemented, so not advertised
-    for absent in [
-        "renameProvider",
-        "referencesProvider",
-        "documentFormattingProvider",
-    ] {
-        assert!(
-            capabilities[absent].is_null(),
-            "{absent} must not be advertised"
-        );
-    }
+    // pull diagnostics only for a client that declared textDocument.diagnostic
+    assert!(
+        capabilities["diagnosticProvider"].is_null(),
+        "diagnosticProvider must not be advertised"
+    );
     assert_eq!(result["serverInfo"]["name"], "markwell");
     assert!(client.finish().success());
 
@@ -840,15 +845,24 @@ fn large_data_gets_a_sampled_profile_first_then_the_full_one_with_progress() {
             .collect();
         assert_eq!(kinds.first(), Some(&"begin"), "{kinds:?}");
         assert_eq!(kinds.last(), Some(&"end"), "{kinds:?}");
-        let percentages: Vec<u64> = progress
+        // per token: a slow first analysis may show its own progress beside the full scan's
+        let mut tokens: Vec<Value> = progress
             .iter()
-            .filter_map(|message| message["params"]["value"]["percentage"].as_u64())
+            .map(|message| message["params"]["token"].clone())
             .collect();
-        assert!(
-            percentages.windows(2).all(|pair| pair[0] <= pair[1]),
-            "{percentages:?}"
-        );
-        assert!(percentages.iter().all(|&percentage| percentage <= 100));
+        tokens.dedup();
+        for token in tokens {
+            let percentages: Vec<u64> = progress
+                .iter()
+                .filter(|message| message["params"]["token"] == token)
+                .filter_map(|message| message["params"]["value"]["percentage"].as_u64())
+                .collect();
+            assert!(
+                percentages.windows(2).all(|pair| pair[0] <= pair[1]),
+                "{percentages:?}"
+            );
+            assert!(percentages.iter().all(|&percentage| percentage <= 100));
+        }
     }
     eprintln!(
         "first diagnostics {first_diagnostics:?}, full profile {full_profile_after:?}, progress messages {}",
@@ -1034,5 +1048,54 @@ fn swap_channels_refactor_round_trip() {
         .expect("the layer");
     assert_eq!(chart["children"][0]["name"], "y");
     assert_eq!(chart["children"][0]["detail"], "delay_min");
+    assert!(client.finish().success());
+}
+
+#[test]
+fn diagnostics_from_the_sampled_head_are_replaced_by_the_exact_evaluation() {
+    // a file longer than the sampled head (4 MiB): the first analysis draws the head, the exact
+    // evaluation in the background draws all of it and the spec is published again
+    let workspace = Workspace::new();
+    let mut csv = String::from("branch,loaves\n");
+    while csv.len() < (4 << 20) + (64 << 10) {
+        csv.push_str("Millbrook,10\nQuayside,10\n");
+    }
+    for _ in 0..2000 {
+        csv.push_str("Quayside,1000\n");
+    }
+    std::fs::write(workspace.path("long.csv"), &csv).expect("write data");
+    let uri = workspace.uri("sums.chart.json");
+    let text = r#"{ "source": { "path": "long.csv" }, "mark": "bar",
+  "bind": { "x": "branch", "y": { "column": "loaves", "summary": "sum", "mapping": { "extent": [1000, 9000000] } } } }"#;
+    let mut client = start();
+    client.initialize(json!({}), Some(&workspace.root_uri()));
+    client.open(&uri, text, 1);
+    let message_of = |diagnostics: &[Value]| {
+        diagnostics
+            .iter()
+            .find(|d| d["code"] == "truncated-baseline")
+            .and_then(|d| d["message"].as_str())
+            .unwrap_or_default()
+            .to_string()
+    };
+    let first = message_of(&client.wait_for_publish(&uri, 1));
+    assert!(
+        first.ends_with("(in the sampled head of the data)"),
+        "{first}"
+    );
+    let exact = client.wait_for("the exact evaluation's diagnostics", |m| {
+        m["method"] == "textDocument/publishDiagnostics"
+            && m["params"]["diagnostics"].as_array().is_some_and(|all| {
+                let message = message_of(all);
+                message.contains("Tufte's lie factor") && !message.contains("sampled head")
+            })
+    });
+    let message = message_of(exact["params"]["diagnostics"].as_array().expect("array"));
+    // all the rows: Quayside has the 2,000 rows of 1,000 past the head, so it is the longest
+    assert!(
+        message.contains("the longest bar (`Quayside`, "),
+        "{message}"
+    );
+    client.settle(Duration::from_millis(200));
     assert!(client.finish().success());
 }

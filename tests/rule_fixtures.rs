@@ -11,7 +11,7 @@
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-use markwell::analysis::{analyze, parse_document, AnalysisConfig};
+use markwell::analysis::{analyze_with_evaluation, parse_document, AnalysisConfig};
 use markwell::data::{ProfileCache, ResolveOptions};
 
 fn fixtures_root() -> PathBuf {
@@ -38,16 +38,22 @@ fn actual_findings(path: &Path, cache: &ProfileCache) -> Vec<(String, String, St
         ..Default::default()
     };
     let data = cache.load_for_spec(&document.spec, &options);
-    analyze(&document, &data, &AnalysisConfig::default())
-        .into_iter()
-        .map(|diagnostic| {
-            let snippet = text
-                .get(diagnostic.range.start..diagnostic.range.end)
-                .unwrap_or("<bad range>")
-                .to_string();
-            (diagnostic.rule.to_string(), snippet, diagnostic.message)
-        })
-        .collect()
+    let evaluation = evaluated(&document.spec, &options);
+    analyze_with_evaluation(
+        &document,
+        &data,
+        &AnalysisConfig::default(),
+        Some(&evaluation),
+    )
+    .into_iter()
+    .map(|diagnostic| {
+        let snippet = text
+            .get(diagnostic.range.start..diagnostic.range.end)
+            .unwrap_or("<bad range>")
+            .to_string();
+        (diagnostic.rule.to_string(), snippet, diagnostic.message)
+    })
+    .collect()
 }
 
 /// (rule, source text, exact message if pinned) a spec must produce.
@@ -175,4 +181,15 @@ fn every_rule_fixture_produces_exactly_its_expected_diagnostics() {
         failures.len(),
         failures.join("\n")
     );
+}
+
+/// What `markwell check` gives the rules: the chart evaluated over all of its rows.
+fn evaluated(
+    spec: &markwell::spec::model::ChartSpec,
+    options: &ResolveOptions,
+) -> markwell::eval::EvaluatedChart {
+    let mut open = |source: &markwell::spec::model::Source| {
+        markwell::data::rows::open_rows(source, options, false)
+    };
+    markwell::eval::evaluate_chart(spec, &mut open, &markwell::eval::EvalOptions::default())
 }

@@ -1,7 +1,9 @@
 //! Facts the rules share, computed once per analysis: for each layer its source and profile, and
-//! for each binding the column's declaration, profile and the kind of the values it encodes.
+//! for each binding the column's declaration, profile and the kind of the values it encodes, and,
+//! when the front end evaluated the chart, what the layer draws.
 
 use crate::data::{ColumnProfile, DataContext, DataProfile};
+use crate::eval::{EvaluatedChart, EvaluatedLayer};
 use crate::spec::model::*;
 
 /// Where a binding's effective kind came from.
@@ -107,6 +109,11 @@ pub struct LayerFacts<'a> {
     /// Bindings on channels the mark cannot show (`angle` on a point): not drawn, so only
     /// `channel-not-on-mark` looks at them.
     pub unshown: Vec<BindingFacts<'a>>,
+    /// What the layer draws, when the chart was evaluated (the marks with their values after
+    /// summaries, bins and stacking); rules fall back to the profile without it.
+    pub drawn: Option<&'a EvaluatedLayer>,
+    /// The evaluation read only a sampled head of the data (messages say so).
+    pub drawn_from_sample: bool,
 }
 
 impl<'a> LayerFacts<'a> {
@@ -136,6 +143,16 @@ impl<'a> LayerFacts<'a> {
 
 /// Compute the facts of every layer.
 pub fn layer_facts<'a>(spec: &'a ChartSpec, data: &'a DataContext) -> Vec<LayerFacts<'a>> {
+    layer_facts_with_evaluation(spec, data, None)
+}
+
+/// Like [`layer_facts`], with each layer's evaluated marks from `evaluation` (matched by the
+/// layer's index and mark, so an evaluation of another text is not misread).
+pub fn layer_facts_with_evaluation<'a>(
+    spec: &'a ChartSpec,
+    data: &'a DataContext,
+    evaluation: Option<&'a EvaluatedChart>,
+) -> Vec<LayerFacts<'a>> {
     spec.layers
         .iter()
         .map(|layer| {
@@ -154,12 +171,19 @@ pub fn layer_facts<'a>(spec: &'a ChartSpec, data: &'a DataContext) -> Vec<LayerF
                         crate::knowledge::perceived::mark_shows(mark, facts.binding.channel)
                     })
                 });
+            let drawn = evaluation.and_then(|chart| {
+                chart.layers.iter().find(|evaluated| {
+                    evaluated.index == layer.index && Some(evaluated.mark) == mark
+                })
+            });
             LayerFacts {
                 layer,
                 source,
                 data: profile,
                 bindings,
                 unshown,
+                drawn,
+                drawn_from_sample: evaluation.is_some_and(|chart| chart.is_sample),
             }
         })
         .collect()

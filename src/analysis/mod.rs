@@ -1,12 +1,15 @@
-//! Layer 4: the analysis, a pure function of (document text, data profiles, configuration).
-//! It knows nothing of LSP or the terminal.
+//! Layer 4: the analysis, a pure function of (document text, data profiles, configuration,
+//! evaluation). It knows nothing of LSP or the terminal.
 //!
 //! Two steps so that front ends can load data in between:
 //! 1. [`parse_document`] parses and lowers the text (syntax, schema and model diagnostics);
-//! 2. [`analyze`] runs the rules over the model and the profiles the front end loaded for it.
+//! 2. [`analyze`] runs the rules over the model and the profiles the front end loaded for it;
+//!    [`analyze_with_evaluation`] also gives them what the chart draws (the front end evaluated
+//!    the spec over its rows), so that rules judge the drawn values rather than the profile.
 
 pub mod channels;
 pub mod config;
+pub mod drawn;
 pub mod facts;
 pub mod refactor;
 pub mod rules;
@@ -15,6 +18,7 @@ use std::collections::HashMap;
 
 use crate::data::DataContext;
 use crate::diagnostic::Diagnostic;
+use crate::eval::EvaluatedChart;
 use crate::spec::model::ChartSpec;
 use crate::syntax::SyntaxTree;
 
@@ -137,13 +141,42 @@ pub fn analyze(
     data: &DataContext,
     config: &AnalysisConfig,
 ) -> Vec<Diagnostic> {
-    let mut diagnostics = analyze_unchecked(document, data, config);
+    analyze_with_evaluation(document, data, config, None)
+}
+
+/// [`analyze`] with what the chart draws: `evaluation` must be of `document`'s spec over the
+/// same data (the layers are matched by index and mark). The fixes are checked on the fixed
+/// text without the evaluation (it was of the text before the fix), against the findings of
+/// the text before the fix without it too, so that both sides are judged alike.
+pub fn analyze_with_evaluation(
+    document: &ParsedDocument,
+    data: &DataContext,
+    config: &AnalysisConfig,
+    evaluation: Option<&EvaluatedChart>,
+) -> Vec<Diagnostic> {
+    let mut diagnostics = analyze_unchecked_with_evaluation(document, data, config, evaluation);
     let text = document.tree.text();
     if text.len() > MAX_TEXT_FOR_FIX_CHECK {
         return diagnostics;
     }
-    let before = rule_counts(&diagnostics);
+    let has_checked_fix = diagnostics.iter().any(|diagnostic| {
+        !diagnostic.fixes.is_empty()
+            && matches!(
+                rules::rule_by_id(diagnostic.rule).map(|rule| rule.check),
+                Some(rules::RuleCheck::Semantic(_))
+            )
+    });
+    if !has_checked_fix {
+        return diagnostics;
+    }
     let mut budget = FIX_CHECK_BUDGET_BYTES;
+    let before = match evaluation {
+        None => rule_counts(&diagnostics),
+        Some(_) => {
+            budget = budget.saturating_sub(text.len());
+            rule_counts(&analyze_unchecked(document, data, config))
+        }
+    };
     for diagnostic in &mut diagnostics {
         let checked = matches!(
             rules::rule_by_id(diagnostic.rule).map(|rule| rule.check),
@@ -200,8 +233,18 @@ pub fn analyze_unchecked(
     data: &DataContext,
     config: &AnalysisConfig,
 ) -> Vec<Diagnostic> {
+    analyze_unchecked_with_evaluation(document, data, config, None)
+}
+
+/// [`analyze_with_evaluation`] without checking the fixes.
+pub fn analyze_unchecked_with_evaluation(
+    document: &ParsedDocument,
+    data: &DataContext,
+    config: &AnalysisConfig,
+    evaluation: Option<&EvaluatedChart>,
+) -> Vec<Diagnostic> {
     let mut diagnostics = document.diagnostics.clone();
-    diagnostics.extend(rules::run_all(document, data, config));
+    diagnostics.extend(rules::run_all(document, data, config, evaluation));
     let mut out: Vec<Diagnostic> = diagnostics
         .into_iter()
         .filter_map(|mut diagnostic| {

@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 use crate::analysis::config::{
     parse_project_config, parse_severity_setting, ProjectConfig, CONFIG_FILE_NAME,
 };
-use crate::analysis::{analyze, parse_document};
+use crate::analysis::{analyze_with_evaluation, parse_document};
 use crate::data::{ProfileCache, ResolveOptions};
 use crate::diagnostic::{Diagnostic, Severity};
 
@@ -20,7 +20,7 @@ use super::{FailOn, OutputFormat, EXIT_CLEAN, EXIT_FINDINGS, EXIT_TROUBLE};
 pub const MAX_SPEC_BYTES: u64 = 16 * 1024 * 1024;
 
 /// Suffix of chart-spec files when searching folders.
-pub const SPEC_SUFFIX: &str = ".chart.json";
+pub use crate::fsguard::SPEC_SUFFIX;
 
 #[derive(clap::Args, Debug)]
 pub struct CheckArgs {
@@ -121,8 +121,14 @@ impl Checker<'_> {
             limits: self.args.budgets.apply(project.profile_limits),
         };
         let data = self.cache.load_for_spec(&document.spec, &options);
+        let evaluation = evaluate_exactly(&document.spec, &options);
         let mut diagnostics = encoding_diagnostics;
-        diagnostics.extend(analyze(&document, &data, &config));
+        diagnostics.extend(analyze_with_evaluation(
+            &document,
+            &data,
+            &config,
+            evaluation.as_ref(),
+        ));
         // messages quote data text: no control characters reach the terminal or the log
         for diagnostic in &mut diagnostics {
             if let std::borrow::Cow::Owned(escaped) =
@@ -133,6 +139,22 @@ impl Checker<'_> {
         }
         Ok((diagnostics, outline(&document.spec, &data)))
     }
+}
+
+/// What the chart draws, evaluated over all of its rows (`check` has the time for the exact
+/// evaluation), for the rules that judge the drawn values. A layer that cannot be evaluated is
+/// named in the evaluation's notes; a panic inside it is caught and leaves the rules to the
+/// profiles.
+pub fn evaluate_exactly(
+    spec: &crate::spec::model::ChartSpec,
+    options: &ResolveOptions,
+) -> Option<crate::eval::EvaluatedChart> {
+    let mut open =
+        |source: &crate::spec::model::Source| crate::data::rows::open_rows(source, options, false);
+    std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        crate::eval::evaluate_chart(spec, &mut open, &crate::eval::EvalOptions::default())
+    }))
+    .ok()
 }
 
 pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Result<u8> {
@@ -221,13 +243,6 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
                 })
             }
         }
-        // the workspace root is looked for no higher than this (see `fsguard::discover_root`)
-        let given = if path.is_dir() {
-            path.clone()
-        } else {
-            path.parent().map(Path::to_path_buf).unwrap_or_default()
-        };
-        ceilings.extend(std::iter::repeat_n(given, files.len() - before));
     }
 
     let checker = Checker {
@@ -299,7 +314,7 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
                     let written = if args.preview {
                         false
                     } else {
-                        match std::fs::write(&path, &new_text) {
+                        match crate::fsguard::write_atomically(&path, new_text.as_bytes()) {
                             Ok(()) => true,
                             Err(error) => {
                                 errors.push(RunError {
@@ -472,51 +487,7 @@ pub fn spec_text_from_bytes(bytes: Vec<u8>) -> SpecText {
     }
 }
 
-fn describe_io_error(error: &std::io::Error) -> String {
-    match error.kind() {
-        std::io::ErrorKind::NotFound => "no such file or folder".to_string(),
-        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
-        _ => error.to_string(),
-    }
-}
-
-/// Add `path` (a file) or the `*.chart.json` files below it (a folder) to `files`, sorted.
-/// Hidden folders and symbolic links to folders are not entered.
-pub fn collect_spec_files(path: &Path, files: &mut Vec<PathBuf>) -> Result<(), String> {
-    let metadata = std::fs::metadata(path)
-        .map_err(|error| format!("{}: {}", path.display(), describe_io_error(&error)))?;
-    if metadata.is_file() {
-        files.push(path.to_path_buf());
-        return Ok(());
-    }
-    let mut found = Vec::new();
-    let mut pending = vec![path.to_path_buf()];
-    while let Some(folder) = pending.pop() {
-        let entries = std::fs::read_dir(&folder)
-            .map_err(|error| format!("{}: {}", folder.display(), describe_io_error(&error)))?;
-        for entry in entries.flatten() {
-            let name = entry.file_name();
-            let name = name.to_string_lossy();
-            let Ok(file_type) = entry.file_type() else {
-                continue;
-            };
-            if file_type.is_dir() {
-                if !name.starts_with('.') && name != "target" && name != "node_modules" {
-                    pending.push(entry.path());
-                }
-            } else if name.ends_with(SPEC_SUFFIX) && !file_type.is_dir() {
-                // FIFOs, sockets and symlinks are kept: reading refuses them with a message
-                let entry_path = entry.path();
-                if !entry_path.is_dir() {
-                    found.push(entry_path);
-                }
-            }
-        }
-    }
-    found.sort();
-    files.extend(found);
-    Ok(())
-}
+pub use crate::fsguard::collect_spec_files;
 
 /// The workspace root of a spec found through the command-line path `given`: see
 /// [`crate::fsguard::discover_root`]; the walk stops at a `.git`, and goes no higher than the
@@ -543,7 +514,7 @@ pub fn find_workspace_root(spec_path: &Path, given: &Path) -> PathBuf {
     crate::fsguard::discover_root(spec_path, Some(&ceiling))
 }
 
-fn load_project_config(
+pub(super) fn load_project_config(
     explicit: Option<&Path>,
     workspace_root: &Path,
 ) -> Result<ProjectConfig, Vec<RunError>> {

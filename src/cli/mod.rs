@@ -1,9 +1,11 @@
-//! The command-line front end: `markwell check`, `profile`, `rules`, `explain`, `sources`,
-//! `serve`.
+//! The command-line front end: `markwell check`, `draw`, `profile`, `format`, `rules`, `explain`,
+//! `sources`, `serve`.
 //! A thin shell: it finds files, reads them, calls the analysis and prints.
 
 mod check;
+mod draw;
 mod fix;
+mod format;
 mod profile;
 mod render;
 mod report;
@@ -70,6 +72,8 @@ impl FailOn {
 enum Command {
     /// Check chart specs (files, or folders searched for `*.chart.json`).
     Check(check::CheckArgs),
+    /// Draw chart specs as pictures (SVG or PNG), one per spec, into an output folder.
+    Draw(draw::DrawArgs),
     /// Profile data files: kinds, missing values, distinct counts, ranges, histograms.
     Profile(profile::ProfileArgs),
     /// List the rules.
@@ -81,6 +85,8 @@ enum Command {
     },
     /// Where the numbers come from, and which tables are not yet checked against their source.
     Sources,
+    /// Lay out spec files the one way (two-space indent, key order kept unless asked).
+    Format(format::FormatArgs),
     /// Run the language server over stdin/stdout (LSP).
     Serve,
 }
@@ -167,7 +173,9 @@ where
     };
     let code = match cli.command {
         Command::Check(args) => check::run(&args, out, err)?,
+        Command::Draw(args) => draw::run(&args, out, err)?,
         Command::Profile(args) => profile::run(&args, out, err)?,
+        Command::Format(args) => format::run(&args, out, err)?,
         Command::Rules => list_rules(out)?,
         Command::Explain { id } => explain(&id, out, err)?,
         Command::Sources => {

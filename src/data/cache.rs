@@ -27,7 +27,7 @@ use crate::spec::model::{ChartSpec, DataFormat, InlineRow, Source, SourceLocatio
 pub const SAMPLE_BYTES: usize = 4 << 20;
 /// A NUL byte within this many leading bytes marks the file as binary.
 const BINARY_PROBE_BYTES: usize = 64 * 1024;
-const BYTE_ORDER_MARK: [u8; 3] = [0xEF, 0xBB, 0xBF];
+pub(super) const BYTE_ORDER_MARK: [u8; 3] = [0xEF, 0xBB, 0xBF];
 
 #[derive(Clone, Debug, PartialEq, Eq, Hash)]
 struct CacheKey {
@@ -72,7 +72,7 @@ impl Drop for ScanClaim<'_> {
     }
 }
 
-fn simple_error(kind: DataErrorKind, message: String, path: &Path) -> DataError {
+pub(super) fn simple_error(kind: DataErrorKind, message: String, path: &Path) -> DataError {
     DataError {
         kind,
         message,
@@ -83,7 +83,7 @@ fn simple_error(kind: DataErrorKind, message: String, path: &Path) -> DataError 
 }
 
 /// Size and modification time, refusing folders, FIFOs, sockets and devices.
-fn file_stamp(path: &Path) -> Result<(u64, Option<SystemTime>), DataError> {
+pub(super) fn file_stamp(path: &Path) -> Result<(u64, Option<SystemTime>), DataError> {
     let metadata = std::fs::metadata(path).map_err(|error| io_error(Some(path), &error))?;
     if metadata.is_dir() {
         return Err(simple_error(
@@ -226,7 +226,7 @@ pub fn detect_format(
     Ok((format, delimiter))
 }
 
-fn read_head(file: &mut File, limit: usize, path: &Path) -> Result<Vec<u8>, DataError> {
+pub(super) fn read_head(file: &mut File, limit: usize, path: &Path) -> Result<Vec<u8>, DataError> {
     let mut head = Vec::new();
     file.by_ref()
         .take(limit as u64)
@@ -235,7 +235,7 @@ fn read_head(file: &mut File, limit: usize, path: &Path) -> Result<Vec<u8>, Data
     Ok(head)
 }
 
-fn check_is_text(head: &[u8], path: &Path) -> Result<(), DataError> {
+pub(super) fn check_is_text(head: &[u8], path: &Path) -> Result<(), DataError> {
     let probe = &head[..head.len().min(BINARY_PROBE_BYTES)];
     if let Some(position) = memchr::memchr(0, probe) {
         let line = probe[..position]
@@ -257,7 +257,7 @@ fn check_is_text(head: &[u8], path: &Path) -> Result<(), DataError> {
 }
 
 /// Cut a sampled head after its last line break (so no row is cut in half).
-fn cut_at_last_line(head: &[u8]) -> &[u8] {
+pub(super) fn cut_at_last_line(head: &[u8]) -> &[u8] {
     match memchr::memrchr(b'\n', head) {
         Some(position) => &head[..=position],
         None => head,

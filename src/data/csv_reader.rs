@@ -91,9 +91,20 @@ pub struct RecordReader<R> {
 impl<R: Read> RecordReader<R> {
     /// A reader over `source`, whose first byte is at `start_offset` in the file.
     pub fn new(source: R, start_offset: u64, delimiter: u8) -> RecordReader<R> {
+        RecordReader::with_buffer_bytes(source, start_offset, delimiter, BUFFER_BYTES)
+    }
+
+    /// Like [`RecordReader::new`] with a first buffer of `bytes` (at most 1 MiB; it grows for a
+    /// longer record): a small input in memory needs no 1 MiB buffer.
+    pub fn with_buffer_bytes(
+        source: R,
+        start_offset: u64,
+        delimiter: u8,
+        bytes: usize,
+    ) -> RecordReader<R> {
         RecordReader {
             source,
-            buffer: vec![0; BUFFER_BYTES],
+            buffer: vec![0; bytes.clamp(4096, BUFFER_BYTES)],
             start: 0,
             end: 0,
             at_eof: false,

@@ -8,7 +8,8 @@
 //! - [`profile`]: per-column accumulators that merge across threads;
 //! - [`sketch`]: HyperLogLog, compensated sums, streaming histograms;
 //! - [`cache`]: [`ProfileCache`], sampled and full profiles keyed by path, size and mtime;
-//! - [`render`]: the text table and JSON of `markwell profile`.
+//! - [`render`]: the text table and JSON of `markwell profile`;
+//! - [`rows`]: [`rows::RowSource`] and [`rows::open_rows`], the rows the evaluation reads.
 
 pub mod cache;
 pub mod csv_reader;
@@ -17,6 +18,7 @@ pub mod json_reader;
 pub mod profile;
 pub mod render;
 pub mod resolve;
+pub mod rows;
 pub mod sketch;
 
 use std::fmt;

@@ -686,59 +686,96 @@ impl ColumnAccumulator {
         time_share: f64,
         all_values: &Option<Vec<(String, u64)>>,
     ) -> (AttributeKind, String) {
-        if present == 0 {
+        let texts: Option<Vec<&str>> = all_values
+            .as_ref()
+            .map(|values| values.iter().map(|(text, _)| text.as_str()).collect());
+        decide_kind(
+            KindCounts {
+                present,
+                numbers: self.numeric_count,
+                times: self.time_count,
+                numeric_share,
+                time_share,
+            },
+            texts.as_deref(),
+        )
+    }
+}
+
+/// What a column's kind is decided from: values present, how many are numbers and times.
+#[derive(Clone, Copy, Debug)]
+pub struct KindCounts {
+    pub present: u64,
+    pub numbers: u64,
+    pub times: u64,
+    pub numeric_share: f64,
+    pub time_share: f64,
+}
+
+/// The kind of a column, with the evidence in words (the rules in [`super::infer`]):
+/// `distinct_values` are every distinct value when there are few enough (for the ordinal
+/// vocabularies). The evaluation decides kinds of undeclared columns with it too.
+pub fn decide_kind(
+    counts: KindCounts,
+    distinct_values: Option<&[&str]>,
+) -> (AttributeKind, String) {
+    let KindCounts {
+        present,
+        numeric_share,
+        time_share,
+        ..
+    } = counts;
+    if present == 0 {
+        return (
+            AttributeKind::Categorical,
+            "no values to judge by (every cell is missing)".to_string(),
+        );
+    }
+    let percent = |share: f64| format!("{:.1} %", share * 100.0);
+    if numeric_share >= MAJORITY_SHARE {
+        let evidence = if counts.numbers == present {
+            format!("all {present} values are numbers")
+        } else {
+            format!(
+                "{} of {present} values ({}) are numbers",
+                counts.numbers,
+                percent(numeric_share)
+            )
+        };
+        return (AttributeKind::Quantitative, evidence);
+    }
+    if time_share >= MAJORITY_SHARE {
+        let evidence = if counts.times == present {
+            format!("all {present} values are ISO 8601 dates or date-times")
+        } else {
+            format!(
+                "{} of {present} values ({}) are ISO 8601 dates or date-times",
+                counts.times,
+                percent(time_share)
+            )
+        };
+        return (AttributeKind::Time, evidence);
+    }
+    if let Some(texts) = distinct_values {
+        if let Some(vocabulary) = ordinal_vocabulary_of(texts) {
             return (
-                AttributeKind::Categorical,
-                "no values to judge by (every cell is missing)".to_string(),
+                AttributeKind::Ordered,
+                format!(
+                    "all {} distinct values belong to the ordered scale {}",
+                    texts.len(),
+                    vocabulary.join(" < ")
+                ),
             );
         }
-        let percent = |share: f64| format!("{:.1} %", share * 100.0);
-        if numeric_share >= MAJORITY_SHARE {
-            let evidence = if self.numeric_count == present {
-                format!("all {present} values are numbers")
-            } else {
-                format!(
-                    "{} of {present} values ({}) are numbers",
-                    self.numeric_count,
-                    percent(numeric_share)
-                )
-            };
-            return (AttributeKind::Quantitative, evidence);
-        }
-        if time_share >= MAJORITY_SHARE {
-            let evidence = if self.time_count == present {
-                format!("all {present} values are ISO 8601 dates or date-times")
-            } else {
-                format!(
-                    "{} of {present} values ({}) are ISO 8601 dates or date-times",
-                    self.time_count,
-                    percent(time_share)
-                )
-            };
-            return (AttributeKind::Time, evidence);
-        }
-        if let Some(values) = all_values {
-            let texts: Vec<&str> = values.iter().map(|(text, _)| text.as_str()).collect();
-            if let Some(vocabulary) = ordinal_vocabulary_of(&texts) {
-                return (
-                    AttributeKind::Ordered,
-                    format!(
-                        "all {} distinct values belong to the ordered scale {}",
-                        texts.len(),
-                        vocabulary.join(" < ")
-                    ),
-                );
-            }
-        }
-        let mut evidence = format!(
-            "text values ({} of {present} are numbers, {} are dates)",
-            self.numeric_count, self.time_count
-        );
-        if self.numeric_count == 0 && self.time_count == 0 {
-            evidence = format!("all {present} values are text");
-        }
-        (AttributeKind::Categorical, evidence)
     }
+    let mut evidence = format!(
+        "text values ({} of {present} are numbers, {} are dates)",
+        counts.numbers, counts.times
+    );
+    if counts.numbers == 0 && counts.times == 0 {
+        evidence = format!("all {present} values are text");
+    }
+    (AttributeKind::Categorical, evidence)
 }
 
 /// Bins for a histogram from `min` to `max`: [`HISTOGRAM_BIN_COUNT`], or one per integer when

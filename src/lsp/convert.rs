@@ -283,6 +283,120 @@ pub fn to_completion_item(
     }
 }
 
+/// Formatting edits (byte ranges of the current text) as LSP text edits.
+pub fn to_text_edits(
+    index: &LineIndex,
+    edits: &[crate::syntax::format::FormatEdit],
+    encoding: PositionEncoding,
+) -> Vec<lsp::TextEdit> {
+    edits
+        .iter()
+        .map(|edit| lsp::TextEdit {
+            range: to_lsp_range(index, edit.range, encoding),
+            new_text: edit.new_text.clone(),
+        })
+        .collect()
+}
+
+/// Folds by line: a container that starts and ends on one line has nothing to fold.
+pub fn to_folding_ranges(
+    index: &LineIndex,
+    ranges: &[TextRange],
+    encoding: PositionEncoding,
+) -> Vec<lsp::FoldingRange> {
+    ranges
+        .iter()
+        .filter_map(|range| {
+            let lsp_range = to_lsp_range(index, *range, encoding);
+            (lsp_range.end.line > lsp_range.start.line).then_some(lsp::FoldingRange {
+                start_line: lsp_range.start.line,
+                start_character: None,
+                end_line: lsp_range.end.line,
+                end_character: None,
+                kind: None,
+                collapsed_text: None,
+            })
+        })
+        .collect()
+}
+
+/// A chain of ranges, innermost first, as nested selection ranges.
+pub fn to_selection_range(
+    index: &LineIndex,
+    chain: &[TextRange],
+    encoding: PositionEncoding,
+) -> Option<lsp::SelectionRange> {
+    let mut outer: Option<lsp::SelectionRange> = None;
+    for range in chain.iter().rev() {
+        outer = Some(lsp::SelectionRange {
+            range: to_lsp_range(index, *range, encoding),
+            parent: outer.map(Box::new),
+        });
+    }
+    outer
+}
+
+pub fn to_document_links(
+    index: &LineIndex,
+    links: &[crate::lsp::structure::FileLink],
+    encoding: PositionEncoding,
+) -> Vec<lsp::DocumentLink> {
+    links
+        .iter()
+        .filter_map(|link| {
+            Some(lsp::DocumentLink {
+                range: to_lsp_range(index, link.range, encoding),
+                target: Some(file_uri(&link.target)?),
+                tooltip: None,
+                data: None,
+            })
+        })
+        .collect()
+}
+
+pub fn semantic_tokens_legend() -> lsp::SemanticTokensLegend {
+    lsp::SemanticTokensLegend {
+        token_types: crate::lsp::structure::LEGEND
+            .iter()
+            .map(|name| lsp::SemanticTokenType::new(name))
+            .collect(),
+        token_modifiers: Vec::new(),
+    }
+}
+
+/// Semantic tokens (sorted, not overlapping, one line each) in LSP's relative encoding, with
+/// lengths in the negotiated position encoding.
+pub fn to_semantic_tokens(
+    index: &LineIndex,
+    tokens: &[(TextRange, crate::lsp::structure::SemanticKind)],
+    encoding: PositionEncoding,
+) -> Vec<lsp::SemanticToken> {
+    let mut data = Vec::with_capacity(tokens.len());
+    let (mut previous_line, mut previous_start) = (0u32, 0u32);
+    for (range, kind) in tokens {
+        let (start, end) = index.range_to_positions(*range, encoding);
+        if end.line != start.line {
+            continue; // a token must not span lines; strings in a spec never do
+        }
+        let delta_line = start.line - previous_line;
+        let delta_start = if delta_line == 0 {
+            start.character - previous_start
+        } else {
+            start.character
+        };
+        data.push(lsp::SemanticToken {
+            delta_line,
+            delta_start,
+            length: end.character - start.character,
+            token_type: kind.index(),
+            token_modifiers_bitset: 0,
+        });
+        previous_line = start.line;
+        previous_start = start.character;
+    }
+    data
+}
+
 #[cfg(test)]
 mod tests {
     use std::path::PathBuf;

@@ -47,6 +47,9 @@ pub struct AnalysisOutcome {
     pub diagnostics: Vec<Diagnostic>,
     /// Files that only have a sampled profile yet: (canonical path, how to read them).
     pub pending_full_scans: Vec<(PathBuf, ReadOptions)>,
+    /// What the chart draws, as the rules saw it (over the sampled head until the exact
+    /// evaluation arrives); `None` when it was not evaluated.
+    pub evaluation: Option<Arc<crate::eval::EvaluatedChart>>,
 }
 
 #[derive(Debug)]

@@ -11,11 +11,14 @@
 pub mod completion;
 pub mod convert;
 pub mod documents;
+pub mod evaluate;
 pub mod features;
 pub mod framing;
 pub mod log;
 pub mod server;
 pub mod settings;
+pub mod structure;
+pub mod workspace;
 
 use std::pin::Pin;
 use std::process::ExitCode;

@@ -13,6 +13,10 @@
 //!   are computed in the background (`spawn_blocking`, `$/progress` with percentages after
 //!   0.5 s when the client supports it), then the specs reading the file are analysed again;
 //!   watched-file events invalidate the cache and re-analyse the specs that read the file;
+//! - evaluation (what the chart draws, for the rules that judge it): inside the analysis task
+//!   over the sampled head of the data, then exactly in the background (`spawn_blocking`, after
+//!   the text has rested for [`EXACT_EVALUATION_AFTER`]); the exact scan stops once its text is
+//!   superseded, and its result is used only for the generation it was computed for;
 //! - every handler body runs inside `catch_unwind`: a panic becomes a logged error response (or a
 //!   logged dropped notification), never a dead server;
 //! - requests to the client (configuration, registration, progress tokens) time out after 5 s.
@@ -31,14 +35,17 @@ use tower_lsp::{Client, LanguageServer};
 
 use crate::analysis::config::{parse_project_config, ProjectConfig, CONFIG_FILE_NAME};
 use crate::analysis::refactor::refactors_at;
-use crate::analysis::{analyze, parse_document, AnalysisConfig};
+use crate::analysis::{analyze_with_evaluation, parse_document, AnalysisConfig};
 use crate::data::{DataContext, ProfileCache, ReadOptions, ResolveOptions};
+use crate::eval::EvaluatedChart;
 use crate::lsp::completion;
 use crate::lsp::convert::{self, from_lsp_position, to_lsp_range};
 use crate::lsp::documents::{next_generation, AnalysisOutcome, OpenDocument, TextChange};
 use crate::lsp::features;
 use crate::lsp::log;
 use crate::lsp::settings::{merge_settings, parse_editor_settings, EditorSettings};
+use crate::lsp::structure;
+use crate::lsp::workspace::{self, WorkspaceIndex};
 use crate::positions::{LineIndex, PositionEncoding};
 use crate::spec::model::ChartSpec;
 use crate::text_range::TextRange;
@@ -94,6 +101,9 @@ struct Session {
     supports_configuration_request: bool,
     supports_watched_files_registration: bool,
     supports_inlay_hint_refresh: bool,
+    /// The client pulls diagnostics (`textDocument/diagnostic`) instead of being sent them.
+    pull_diagnostics: bool,
+    supports_diagnostic_refresh: bool,
     /// The configuration from files (`markwell.toml`), before editor settings.
     file_config: AnalysisConfig,
     /// `[data] allow-outside-workspace` of `markwell.toml`.
@@ -107,6 +117,8 @@ struct Session {
 #[derive(Debug)]
 struct DocumentRecord {
     document: OpenDocument,
+    /// A data file (CSV, TSV, JSON, NDJSON) open as a document: checked as data, not as a spec.
+    data_document: bool,
     /// Id of the analysis loop of this document, when one runs.
     analysis_loop: Option<u64>,
     /// Set when an analysis is asked for while the loop runs for a reason other than new text
@@ -116,6 +128,12 @@ struct DocumentRecord {
     published: Option<Vec<lsp::Diagnostic>>,
     /// Data files read by the latest analysis.
     data_paths: Vec<PathBuf>,
+    /// The latest evaluation of one generation of the text: over the sampled head, until the
+    /// exact one (over all the rows) replaces it. Reused while the text and the data stay the
+    /// same (a full profile arriving does not evaluate the head again).
+    evaluation: Option<(u64, Arc<EvaluatedChart>)>,
+    /// The generation whose exact evaluation is being computed, when one is.
+    exact_evaluation_running: Option<u64>,
 }
 
 /// Everything the handlers and the analysis tasks share.
@@ -128,6 +146,12 @@ pub struct ServerState {
     next_progress_token: AtomicU64,
     /// Files whose full profile is being computed in the background.
     full_scans_running: Mutex<HashSet<PathBuf>>,
+    /// Every spec file under the workspace root, open or not.
+    workspace: Mutex<WorkspaceIndex>,
+    /// Set once the first scan of the workspace ended (with or without a root).
+    workspace_scanned: AtomicBool,
+    /// Closed specs that were sent diagnostics (to clear them when they are fixed or opened).
+    closed_published: Mutex<HashSet<lsp::Url>>,
 }
 
 /// The tower-lsp `LanguageServer`.
@@ -143,6 +167,8 @@ struct Snapshot {
     index: Arc<LineIndex>,
     resolve: ResolveOptions,
     config: Arc<AnalysisConfig>,
+    /// The evaluation of this text, when it was computed already (sampled or exact).
+    known_evaluation: Option<Arc<EvaluatedChart>>,
 }
 
 fn lock<T>(mutex: &Mutex<T>) -> MutexGuard<'_, T> {
@@ -178,19 +204,28 @@ fn guarded<T>(what: &str, body: impl FnOnce() -> T) -> jsonrpc::Result<T> {
     })
 }
 
-/// Parse, load the data (a sampled first profile for files without a cached full one) and run
-/// the rules. With `reuse_data`, no data is loaded (the request path).
+/// Parse, load the data (a sampled first profile for files without a cached full one), evaluate
+/// the chart (exactly when that was done for this text, else over the sampled head) and run the
+/// rules. With `reuse_data`, no data is loaded and nothing is evaluated (the request path).
 fn analyse_snapshot(
     snapshot: &Snapshot,
     cache: &ProfileCache,
     reuse_data: Option<Arc<DataContext>>,
 ) -> AnalysisOutcome {
     let parsed = parse_document(snapshot.index.text());
-    let data = match reuse_data {
-        Some(data) => data,
-        None => Arc::new(cache.load_for_spec_sampled(&parsed.spec, &snapshot.resolve)),
+    let (data, evaluation) = match reuse_data {
+        Some(data) => (data, snapshot.known_evaluation.clone()),
+        None => {
+            let data = Arc::new(cache.load_for_spec_sampled(&parsed.spec, &snapshot.resolve));
+            let evaluation = snapshot.known_evaluation.clone().or_else(|| {
+                crate::lsp::evaluate::evaluate_sampled(&parsed.spec, &snapshot.resolve)
+                    .map(Arc::new)
+            });
+            (data, evaluation)
+        }
     };
-    let diagnostics = analyze(&parsed, &data, &snapshot.config);
+    let diagnostics =
+        analyze_with_evaluation(&parsed, &data, &snapshot.config, evaluation.as_deref());
     let pending_full_scans = sampled_sources(&parsed.spec, &data);
     AnalysisOutcome {
         version: snapshot.version,
@@ -200,6 +235,7 @@ fn analyse_snapshot(
         data,
         diagnostics,
         pending_full_scans,
+        evaluation,
     }
 }
 
@@ -259,6 +295,9 @@ impl Backend {
                 documents: Mutex::new(HashMap::new()),
                 session: Mutex::new(Session::default()),
                 cache: Arc::new(ProfileCache::new()),
+                workspace: Mutex::new(WorkspaceIndex::default()),
+                workspace_scanned: AtomicBool::new(false),
+                closed_published: Mutex::new(HashSet::new()),
                 shutdown_requested,
                 next_progress_token: AtomicU64::new(1),
                 full_scans_running: Mutex::new(HashSet::new()),
@@ -299,6 +338,11 @@ impl Backend {
                 limits: session.profile_limits,
             },
             config: session.config.clone(),
+            known_evaluation: record
+                .evaluation
+                .as_ref()
+                .filter(|(generation, _)| *generation == record.document.generation)
+                .map(|(_, evaluation)| evaluation.clone()),
         }
     }
 
@@ -309,6 +353,14 @@ impl Backend {
             let Some(record) = documents.get_mut(&uri) else {
                 return;
             };
+            if record.data_document {
+                drop(documents);
+                let state = self.state.clone();
+                tokio::spawn(async move {
+                    check_data_document(state, uri).await;
+                });
+                return;
+            }
             if record.analysis_loop.is_some() {
                 // the running loop analyses again with what changed (text, settings or data)
                 record.rerun_requested = true;
@@ -541,6 +593,11 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         };
         let encoding = lock(&state.session).encoding;
         let pending_full_scans = outcome.pending_full_scans.clone();
+        let wants_exact_evaluation = outcome
+            .evaluation
+            .as_ref()
+            .is_some_and(|evaluation| evaluation.is_sample);
+        let analysed_spec = outcome.parsed.clone();
         let (to_publish, full_profiles_arrived) = {
             let mut documents = lock(&state.documents);
             let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
@@ -550,6 +607,13 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                 continue; // stale: analyse the newer text
             }
             record.data_paths = features::data_paths(&outcome.data);
+            let known_exactly = record
+                .evaluation
+                .as_ref()
+                .is_some_and(|(known, evaluation)| *known == generation && !evaluation.is_sample);
+            if let (Some(evaluation), false) = (&outcome.evaluation, known_exactly) {
+                record.evaluation = Some((generation, evaluation.clone()));
+            }
             // a full profile replaced a sample: the inlay hints (value ranges) are out of date
             let full_profiles_arrived = record.document.latest.as_ref().is_some_and(|previous| {
                 previous.pending_full_scans.len() > outcome.pending_full_scans.len()
@@ -566,13 +630,37 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         };
         // still the loop's turn: no other loop publishes for this document meanwhile
         if let Some(diagnostics) = to_publish {
-            state
-                .client
-                .publish_diagnostics(uri.clone(), diagnostics, Some(version))
+            let (pull, refresh) = {
+                let session = lock(&state.session);
+                (
+                    session.pull_diagnostics,
+                    session.supports_diagnostic_refresh,
+                )
+            };
+            if !pull {
+                state
+                    .client
+                    .publish_diagnostics(uri.clone(), diagnostics, Some(version))
+                    .await;
+            } else if refresh {
+                // the client pulls; tell it the answer changed (data or settings, not only text)
+                let refreshed = tokio::time::timeout(
+                    CLIENT_ANSWER_TIMEOUT,
+                    state.client.workspace_diagnostic_refresh(),
+                )
                 .await;
+                if !matches!(refreshed, Ok(Ok(()))) {
+                    log::info(
+                        "workspace/diagnostic/refresh: no answer or an error from the client",
+                    );
+                }
+            }
         }
         for (path, read) in pending_full_scans {
             start_full_scan(state.clone(), path, read);
+        }
+        if wants_exact_evaluation {
+            start_exact_evaluation(state.clone(), uri.clone(), generation, analysed_spec);
         }
         if full_profiles_arrived && lock(&state.session).supports_inlay_hint_refresh {
             let refreshed =
@@ -612,6 +700,9 @@ impl Drop for RunningAnalysis {
     }
 }
 
+/// How long a pull for diagnostics waits for the running analysis of the current text.
+const PULL_WAIT: Duration = Duration::from_secs(10);
+
 /// At most this many diagnostics are published per document; past it one more says how many
 /// were left out. Editors slow down with tens of thousands of markers and nobody reads them;
 /// the number is common practice, no source.
@@ -648,6 +739,103 @@ fn published_diagnostics(
         ));
     }
     published
+}
+
+/// The text must rest this long before its exact evaluation starts, so that typing does not
+/// start (and stop) a whole-file scan per keystroke. markwell's choice, no source.
+const EXACT_EVALUATION_AFTER: Duration = Duration::from_millis(300);
+
+/// Evaluate generation `generation` of `uri` exactly (over all rows) in the background, once the
+/// text has rested; then analyse it again with that evaluation. Stops (and drops its result)
+/// when the text is superseded or the document closed; one run per document at a time.
+fn start_exact_evaluation(
+    state: Arc<ServerState>,
+    uri: lsp::Url,
+    generation: u64,
+    parsed: Arc<crate::analysis::ParsedDocument>,
+) {
+    let resolve = {
+        let mut documents = lock(&state.documents);
+        let Some(record) = documents.get_mut(&uri) else {
+            return;
+        };
+        let done = record
+            .evaluation
+            .as_ref()
+            .is_some_and(|(done, evaluation)| *done == generation && !evaluation.is_sample);
+        if done
+            || record.exact_evaluation_running.is_some()
+            || record.document.generation != generation
+        {
+            return;
+        }
+        record.exact_evaluation_running = Some(generation);
+        Backend::snapshot_of(&state, &uri, record).resolve
+    };
+    tokio::spawn(async move {
+        tokio::time::sleep(EXACT_EVALUATION_AFTER).await;
+        let still_current: crate::lsp::evaluate::StillCurrent = {
+            let state = state.clone();
+            let uri = uri.clone();
+            Arc::new(move || {
+                lock(&state.documents)
+                    .get(&uri)
+                    .is_some_and(|record| record.document.generation == generation)
+            })
+        };
+        let evaluation = if still_current() {
+            let task = tokio::task::spawn_blocking(move || {
+                crate::lsp::evaluate::evaluate_exactly(&parsed.spec, &resolve, still_current)
+            });
+            match task.await {
+                Ok(evaluation) => evaluation,
+                Err(join_error) => {
+                    log::error(&format!("the evaluation of {uri} failed: {join_error}"));
+                    None
+                }
+            }
+        } else {
+            None
+        };
+        // `Some(None)`: stored, analyse again with it; `Some(Some(current))`: superseded, and the
+        // current text was analysed already (and found this run busy), so its exact evaluation
+        // starts from here; `None`: nothing to do
+        let next = {
+            let mut documents = lock(&state.documents);
+            let Some(record) = documents.get_mut(&uri) else {
+                return;
+            };
+            if record.exact_evaluation_running == Some(generation) {
+                record.exact_evaluation_running = None;
+            }
+            match evaluation {
+                Some(evaluation) if record.document.generation == generation => {
+                    record.evaluation = Some((generation, Arc::new(evaluation)));
+                    Some(None)
+                }
+                _ => record
+                    .document
+                    .current_analysis()
+                    .filter(|current| {
+                        current
+                            .evaluation
+                            .as_ref()
+                            .is_some_and(|evaluation| evaluation.is_sample)
+                    })
+                    .map(Some),
+            }
+        };
+        match next {
+            Some(None) => Backend {
+                state: state.clone(),
+            }
+            .schedule_analysis(uri),
+            Some(Some(current)) => {
+                start_exact_evaluation(state, uri, current.generation, current.parsed.clone())
+            }
+            None => {}
+        }
+    });
 }
 
 /// Compute the full profile of `path` in the background (off the async workers), with
@@ -793,7 +981,10 @@ async fn end_progress(state: &ServerState, token: lsp::NumberOrString) {
         .await;
 }
 
-fn server_capabilities(encoding: PositionEncoding) -> lsp::ServerCapabilities {
+fn server_capabilities(
+    encoding: PositionEncoding,
+    pull_diagnostics: bool,
+) -> lsp::ServerCapabilities {
     lsp::ServerCapabilities {
         position_encoding: Some(lsp::PositionEncodingKind::new(encoding.as_lsp_str())),
         text_document_sync: Some(lsp::TextDocumentSyncCapability::Options(
@@ -824,6 +1015,43 @@ fn server_capabilities(encoding: PositionEncoding) -> lsp::ServerCapabilities {
         color_provider: Some(lsp::ColorProviderCapability::Simple(true)),
         inlay_hint_provider: Some(lsp::OneOf::Left(true)),
         definition_provider: Some(lsp::OneOf::Left(true)),
+        document_formatting_provider: Some(lsp::OneOf::Left(true)),
+        references_provider: Some(lsp::OneOf::Left(true)),
+        rename_provider: Some(lsp::OneOf::Right(lsp::RenameOptions {
+            prepare_provider: Some(true),
+            work_done_progress_options: lsp::WorkDoneProgressOptions::default(),
+        })),
+        workspace_symbol_provider: Some(lsp::OneOf::Left(true)),
+        execute_command_provider: Some(lsp::ExecuteCommandOptions {
+            commands: vec![CHECK_WORKSPACE_COMMAND.to_string()],
+            work_done_progress_options: lsp::WorkDoneProgressOptions::default(),
+        }),
+        document_range_formatting_provider: Some(lsp::OneOf::Left(true)),
+        folding_range_provider: Some(lsp::FoldingRangeProviderCapability::Simple(true)),
+        selection_range_provider: Some(lsp::SelectionRangeProviderCapability::Simple(true)),
+        document_link_provider: Some(lsp::DocumentLinkOptions {
+            resolve_provider: Some(false),
+            work_done_progress_options: lsp::WorkDoneProgressOptions::default(),
+        }),
+        semantic_tokens_provider: Some(
+            lsp::SemanticTokensServerCapabilities::SemanticTokensOptions(
+                lsp::SemanticTokensOptions {
+                    work_done_progress_options: lsp::WorkDoneProgressOptions::default(),
+                    legend: convert::semantic_tokens_legend(),
+                    range: None,
+                    full: Some(lsp::SemanticTokensFullOptions::Bool(true)),
+                },
+            ),
+        ),
+        // pull diagnostics only for clients that ask for them; the others get them pushed
+        diagnostic_provider: pull_diagnostics.then(|| {
+            lsp::DiagnosticServerCapabilities::Options(lsp::DiagnosticOptions {
+                identifier: Some("markwell".to_string()),
+                inter_file_dependencies: true,
+                workspace_diagnostics: false,
+                work_done_progress_options: lsp::WorkDoneProgressOptions::default(),
+            })
+        }),
         ..lsp::ServerCapabilities::default()
     }
 }
@@ -878,6 +1106,15 @@ impl LanguageServer for Backend {
                 .and_then(|workspace| workspace.inlay_hint.as_ref())
                 .and_then(|inlay| inlay.refresh_support)
                 .unwrap_or(false);
+            session.pull_diagnostics = capabilities
+                .text_document
+                .as_ref()
+                .and_then(|text_document| text_document.diagnostic.as_ref())
+                .is_some();
+            session.supports_diagnostic_refresh = workspace
+                .and_then(|workspace| workspace.diagnostic.as_ref())
+                .and_then(|diagnostic| diagnostic.refresh_support)
+                .unwrap_or(false);
             session.supports_watched_files_registration = workspace
                 .and_then(|workspace| workspace.did_change_watched_files.as_ref())
                 .and_then(|watched| watched.dynamic_registration)
@@ -896,7 +1133,7 @@ impl LanguageServer for Backend {
                 session.workspace_root
             ));
             lsp::InitializeResult {
-                capabilities: server_capabilities(encoding),
+                capabilities: server_capabilities(encoding, session.pull_diagnostics),
                 server_info: Some(lsp::ServerInfo {
                     name: "markwell".to_string(),
                     version: Some(env!("CARGO_PKG_VERSION").to_string()),
@@ -908,6 +1145,7 @@ impl LanguageServer for Backend {
     async fn initialized(&self, _: lsp::InitializedParams) {
         self.register_watched_files().await;
         self.refresh_configuration().await;
+        self.scan_workspace().await;
     }
 
     async fn shutdown(&self) -> jsonrpc::Result<()> {
@@ -921,14 +1159,19 @@ impl LanguageServer for Backend {
         let opened = guarded("textDocument/didOpen", || {
             let record = DocumentRecord {
                 document: OpenDocument::new(&item.text, item.version, item.language_id.clone()),
+                data_document: is_data_document(&item.uri),
                 analysis_loop: None,
                 rerun_requested: false,
                 published: None,
                 data_paths: Vec::new(),
+                evaluation: None,
+                exact_evaluation_running: None,
             };
             lock(&self.state.documents).insert(item.uri.clone(), record);
         });
         if opened.is_ok() {
+            // the open document's own analysis publishes for it from now on
+            lock(&self.state.closed_published).remove(&item.uri);
             self.schedule_analysis(item.uri);
         }
     }
@@ -996,12 +1239,76 @@ impl LanguageServer for Backend {
         for path in &changed {
             self.state.cache.invalidate(path);
         }
+        // what was drawn from the changed files is drawn again
+        for record in lock(&self.state.documents).values_mut() {
+            if record
+                .data_paths
+                .iter()
+                .any(|read| changed.iter().any(|path| same_file(read, path)))
+            {
+                record.evaluation = None;
+            }
+        }
+        // spec files that changed on disk: the index reads them again (or forgets them)
+        let specs_changed: Vec<(PathBuf, bool)> = params
+            .changes
+            .iter()
+            .filter_map(|event| {
+                let path = uri_to_path(&event.uri)?;
+                let is_spec = path.file_name().is_some_and(|name| {
+                    name.to_string_lossy()
+                        .ends_with(crate::fsguard::SPEC_SUFFIX)
+                });
+                is_spec.then_some((path, event.typ == lsp::FileChangeType::DELETED))
+            })
+            .collect();
+        if !specs_changed.is_empty() {
+            workspace_ready(&self.state).await;
+            let state = self.state.clone();
+            let _ = tokio::task::spawn_blocking(move || {
+                let mut index = lock(&state.workspace);
+                for (path, deleted) in specs_changed {
+                    if deleted {
+                        index.remove(&path);
+                    } else {
+                        index.refresh(&path);
+                    }
+                }
+            })
+            .await;
+        }
+        // closed specs that depend on what changed are checked and published too
+        {
+            let canonical: Vec<PathBuf> = changed
+                .iter()
+                .map(|path| path.canonicalize().unwrap_or_else(|_| path.clone()))
+                .collect();
+            let config_changed = changed.iter().any(|path| {
+                path.file_name()
+                    .is_some_and(|name| name == CONFIG_FILE_NAME)
+            });
+            let state = self.state.clone();
+            tokio::spawn(async move {
+                check_closed_specs(state, move |spec| {
+                    config_changed
+                        || spec
+                            .data_files
+                            .iter()
+                            .any(|file| canonical.iter().any(|changed| changed == file))
+                })
+                .await;
+            });
+        }
         let config_changed = changed.iter().any(|path| {
             path.file_name()
                 .is_some_and(|name| name == CONFIG_FILE_NAME)
         });
         if config_changed {
             let _ = guarded("workspace/didChangeWatchedFiles", || {
+                // the workspace rules may have changed which files can be read
+                for record in lock(&self.state.documents).values_mut() {
+                    record.evaluation = None;
+                }
                 {
                     let mut session = lock(&self.state.session);
                     let project = load_project_config(session.workspace_root.as_deref());
@@ -1030,6 +1337,9 @@ impl LanguageServer for Backend {
     async fn hover(&self, params: lsp::HoverParams) -> jsonrpc::Result<Option<lsp::Hover>> {
         let uri = params.text_document_position_params.text_document.uri;
         let position = params.text_document_position_params.position;
+        if self.is_open_data_document(&uri) {
+            return Ok(self.data_header_hover(&uri, position).await);
+        }
         let Some(outcome) = self.current_outcome(&uri).await else {
             return Ok(None);
         };
@@ -1236,7 +1546,842 @@ impl LanguageServer for Backend {
             .flatten();
         Ok(location.map(lsp::GotoDefinitionResponse::Scalar))
     }
+
+    async fn formatting(
+        &self,
+        params: lsp::DocumentFormattingParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::TextEdit>>> {
+        self.format_edits(&params.text_document.uri, None).await
+    }
+
+    async fn range_formatting(
+        &self,
+        params: lsp::DocumentRangeFormattingParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::TextEdit>>> {
+        self.format_edits(&params.text_document.uri, Some(params.range))
+            .await
+    }
+
+    async fn folding_range(
+        &self,
+        params: lsp::FoldingRangeParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::FoldingRange>>> {
+        let Some(outcome) = self.current_outcome(&params.text_document.uri).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        guarded("textDocument/foldingRange", || {
+            let ranges = structure::folding_ranges(&outcome.parsed.tree);
+            Some(convert::to_folding_ranges(
+                &outcome.index,
+                &ranges,
+                encoding,
+            ))
+        })
+    }
+
+    async fn selection_range(
+        &self,
+        params: lsp::SelectionRangeParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::SelectionRange>>> {
+        let Some(outcome) = self.current_outcome(&params.text_document.uri).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        guarded("textDocument/selectionRange", || {
+            let offsets: Vec<usize> = params
+                .positions
+                .iter()
+                .map(|position| {
+                    outcome
+                        .index
+                        .offset_of_position(from_lsp_position(*position), encoding)
+                })
+                .collect();
+            let chains = structure::selection_ranges(&outcome.parsed.tree, &offsets);
+            chains
+                .iter()
+                .map(|chain| convert::to_selection_range(&outcome.index, chain, encoding))
+                .collect::<Option<Vec<_>>>()
+        })
+    }
+
+    async fn document_link(
+        &self,
+        params: lsp::DocumentLinkParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::DocumentLink>>> {
+        let uri = params.text_document.uri;
+        let Some(outcome) = self.current_outcome(&uri).await else {
+            return Ok(None);
+        };
+        let resolve = {
+            let documents = lock(&self.state.documents);
+            let Some(record) = documents.get(&uri) else {
+                return Ok(None);
+            };
+            Self::snapshot_of(&self.state, &uri, record).resolve
+        };
+        let encoding = self.encoding();
+        // resolving paths touches the file system: off the async workers
+        let links = tokio::task::spawn_blocking(move || {
+            catch_unwind(AssertUnwindSafe(|| {
+                let links =
+                    structure::document_links(&outcome.parsed.tree, &outcome.parsed.spec, &resolve);
+                convert::to_document_links(&outcome.index, &links, encoding)
+            }))
+            .ok()
+        })
+        .await
+        .ok()
+        .flatten();
+        Ok(links)
+    }
+
+    async fn semantic_tokens_full(
+        &self,
+        params: lsp::SemanticTokensParams,
+    ) -> jsonrpc::Result<Option<lsp::SemanticTokensResult>> {
+        let Some(outcome) = self.current_outcome(&params.text_document.uri).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        guarded("textDocument/semanticTokens/full", || {
+            let tokens = structure::semantic_tokens(&outcome.parsed.spec);
+            Some(lsp::SemanticTokensResult::Tokens(lsp::SemanticTokens {
+                result_id: None,
+                data: convert::to_semantic_tokens(&outcome.index, &tokens, encoding),
+            }))
+        })
+    }
+
+    async fn diagnostic(
+        &self,
+        params: lsp::DocumentDiagnosticParams,
+    ) -> jsonrpc::Result<lsp::DocumentDiagnosticReportResult> {
+        let uri = params.text_document.uri;
+        let encoding = self.encoding();
+        // the analysis loop reads the data; answer with its result for the current text once it
+        // is there (a fresh analysis without the data would report what the data would refute)
+        let deadline = tokio::time::Instant::now() + PULL_WAIT;
+        loop {
+            let ready = {
+                let documents = lock(&self.state.documents);
+                documents
+                    .get(&uri)
+                    .is_none_or(|record| record.document.current_analysis().is_some())
+            };
+            if ready || tokio::time::Instant::now() >= deadline {
+                break;
+            }
+            tokio::time::sleep(Duration::from_millis(5)).await;
+        }
+        let report = match self.current_outcome(&uri).await {
+            Some(outcome) => {
+                let items = guarded("textDocument/diagnostic", || {
+                    published_diagnostics(&outcome, &uri, encoding)
+                })?;
+                // the id names the answer itself: data or settings can change it without a new text
+                let result_id = {
+                    use std::hash::{Hash, Hasher};
+                    let mut hasher = std::collections::hash_map::DefaultHasher::new();
+                    serde_json::to_string(&items)
+                        .unwrap_or_default()
+                        .hash(&mut hasher);
+                    format!("{:016x}", hasher.finish())
+                };
+                if params.previous_result_id.as_deref() == Some(result_id.as_str()) {
+                    lsp::DocumentDiagnosticReport::Unchanged(
+                        lsp::RelatedUnchangedDocumentDiagnosticReport {
+                            related_documents: None,
+                            unchanged_document_diagnostic_report:
+                                lsp::UnchangedDocumentDiagnosticReport { result_id },
+                        },
+                    )
+                } else {
+                    lsp::DocumentDiagnosticReport::Full(lsp::RelatedFullDocumentDiagnosticReport {
+                        related_documents: None,
+                        full_document_diagnostic_report: lsp::FullDocumentDiagnosticReport {
+                            result_id: Some(result_id),
+                            items,
+                        },
+                    })
+                }
+            }
+            // not open (or not a spec): nothing to report
+            None => lsp::DocumentDiagnosticReport::Full(lsp::RelatedFullDocumentDiagnosticReport {
+                related_documents: None,
+                full_document_diagnostic_report: lsp::FullDocumentDiagnosticReport {
+                    result_id: None,
+                    items: Vec::new(),
+                },
+            }),
+        };
+        Ok(lsp::DocumentDiagnosticReportResult::Report(report))
+    }
+
+    async fn references(
+        &self,
+        params: lsp::ReferenceParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::Location>>> {
+        let uri = params.text_document_position.text_document.uri;
+        let position = params.text_document_position.position;
+        let Some(target) = self.column_at(&uri, position).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        let places = self.column_places(&target).await;
+        let mut locations = Vec::new();
+        if params.context.include_declaration {
+            if let Some((header_uri, index, range)) = &places.header {
+                locations.push(lsp::Location::new(
+                    header_uri.clone(),
+                    to_lsp_range(index, *range, encoding),
+                ));
+            }
+        }
+        for (spec_uri, index, ranges) in &places.specs {
+            for range in ranges {
+                locations.push(lsp::Location::new(
+                    spec_uri.clone(),
+                    to_lsp_range(index, *range, encoding),
+                ));
+            }
+        }
+        Ok(Some(locations))
+    }
+
+    async fn prepare_rename(
+        &self,
+        params: lsp::TextDocumentPositionParams,
+    ) -> jsonrpc::Result<Option<lsp::PrepareRenameResponse>> {
+        let Some(target) = self
+            .column_at(&params.text_document.uri, params.position)
+            .await
+        else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        Ok(Some(lsp::PrepareRenameResponse::RangeWithPlaceholder {
+            range: to_lsp_range(&target.origin_index, target.origin_range, encoding),
+            placeholder: target.column.clone(),
+        }))
+    }
+
+    async fn rename(
+        &self,
+        params: lsp::RenameParams,
+    ) -> jsonrpc::Result<Option<lsp::WorkspaceEdit>> {
+        let uri = params.text_document_position.text_document.uri;
+        let position = params.text_document_position.position;
+        let new_name = params.new_name;
+        if new_name.is_empty() || new_name.contains(['\n', '\r']) {
+            return Err(jsonrpc::Error::invalid_params(
+                "a column name must not be empty or hold a line break",
+            ));
+        }
+        let Some(target) = self.column_at(&uri, position).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        let places = self.column_places(&target).await;
+        let mut changes: HashMap<lsp::Url, Vec<lsp::TextEdit>> = HashMap::new();
+        let new_text = workspace::json_string(&new_name);
+        for (spec_uri, index, ranges) in &places.specs {
+            let edits = ranges
+                .iter()
+                .map(|range| lsp::TextEdit {
+                    range: to_lsp_range(index, *range, encoding),
+                    new_text: new_text.clone(),
+                })
+                .collect();
+            changes.insert(spec_uri.clone(), edits);
+        }
+        // the data file is the user's: its header changes only when the rename starts there
+        if target.from_header {
+            if let Some((header_uri, index, range)) = &places.header {
+                let delimiter = uri_to_path(header_uri)
+                    .as_deref()
+                    .and_then(workspace::delimiter_of)
+                    .unwrap_or(b',');
+                changes
+                    .entry(header_uri.clone())
+                    .or_default()
+                    .push(lsp::TextEdit {
+                        range: to_lsp_range(index, *range, encoding),
+                        new_text: workspace::header_cell_text(&new_name, delimiter),
+                    });
+            }
+        }
+        Ok(Some(lsp::WorkspaceEdit {
+            changes: Some(changes),
+            ..lsp::WorkspaceEdit::default()
+        }))
+    }
+
+    async fn symbol(
+        &self,
+        params: lsp::WorkspaceSymbolParams,
+    ) -> jsonrpc::Result<Option<Vec<lsp::SymbolInformation>>> {
+        let query = params.query.to_lowercase();
+        workspace_ready(&self.state).await;
+        let specs: Vec<workspace::IndexedSpec> = lock(&self.state.workspace)
+            .specs
+            .values()
+            .cloned()
+            .collect();
+        let encoding = self.encoding();
+        let symbols = tokio::task::spawn_blocking(move || {
+            let mut symbols = Vec::new();
+            for spec in specs {
+                let Some(uri) = convert::file_uri(&spec.path) else {
+                    continue;
+                };
+                let parsed = parse_document(&spec.text);
+                let index = LineIndex::new(&spec.text);
+                let file_name = spec
+                    .path
+                    .file_name()
+                    .map(|name| name.to_string_lossy().into_owned())
+                    .unwrap_or_default();
+                let mut named: Vec<(String, lsp::SymbolKind, TextRange)> = Vec::new();
+                let whole = TextRange::new(0, spec.text.len());
+                let title = parsed
+                    .spec
+                    .title
+                    .as_ref()
+                    .map(|title| (title.value.clone(), title.range))
+                    .unwrap_or_else(|| (file_name.clone(), whole));
+                named.push((title.0, lsp::SymbolKind::FILE, title.1));
+                for reference in features::column_references(&parsed.spec) {
+                    named.push((
+                        reference.name.to_string(),
+                        lsp::SymbolKind::FIELD,
+                        reference.range,
+                    ));
+                }
+                for (name, kind, range) in named {
+                    if !query.is_empty() && !name.to_lowercase().contains(&query) {
+                        continue;
+                    }
+                    #[allow(deprecated)] // `deprecated` is a required field of SymbolInformation
+                    symbols.push(lsp::SymbolInformation {
+                        name,
+                        kind,
+                        tags: None,
+                        deprecated: None,
+                        location: lsp::Location::new(
+                            uri.clone(),
+                            to_lsp_range(&index, range, encoding),
+                        ),
+                        container_name: Some(file_name.clone()),
+                    });
+                    if symbols.len() >= MAX_WORKSPACE_SYMBOLS {
+                        return symbols;
+                    }
+                }
+            }
+            symbols
+        })
+        .await
+        .unwrap_or_default();
+        Ok(Some(symbols))
+    }
+
+    async fn execute_command(
+        &self,
+        params: lsp::ExecuteCommandParams,
+    ) -> jsonrpc::Result<Option<Value>> {
+        if params.command != CHECK_WORKSPACE_COMMAND {
+            return Err(jsonrpc::Error::invalid_params(format!(
+                "no command `{}`; markwell has `{CHECK_WORKSPACE_COMMAND}`",
+                params.command
+            )));
+        }
+        self.scan_workspace().await;
+        let (checked, findings) = check_closed_specs(self.state.clone(), |_| true).await;
+        Ok(Some(
+            serde_json::json!({ "checked": checked, "findings": findings }),
+        ))
+    }
 }
+
+impl Backend {
+    /// Index every spec under the workspace root (off the async workers).
+    async fn scan_workspace(&self) {
+        let (root, allow_outside) = {
+            let session = lock(&self.state.session);
+            (
+                session.workspace_root.clone(),
+                session.allow_outside_workspace,
+            )
+        };
+        let Some(root) = root else {
+            self.state.workspace_scanned.store(true, Ordering::SeqCst);
+            return;
+        };
+        let scanned = tokio::task::spawn_blocking(move || {
+            catch_unwind(AssertUnwindSafe(|| {
+                WorkspaceIndex::scan(&root, allow_outside)
+            }))
+            .ok()
+        })
+        .await
+        .ok()
+        .flatten();
+        if let Some(index) = scanned {
+            log::info(&format!(
+                "workspace: {} specs indexed{}",
+                index.specs.len(),
+                if index.left_out > 0 {
+                    format!(
+                        ", {} left out (at most {})",
+                        index.left_out,
+                        workspace::MAX_INDEXED_SPECS
+                    )
+                } else {
+                    String::new()
+                }
+            ));
+            *lock(&self.state.workspace) = index;
+        }
+        self.state.workspace_scanned.store(true, Ordering::SeqCst);
+    }
+
+    fn is_open_data_document(&self, uri: &lsp::Url) -> bool {
+        lock(&self.state.documents)
+            .get(uri)
+            .is_some_and(|record| record.data_document)
+    }
+
+    /// The column under the cursor: a column reference in a spec, or a header cell of a data file.
+    async fn column_at(&self, uri: &lsp::Url, position: lsp::Position) -> Option<ColumnTarget> {
+        let encoding = self.encoding();
+        if self.is_open_data_document(uri) {
+            let index = lock(&self.state.documents).get(uri)?.document.index();
+            let path = uri_to_path(uri)?;
+            let delimiter = workspace::delimiter_of(&path)?;
+            let offset = index.offset_of_position(from_lsp_position(position), encoding);
+            let cell = workspace::header_cells(index.text(), delimiter)
+                .into_iter()
+                .find(|cell| cell.range.contains_inclusive(offset))?;
+            return Some(ColumnTarget {
+                data_file: path.canonicalize().ok()?,
+                column: cell.name,
+                from_header: true,
+                origin_index: index,
+                origin_range: cell.range,
+            });
+        }
+        let outcome = self.current_outcome(uri).await?;
+        let offset = outcome
+            .index
+            .offset_of_position(from_lsp_position(position), encoding);
+        let references = features::column_references(&outcome.parsed.spec);
+        let reference = references
+            .iter()
+            .find(|reference| reference.range.contains_inclusive(offset))?;
+        let source = reference.source?;
+        let data_file = match outcome.data.for_source(source)? {
+            Ok(profile) => profile.path.clone()?,
+            Err(error) => error.path.clone()?,
+        };
+        Some(ColumnTarget {
+            data_file,
+            column: reference.name.to_string(),
+            from_header: false,
+            origin_index: outcome.index.clone(),
+            origin_range: reference.range,
+        })
+    }
+
+    /// Where `target`'s column is named: in every spec of the workspace that reads its data file
+    /// (open documents with their current text, the others from disk) and in the file's header.
+    async fn column_places(&self, target: &ColumnTarget) -> ColumnPlaces {
+        workspace_ready(&self.state).await;
+        let (root, allow_outside) = {
+            let session = lock(&self.state.session);
+            (
+                session.workspace_root.clone(),
+                session.allow_outside_workspace,
+            )
+        };
+        let mut texts: HashMap<PathBuf, (lsp::Url, Arc<LineIndex>)> = HashMap::new();
+        let mut data_text: Option<(lsp::Url, Arc<LineIndex>)> = None;
+        for (uri, record) in lock(&self.state.documents).iter() {
+            let Some(path) = uri_to_path(uri).and_then(|path| path.canonicalize().ok()) else {
+                continue;
+            };
+            if record.data_document {
+                if path == target.data_file {
+                    data_text = Some((uri.clone(), record.document.index()));
+                }
+            } else {
+                texts.insert(path, (uri.clone(), record.document.index()));
+            }
+        }
+        for spec in lock(&self.state.workspace).specs.values() {
+            if texts.contains_key(&spec.path) {
+                continue;
+            }
+            if let Some(uri) = convert::file_uri(&spec.path) {
+                texts.insert(
+                    spec.path.clone(),
+                    (uri, Arc::new(LineIndex::from_shared(spec.text.clone()))),
+                );
+            }
+        }
+        let target = target.clone();
+        tokio::task::spawn_blocking(move || {
+            let mut specs = Vec::new();
+            let mut paths: Vec<&PathBuf> = texts.keys().collect();
+            paths.sort();
+            for path in paths {
+                let Some((uri, index)) = texts.get(path) else {
+                    continue;
+                };
+                let parsed = parse_document(index.text());
+                let resolve = workspace::resolve_options(path, root.as_deref(), allow_outside);
+                let ranges = workspace::column_ranges(
+                    &parsed.spec,
+                    &resolve,
+                    &target.data_file,
+                    &target.column,
+                );
+                if !ranges.is_empty() {
+                    specs.push((uri.clone(), index.clone(), ranges));
+                }
+            }
+            let header = header_place(&target, data_text);
+            ColumnPlaces { specs, header }
+        })
+        .await
+        .unwrap_or_default()
+    }
+
+    /// Hover on a header cell of an open data file: the column's profile and the specs that use it.
+    async fn data_header_hover(
+        &self,
+        uri: &lsp::Url,
+        position: lsp::Position,
+    ) -> Option<lsp::Hover> {
+        let target = self.column_at(uri, position).await?;
+        let encoding = self.encoding();
+        let places = self.column_places(&target).await;
+        let cache = self.state.cache.clone();
+        let data_file = target.data_file.clone();
+        let profile = tokio::task::spawn_blocking(move || {
+            cache
+                .full_profile(&data_file, &ReadOptions::default(), &|_| true)
+                .ok()
+        })
+        .await
+        .ok()
+        .flatten();
+        let mut markdown = match profile
+            .as_ref()
+            .and_then(|profile| profile.column(&target.column))
+        {
+            Some(column) => features::column_markdown(column, Some(&target.data_file), None),
+            None => format!(
+                "**column `{}`**: no profile (the file could not be read)",
+                target.column
+            ),
+        };
+        markdown.push_str("\n\n");
+        if places.specs.is_empty() {
+            markdown.push_str("no spec in the workspace uses it");
+        } else {
+            markdown.push_str("used by:\n");
+            for (spec_uri, _, ranges) in &places.specs {
+                let name = uri_to_path(spec_uri)
+                    .and_then(|path| {
+                        path.file_name()
+                            .map(|name| name.to_string_lossy().into_owned())
+                    })
+                    .unwrap_or_else(|| spec_uri.to_string());
+                markdown.push_str(&format!("- `{name}` ({} places)\n", ranges.len()));
+            }
+        }
+        Some(lsp::Hover {
+            contents: lsp::HoverContents::Markup(lsp::MarkupContent {
+                kind: lsp::MarkupKind::Markdown,
+                value: markdown,
+            }),
+            range: Some(to_lsp_range(
+                &target.origin_index,
+                target.origin_range,
+                encoding,
+            )),
+        })
+    }
+
+    /// Formatting edits for the current text of `uri` (whitespace only; nothing when the text
+    /// has syntax errors, so a half-typed document is never touched).
+    async fn format_edits(
+        &self,
+        uri: &lsp::Url,
+        range: Option<lsp::Range>,
+    ) -> jsonrpc::Result<Option<Vec<lsp::TextEdit>>> {
+        let Some(outcome) = self.current_outcome(uri).await else {
+            return Ok(None);
+        };
+        let encoding = self.encoding();
+        guarded("textDocument/formatting", || {
+            let byte_range =
+                range.map(|range| convert::from_lsp_range(&outcome.index, range, encoding));
+            match crate::syntax::format::format_edits(
+                &outcome.parsed.tree,
+                &crate::syntax::format::FormatOptions::default(),
+                byte_range,
+            ) {
+                Ok(edits) => Some(convert::to_text_edits(&outcome.index, &edits, encoding)),
+                Err(refusal) => {
+                    log::info(&format!("formatting {uri}: {}", refusal.message()));
+                    None
+                }
+            }
+        })
+    }
+}
+
+/// A column picked in a spec or in a data file's header.
+#[derive(Clone, Debug)]
+struct ColumnTarget {
+    /// Canonical path of the data file.
+    data_file: PathBuf,
+    column: String,
+    /// Picked on the header cell of the data file (rename then edits the header too).
+    from_header: bool,
+    /// Where it was picked, for `prepareRename`.
+    origin_index: Arc<LineIndex>,
+    origin_range: TextRange,
+}
+
+/// The places that name a column: per spec (uri, its text's index, the string ranges), and
+/// the header cell of the data file.
+#[derive(Default)]
+struct ColumnPlaces {
+    specs: Vec<(lsp::Url, Arc<LineIndex>, Vec<TextRange>)>,
+    header: Option<(lsp::Url, Arc<LineIndex>, TextRange)>,
+}
+
+/// At most this many workspace symbols are answered.
+const MAX_WORKSPACE_SYMBOLS: usize = 1000;
+
+/// The header cell that names `target`'s column: in the open data document, or in the head of
+/// the file on disk (read bounded, inside the workspace already: the path came from a resolve).
+fn header_place(
+    target: &ColumnTarget,
+    open: Option<(lsp::Url, Arc<LineIndex>)>,
+) -> Option<(lsp::Url, Arc<LineIndex>, TextRange)> {
+    let delimiter = workspace::delimiter_of(&target.data_file)?;
+    let (uri, index) = match open {
+        Some(open) => open,
+        None => {
+            use std::io::Read;
+            let (file, _) = crate::fsguard::open_regular(&target.data_file).ok()?;
+            let mut head = Vec::new();
+            file.take(1 << 20).read_to_end(&mut head).ok()?;
+            let text = String::from_utf8_lossy(&head).into_owned();
+            (
+                convert::file_uri(&target.data_file)?,
+                Arc::new(LineIndex::new(&text)),
+            )
+        }
+    };
+    let cell = workspace::header_cells(index.text(), delimiter)
+        .into_iter()
+        .find(|cell| cell.name == target.column)?;
+    Some((uri, index, cell.range))
+}
+
+/// Data files open as documents get data diagnostics, not spec analysis (by the file name: a
+/// `*.chart.json` is a spec; other `.json` files and delimited text are data).
+fn is_data_document(uri: &lsp::Url) -> bool {
+    let path = uri.path().to_ascii_lowercase();
+    if path.ends_with(".chart.json") {
+        return false;
+    }
+    [".csv", ".tsv", ".ndjson", ".jsonl", ".json"]
+        .iter()
+        .any(|extension| path.ends_with(extension))
+}
+
+/// The problems of an open data file (ragged rows, bad lines), from its profile on disk, as
+/// diagnostics on the lines of the open text.
+async fn check_data_document(state: Arc<ServerState>, uri: lsp::Url) {
+    let Some(path) = uri_to_path(&uri) else {
+        return;
+    };
+    let (index, version, root) = {
+        let documents = lock(&state.documents);
+        let Some(record) = documents.get(&uri) else {
+            return;
+        };
+        (
+            record.document.index(),
+            record.document.version,
+            lock(&state.session).workspace_root.clone(),
+        )
+    };
+    let cache = state.cache.clone();
+    let encoding = lock(&state.session).encoding;
+    let diagnostics = tokio::task::spawn_blocking(move || {
+        catch_unwind(AssertUnwindSafe(|| {
+            // inside the workspace only, like every other read
+            if let Some(root) = root {
+                crate::fsguard::Containment::new(&root, false)
+                    .resolve(&path)
+                    .ok()?;
+            }
+            let profile = cache
+                .full_profile(&path, &ReadOptions::default(), &|_| true)
+                .ok()?;
+            let mut out = Vec::new();
+            for problem in profile.problems.iter().take(MAX_PUBLISHED_DIAGNOSTICS) {
+                let line = problem.line.unwrap_or(0);
+                let range = index
+                    .line_content_range(line)
+                    .unwrap_or_else(|| TextRange::new(0, 0));
+                out.push(lsp::Diagnostic {
+                    range: to_lsp_range(&index, range, encoding),
+                    severity: Some(lsp::DiagnosticSeverity::WARNING),
+                    code: Some(lsp::NumberOrString::String(
+                        crate::analysis::rules::malformed_data::ID.to_string(),
+                    )),
+                    source: Some(convert::DIAGNOSTIC_SOURCE.to_string()),
+                    message: problem.message.clone(),
+                    ..lsp::Diagnostic::default()
+                });
+            }
+            Some(out)
+        }))
+        .ok()
+        .flatten()
+    })
+    .await
+    .ok()
+    .flatten()
+    .unwrap_or_default();
+    state
+        .client
+        .publish_diagnostics(uri, diagnostics, Some(version))
+        .await;
+}
+
+/// Check a spec that is not open (from the workspace index) with the current configuration and
+/// the cached profiles, and convert its findings for publishing.
+fn check_closed_spec(
+    spec: &workspace::IndexedSpec,
+    root: Option<&Path>,
+    allow_outside: bool,
+    config: &AnalysisConfig,
+    limits: crate::data::ProfileLimits,
+    cache: &ProfileCache,
+    encoding: PositionEncoding,
+) -> Option<(lsp::Url, Vec<lsp::Diagnostic>)> {
+    let uri = convert::file_uri(&spec.path)?;
+    let parsed = parse_document(&spec.text);
+    let mut resolve = workspace::resolve_options(&spec.path, root, allow_outside);
+    resolve.limits = limits;
+    let data = cache.load_for_spec(&parsed.spec, &resolve);
+    // the sampled head, as the open documents' first pass: a workspace check reads each data file's
+    // head once per spec, not every row
+    let evaluation = crate::lsp::evaluate::evaluate_sampled(&parsed.spec, &resolve);
+    let findings = analyze_with_evaluation(&parsed, &data, config, evaluation.as_ref());
+    let index = LineIndex::new(&spec.text);
+    let diagnostics = findings
+        .iter()
+        .take(MAX_PUBLISHED_DIAGNOSTICS)
+        .map(|diagnostic| convert::to_lsp_diagnostic(diagnostic, &uri, &index, encoding))
+        .collect();
+    Some((uri, diagnostics))
+}
+
+/// Check the closed specs of the workspace that `wanted` selects and publish their findings
+/// (an empty set clears what was shown before). Returns (specs checked, findings).
+async fn check_closed_specs(
+    state: Arc<ServerState>,
+    wanted: impl Fn(&workspace::IndexedSpec) -> bool + Send + 'static,
+) -> (usize, usize) {
+    workspace_ready(&state).await;
+    let open: HashSet<PathBuf> = lock(&state.documents)
+        .keys()
+        .filter_map(uri_to_path)
+        .filter_map(|path| path.canonicalize().ok())
+        .collect();
+    let specs: Vec<workspace::IndexedSpec> = lock(&state.workspace)
+        .specs
+        .values()
+        .filter(|spec| !open.contains(&spec.path) && wanted(spec))
+        .cloned()
+        .collect();
+    let (root, allow_outside, config, encoding, limits) = {
+        let session = lock(&state.session);
+        (
+            session.workspace_root.clone(),
+            session.allow_outside_workspace,
+            session.config.clone(),
+            session.encoding,
+            session.profile_limits,
+        )
+    };
+    let cache = state.cache.clone();
+    let results = tokio::task::spawn_blocking(move || {
+        specs
+            .iter()
+            .filter_map(|spec| {
+                catch_unwind(AssertUnwindSafe(|| {
+                    check_closed_spec(
+                        spec,
+                        root.as_deref(),
+                        allow_outside,
+                        &config,
+                        limits,
+                        &cache,
+                        encoding,
+                    )
+                }))
+                .ok()
+                .flatten()
+            })
+            .collect::<Vec<_>>()
+    })
+    .await
+    .unwrap_or_default();
+    let checked = results.len();
+    let mut findings = 0;
+    for (uri, diagnostics) in results {
+        findings += diagnostics.len();
+        let shown_before = lock(&state.closed_published).contains(&uri);
+        if diagnostics.is_empty() && !shown_before {
+            continue;
+        }
+        if diagnostics.is_empty() {
+            lock(&state.closed_published).remove(&uri);
+        } else {
+            lock(&state.closed_published).insert(uri.clone());
+        }
+        state
+            .client
+            .publish_diagnostics(uri, diagnostics, None)
+            .await;
+    }
+    (checked, findings)
+}
+
+/// Wait (bounded) until the first scan of the workspace has ended: requests that need the
+/// index can arrive while `initialized` is still scanning.
+async fn workspace_ready(state: &ServerState) {
+    let deadline = tokio::time::Instant::now() + PULL_WAIT;
+    while !state.workspace_scanned.load(Ordering::SeqCst) && tokio::time::Instant::now() < deadline
+    {
+        tokio::time::sleep(Duration::from_millis(5)).await;
+    }
+}
+
+/// The command that checks every spec of the workspace that is not open.
+pub const CHECK_WORKSPACE_COMMAND: &str = "markwell.checkWorkspace";
 
 /// The LSP location of a header cell: reads the data file up to the cell to count lines.
 fn definition_location(

@@ -1,6 +1,7 @@
 //! Layer 1: an error-tolerant JSON lexer and parser producing a lossless tree with byte ranges.
 //! No IO, no LSP. Parsing never fails: it returns a tree and a list of syntax errors.
 
+pub mod format;
 mod lexer;
 mod parser;
 pub mod tree;

@@ -7,105 +7,14 @@
 //! resident memory (`VmHWM`), and runs `tests/benches/bench_profile_polars.py` on the same file for a
 //! side-by-side figure (load, then per column nulls, distinct count, min and max).
 
-use std::fs::File;
-use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 use std::process::Command;
 use std::time::Instant;
 
 use markwell::data::{ProfileCache, ReadOptions};
 
-const DEFAULT_BYTES: u64 = 1 << 30;
-
-/// SplitMix64 (Steele, Lea, Flood 2014; constants from memory): a small deterministic generator.
-struct SplitMix64(u64);
-
-impl SplitMix64 {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
-        let mut value = self.0;
-        value = (value ^ (value >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-        value = (value ^ (value >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-        value ^ (value >> 31)
-    }
-
-    fn below(&mut self, bound: u64) -> u64 {
-        self.next() % bound.max(1)
-    }
-}
-
-const PORTS: [&str; 12] = [
-    "Harwick",
-    "Lowmere",
-    "Saltby",
-    "Orrin",
-    "Kessock",
-    "Brae",
-    "Tollan",
-    "Ferrow",
-    "Dunmore",
-    "Ashpoint",
-    "Gullhaven",
-    "Pennock",
-];
-const LOADS: [&str; 3] = ["light", "medium", "heavy"];
-
-fn generate(path: &Path, target_bytes: u64) -> std::io::Result<()> {
-    let temporary = path.with_extension("partial");
-    let mut out = BufWriter::with_capacity(1 << 20, File::create(&temporary)?);
-    let header =
-        "trip_id,sailed_on,departed_at,port,vessel,load,passengers,fare_eur,sea_temp_degc,remark\n";
-    out.write_all(header.as_bytes())?;
-    let mut written = header.len() as u64;
-    let mut random = SplitMix64(20261201);
-    let mut trip: u64 = 0;
-    let mut line = String::with_capacity(256);
-    use std::fmt::Write as _;
-    while written < target_bytes {
-        line.clear();
-        trip += 1;
-        let day = random.below(3 * 365);
-        let (year, day_of_year) = (2022 + day / 365, day % 365);
-        let month = day_of_year / 31 + 1;
-        let day_of_month = day_of_year % 28 + 1;
-        let passengers = random.below(400);
-        let fare_cents = 250 + random.below(9000);
-        let temperature = random.below(260) as i64 - 20;
-        let _ = write!(
-            line,
-            "{trip},{year}-{month:02}-{day_of_month:02},{year}-{month:02}-{day_of_month:02}T{:02}:{:02}:00Z,{},V-{:04},{},",
-            random.below(24),
-            random.below(60),
-            PORTS[random.below(PORTS.len() as u64) as usize],
-            random.below(5000),
-            LOADS[random.below(3) as usize],
-        );
-        if random.below(50) == 0 {
-            line.push_str("NA");
-        } else {
-            let _ = write!(line, "{passengers}");
-        }
-        let _ = write!(line, ",{}.{:02},", fare_cents / 100, fare_cents % 100);
-        if random.below(100) == 0 {
-            line.push_str("NA");
-        } else {
-            let _ = write!(line, "{}.{}", temperature / 10, (temperature % 10).abs());
-        }
-        line.push(',');
-        match random.below(100) {
-            0 => line.push_str("\"delayed, fog\""),
-            1 => line.push_str("\"crew said \"\"calm\"\"\""),
-            2..=9 => line.push_str("on time"),
-            _ => {}
-        }
-        line.push('\n');
-        out.write_all(line.as_bytes())?;
-        written += line.len() as u64;
-    }
-    out.flush()?;
-    drop(out);
-    std::fs::rename(&temporary, path)
-}
+mod ferry_data;
+use ferry_data::bench_file;
 
 /// CPU seconds (user + system) this process has used, from /proc/self/stat (fields 14 and 15,
 /// in clock ticks of 1/100 s on Linux).
@@ -127,26 +36,6 @@ fn peak_resident_kib() -> Option<u64> {
     let status = std::fs::read_to_string("/proc/self/status").ok()?;
     let line = status.lines().find(|line| line.starts_with("VmHWM:"))?;
     line.split_whitespace().nth(1)?.parse().ok()
-}
-
-fn bench_file(target_bytes: u64) -> Option<PathBuf> {
-    let folder = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("target/bench-data");
-    std::fs::create_dir_all(&folder).ok()?;
-    let path = folder.join(format!("ferry-trips-{target_bytes}.csv"));
-    if !path.is_file() {
-        println!(
-            "generating {} ({} MiB) ...",
-            path.display(),
-            target_bytes >> 20
-        );
-        let started = Instant::now();
-        if let Err(error) = generate(&path, target_bytes) {
-            println!("could not generate the benchmark file: {error}");
-            return None;
-        }
-        println!("generated in {:.1} s", started.elapsed().as_secs_f64());
-    }
-    Some(path)
 }
 
 struct LibraryFigures {
@@ -207,7 +96,7 @@ fn main() {
     let target_bytes = std::env::var("MARKWELL_BENCH_BYTES")
         .ok()
         .and_then(|text| text.trim().parse::<u64>().ok())
-        .unwrap_or(DEFAULT_BYTES);
+        .unwrap_or(ferry_data::DEFAULT_BYTES);
     let Some(path) = bench_file(target_bytes) else {
         return;
     };

@@ -1,6 +1,7 @@
 #!/bin/sh
 # End-to-end tests of `markwell serve` through real LSP clients: pytest-lsp (client A),
-# headless Neovim 0.7 (client B) and Emacs 28 + Eglot 1.9 in batch mode (client C).
+# headless Neovim 0.7 (client B) and Emacs 28 + Eglot 1.9 in batch mode (client C), and the
+# set-ups shipped in editor-configs/ loaded unchanged (test_shipped_configs.py).
 #
 # Usage: tests/e2e/run.sh /absolute/path/to/markwell [pytest args...]
 #
@@ -38,4 +39,6 @@ for caps in ${LSP_CLIENT_CAPS_LIST:-visual-studio-code neovim@v0.7.0 neovim@v0.1
 done
 echo "== editors (neovim, emacs/eglot)"
 timeout -k 10 600 "$venv/bin/python" -m pytest test_editors.py -q -p no:cacheprovider "$@" || status=1
+echo "== shipped editor set-ups (Neovim 0.11 and 0.7, Eglot, lsp-mode; Helix, Sublime, Kate files)"
+timeout -k 10 600 "$venv/bin/python" -m pytest test_shipped_configs.py -q -p no:cacheprovider "$@" || status=1
 exit $status

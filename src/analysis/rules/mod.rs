@@ -14,7 +14,7 @@ mod levels_mismatch;
 mod log_of_nonpositive;
 mod low_contrast_mark;
 mod magnitude_of_interval;
-mod malformed_data;
+pub mod malformed_data;
 mod missing_source;
 mod negative_area;
 mod no_data_source;
@@ -24,6 +24,7 @@ mod palette_too_short;
 mod palette_too_similar;
 pub mod part_to_whole_invalid;
 mod ramp_not_monotonic;
+mod rows_share_a_mark;
 mod sparse_column;
 mod stacked_comparison;
 mod summary_on_categorical;
@@ -34,10 +35,11 @@ mod truncated_baseline;
 mod unknown_column;
 mod unordered_channel_for_order;
 
-use crate::analysis::facts::{layer_facts, LayerFacts};
+use crate::analysis::facts::{layer_facts_with_evaluation, LayerFacts};
 use crate::analysis::{AnalysisConfig, ParsedDocument};
 use crate::data::DataContext;
 use crate::diagnostic::{Diagnostic, Severity};
+use crate::eval::EvaluatedChart;
 use crate::spec::model::ChartSpec;
 
 /// Id of syntax errors (reported by the parser).
@@ -51,7 +53,9 @@ pub struct RuleContext<'a> {
     pub document: &'a ParsedDocument,
     pub data: &'a DataContext,
     pub config: &'a AnalysisConfig,
-    /// Per-layer facts (sources, profiles, effective kinds), computed once.
+    /// What the chart draws, when the front end evaluated it over the data.
+    pub evaluation: Option<&'a EvaluatedChart>,
+    /// Per-layer facts (sources, profiles, effective kinds, drawn marks), computed once.
     pub layers: Vec<LayerFacts<'a>>,
 }
 
@@ -61,11 +65,22 @@ impl<'a> RuleContext<'a> {
         data: &'a DataContext,
         config: &'a AnalysisConfig,
     ) -> RuleContext<'a> {
+        RuleContext::with_evaluation(document, data, config, None)
+    }
+
+    /// A context whose layers carry what `evaluation` says they draw.
+    pub fn with_evaluation(
+        document: &'a ParsedDocument,
+        data: &'a DataContext,
+        config: &'a AnalysisConfig,
+        evaluation: Option<&'a EvaluatedChart>,
+    ) -> RuleContext<'a> {
         RuleContext {
             document,
             data,
             config,
-            layers: layer_facts(&document.spec, data),
+            evaluation,
+            layers: layer_facts_with_evaluation(&document.spec, data, evaluation),
         }
     }
 
@@ -192,6 +207,7 @@ pub fn registry() -> &'static [Rule] {
         ordered_channel_for_categories::RULE,
         connected_unordered::RULE,
         part_to_whole_invalid::RULE,
+        rows_share_a_mark::RULE,
         magnitude_of_interval::RULE,
         log_of_nonpositive::RULE,
         negative_area::RULE,
@@ -227,13 +243,14 @@ pub fn backticked<S: AsRef<str>>(values: impl IntoIterator<Item = S>, limit: usi
         .join(", ")
 }
 
-/// Run every registered semantic rule.
+/// Run every registered semantic rule (with what the chart draws, when it was evaluated).
 pub fn run_all(
     document: &ParsedDocument,
     data: &DataContext,
     config: &AnalysisConfig,
+    evaluation: Option<&EvaluatedChart>,
 ) -> Vec<Diagnostic> {
-    let context = RuleContext::new(document, data, config);
+    let context = RuleContext::with_evaluation(document, data, config, evaluation);
     let mut diagnostics = Vec::new();
     for rule in registry() {
         if let RuleCheck::Semantic(check) = rule.check {
@@ -258,5 +275,19 @@ pub(crate) fn messages_without_data(
     let data = DataContext::default();
     let config = AnalysisConfig::default();
     let context = RuleContext::new(&document, &data, &config);
+    check(&context).into_iter().map(|d| d.message).collect()
+}
+
+/// The messages a rule's check gives for `spec` without data but with a hand-built evaluation.
+#[cfg(test)]
+pub(crate) fn messages_with_evaluation(
+    check: fn(&RuleContext<'_>) -> Vec<Diagnostic>,
+    spec: &str,
+    evaluation: &EvaluatedChart,
+) -> Vec<String> {
+    let document = crate::analysis::parse_document(spec);
+    let data = DataContext::default();
+    let config = AnalysisConfig::default();
+    let context = RuleContext::with_evaluation(&document, &data, &config, Some(evaluation));
     check(&context).into_iter().map(|d| d.message).collect()
 }

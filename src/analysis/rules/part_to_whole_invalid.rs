@@ -2,6 +2,7 @@
 //! Documentation: `part-to-whole-invalid.md`.
 
 use crate::analysis::channels::{arc_to_bar_fix, magnitude_binding, unstack_fix};
+use crate::analysis::drawn::{drawn_min, drawn_place, panel_labels, Measure};
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
 use crate::spec::model::Mark;
@@ -19,6 +20,7 @@ pub const RULE: Rule = Rule {
 };
 
 fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
+    let panels = panel_labels(context.evaluation);
     let mut diagnostics = Vec::new();
     for layer in &context.layers {
         let Some(mark) = layer.mark() else {
@@ -52,6 +54,20 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                     facts.column_name().unwrap_or("the values")
                 ),
             ))
+        } else if let Some(drawn) = drawn_min(layer, facts.binding.channel, Measure::Parts, &panels)
+        {
+            // what is drawn, after the summary: the size of each slice or segment
+            (drawn.value < 0.0).then(|| {
+                (
+                    negative_range(facts),
+                    format!(
+                        "{whole} add up to a whole, but `{}` is drawn negative, down to {}{}, which cannot be a part of it",
+                        facts.display_name(),
+                        format_number(drawn.value),
+                        drawn_place(layer, &drawn)
+                    ),
+                )
+            })
         } else if facts
             .binding
             .summary
@@ -64,7 +80,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
                 .filter(|numbers| numbers.min < 0.0)
                 .map(|numbers| {
                     (
-                        facts.binding.column.as_ref().map_or(facts.binding.value_range, |c| c.range),
+                        negative_range(facts),
                         format!(
                             "{whole} add up to a whole, but `{}` has negative values (down to {}), which cannot be a part of it",
                             facts.column_name().unwrap_or("the column"),
@@ -92,6 +108,15 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
     diagnostics
 }
 
+/// Where a negative part is reported: the column, else the whole binding.
+fn negative_range(facts: &crate::analysis::facts::BindingFacts<'_>) -> crate::TextRange {
+    facts
+        .binding
+        .column
+        .as_ref()
+        .map_or(facts.binding.value_range, |column| column.range)
+}
+
 /// A number for messages: up to 3 significant decimals, no trailing zeros.
 pub fn format_number(value: f64) -> String {
     if value.fract() == 0.0 && value.abs() < 1e15 {
@@ -110,5 +135,49 @@ fn summary_plural(summary: crate::spec::model::Summary) -> String {
         Summary::Count => "counts".to_string(),
         Summary::Distinct => "distinct counts".to_string(),
         other => format!("{}s", other.as_str()),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::analysis::drawn::testing::{channel, chart, layer, mark, text};
+    use crate::analysis::rules::messages_with_evaluation;
+    use crate::eval::{Datum, DrawnMark};
+    use crate::spec::model::{Arrange, Channel, Summary};
+
+    #[test]
+    fn a_negative_drawn_segment_is_found_and_positive_sums_pass() {
+        let spec = r#"{ "mark": "bar", "arrange": "stack",
+          "bind": { "x": "branch", "hue": "product", "y": { "column": "margin", "summary": "sum" } } }"#;
+        let stack = |second_end: f64| {
+            let segment = |product: &str, start: f64, end: f64| DrawnMark {
+                stack_start: Some(start),
+                ..mark(
+                    vec![text("Millbrook"), text(product), Datum::Number(end)],
+                    3,
+                )
+            };
+            chart(vec![layer(
+                Mark::Bar,
+                Some(Arrange::Stack),
+                vec![
+                    channel(Channel::X, "branch", None),
+                    channel(Channel::Hue, "product", None),
+                    channel(Channel::Y, "margin", Some(Summary::Sum)),
+                ],
+                vec![
+                    segment("rye", 0.0, 40.0),
+                    segment("spelt", 40.0, second_end),
+                ],
+            )])
+        };
+        // the spelt segment runs from 40 to 55: +15
+        assert!(messages_with_evaluation(check, spec, &stack(55.0)).is_empty());
+        // from 40 down to 28: a part of -12
+        assert_eq!(
+            messages_with_evaluation(check, spec, &stack(28.0)),
+            vec!["stacked bar segments add up to a whole, but `sum(margin)` is drawn negative, down to -12 (at `Millbrook, spelt`), which cannot be a part of it".to_string()]
+        );
     }
 }

@@ -35,7 +35,7 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             if facts.kind != Some(AttributeKind::Categorical) {
                 return None; // ordered values on hue are another rule's matter
             }
-            check_capacity(ID, facts, facts.binding.key_range, MAX_HUES, "hues")
+            check_capacity(ID, layer, facts, facts.binding.key_range, MAX_HUES, "hues")
         })
         .collect()
 }

@@ -27,7 +27,14 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         .iter()
         .filter_map(|layer| {
             let facts = layer.binding(Channel::Shape)?;
-            check_capacity(ID, facts, facts.binding.key_range, MAX_SHAPES, "shapes")
+            check_capacity(
+                ID,
+                layer,
+                facts,
+                facts.binding.key_range,
+                MAX_SHAPES,
+                "shapes",
+            )
         })
         .collect()
 }

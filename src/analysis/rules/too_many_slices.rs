@@ -1,7 +1,7 @@
 //! `too-many-slices`: a pie or ring with more slices than can be compared. Documentation:
 //! `too-many-slices.md`.
 
-use crate::analysis::rules::capacity::check_capacity_with;
+use crate::analysis::rules::capacity::{check_capacity_with, Counted};
 use crate::analysis::rules::{Rule, RuleCheck, RuleContext};
 use crate::diagnostic::{Diagnostic, Severity};
 use crate::spec::model::{Channel, Mark};
@@ -47,7 +47,9 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
             let channel = facts.binding.channel.as_str();
             if let Some(diagnostic) = check_capacity_with(
                 ID,
+                layer,
                 facts,
+                Counted::PerPanel,
                 mark.range,
                 MAX_SLICES,
                 |name, count| {
@@ -61,4 +63,49 @@ fn check(context: &RuleContext<'_>) -> Vec<Diagnostic> {
         }
     }
     diagnostics
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::analysis::drawn::testing::{channel, chart, layer, mark, text};
+    use crate::analysis::rules::messages_with_evaluation;
+    use crate::eval::Datum;
+    use crate::spec::model::Summary;
+
+    const PIE: &str = r#"{ "mark": "wedge",
+      "bind": { "hue": "branch", "angle": { "column": "loaves", "summary": "sum" } } }"#;
+
+    fn pie(branches: usize, panels: u32) -> crate::eval::EvaluatedChart {
+        let mut marks = Vec::new();
+        for panel in 0..panels {
+            for index in 0..branches {
+                let mut slice = mark(
+                    vec![text(&format!("branch {index}")), Datum::Number(10.0)],
+                    2,
+                );
+                slice.panel = panel;
+                marks.push(slice);
+            }
+        }
+        chart(vec![layer(
+            Mark::Wedge,
+            None,
+            vec![
+                channel(Channel::Hue, "branch", None),
+                channel(Channel::Angle, "loaves", Some(Summary::Sum)),
+            ],
+            marks,
+        )])
+    }
+
+    #[test]
+    fn the_slices_drawn_in_one_pie_are_counted() {
+        assert_eq!(
+            messages_with_evaluation(check, PIE, &pie(8, 1)),
+            vec!["`branch` on `hue` cuts the pie into one slice for each of its 8 distinct values drawn; past about 6 slices the small ones cannot be compared or labelled".to_string()]
+        );
+        // 6 slices in each of 3 pies: 6 to a pie, not 18
+        assert!(messages_with_evaluation(check, PIE, &pie(6, 3)).is_empty());
+    }
 }

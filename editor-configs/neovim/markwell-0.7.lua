@@ -1,4 +1,5 @@
--- markwell language server for Neovim (0.7 or later), no plugins needed.
+-- markwell language server for Neovim 0.7 (vim.lsp.start_client), no plugins needed. On 0.8 or
+-- later use markwell-0.8.lua or, on 0.11+, markwell-0.11.lua.
 -- Put this file in your config (e.g. ~/.config/nvim/lua/markwell.lua) and `require('markwell')`,
 -- or paste it into init.lua. It gives `*.chart.json` files the filetype `chartspec` and starts
 -- `markwell serve` for them, rooted at the nearest folder holding markwell.toml or .git.
@@ -41,5 +42,3 @@ vim.api.nvim_create_autocmd('FileType', {
     if client_id then vim.lsp.buf_attach_client(args.buf, client_id) end
   end,
 })
--- On Neovim 0.8+ `vim.lsp.start{ name = 'markwell', cmd = {'markwell','serve'}, root_dir = ... }`
--- inside the FileType callback does the same in one call.
