@@ -137,3 +137,73 @@ fn diverging_ramp_is_light_in_the_middle_and_monotonic_on_each_side() {
     // The two arms differ in hue: the ends are far apart under every vision.
     assert!(worst_difference(&[colours[0], colours[64]]) > 15.0);
 }
+
+#[test]
+fn the_default_palettes_are_pinned() {
+    // the colours the search chose for N = 1..12 on the default background before its speed-up
+    // (this project's own output, pinned so that faster code is held to the same answer)
+    let expected: [(usize, &[&str]); 12] = [
+        (1, &["#73008A"]),
+        (2, &["#73008A", "#17A100"]),
+        (3, &["#4500CF", "#00A18A", "#732E00"]),
+        (4, &["#004573", "#732E00", "#45A173", "#B873E6"]),
+        (5, &["#004573", "#00A18A", "#FD4500", "#B85CFD", "#732E2E"]),
+        (
+            6,
+            &[
+                "#005C5C", "#5C00CF", "#E65C00", "#A173FD", "#8A1700", "#00A18A",
+            ],
+        ),
+        (
+            7,
+            &[
+                "#732E73", "#0000FD", "#45735C", "#A173FD", "#454500", "#00A1A1", "#B88A00",
+            ],
+        ),
+        (
+            8,
+            &[
+                "#5C2E8A", "#732E45", "#0000FD", "#A173FD", "#A10017", "#5C8A5C", "#FD1700",
+                "#B85C8A",
+            ],
+        ),
+        (
+            9,
+            &[
+                "#5C2E8A", "#0000FD", "#732E45", "#8A5C73", "#A10017", "#5C8A5C", "#FD1700",
+                "#CF73A1", "#8A73FD",
+            ],
+        ),
+        (
+            10,
+            &[
+                "#5C2E8A", "#0000FD", "#732E45", "#CF7373", "#5C7317", "#454500", "#5CA100",
+                "#177373", "#5C8AFD", "#A173A1",
+            ],
+        ),
+        (
+            11,
+            &[
+                "#5C2E73", "#732E45", "#B82E45", "#FD4573", "#454517", "#8A8AB8", "#B88A00",
+                "#2EA18A", "#455CFD", "#8A5C8A", "#0000E6",
+            ],
+        ),
+        (
+            12,
+            &[
+                "#5C2E8A", "#B82E5C", "#CF7373", "#5C7300", "#8A8ACF", "#454500", "#5CA100",
+                "#0000E6", "#A12EFD", "#A1738A", "#735C8A", "#005C45",
+            ],
+        ),
+    ];
+    for (count, colours) in expected {
+        let palette =
+            categorical(count, DEFAULT_BACKGROUND).unwrap_or_else(|error| panic!("{error}"));
+        let hex: Vec<String> = palette
+            .colours
+            .iter()
+            .map(|colour| colour.to_hex())
+            .collect();
+        assert_eq!(hex, colours, "N = {count}");
+    }
+}

@@ -23,6 +23,8 @@ struct Run {
     stderr: String,
     peak_kib: i64,
     elapsed: Duration,
+    /// Processor time in user mode (steadier than the wall clock on a loaded machine).
+    user_time: Duration,
 }
 
 /// Run the binary in `dir` and measure its peak resident memory (KiB) with `wait4`.
@@ -76,6 +78,8 @@ fn run_measured(args: &[&str], dir: &Path) -> Run {
         stderr: String::from_utf8_lossy(&err_reader.join().unwrap_or_default()).into_owned(),
         peak_kib: usage.ru_maxrss,
         elapsed,
+        user_time: Duration::from_secs(usage.ru_utime.tv_sec as u64)
+            + Duration::from_micros(usage.ru_utime.tv_usec as u64),
     }
 }
 
@@ -309,4 +313,66 @@ fn the_time_budget_is_set_in_markwell_toml_or_on_the_command_line() {
     );
     assert_eq!(run.code, Some(2), "{}", run.stderr);
     assert!(run.stderr.contains("above 0"), "{}", run.stderr);
+}
+
+/// A one-line spec of `count` unknown keys of about 100 bytes each (one finding each, with a
+/// fix): the worst case for printing positions, since every finding is on the same line.
+fn one_line_spec_with_unknown_keys(dir: &Path, name: &str, count: usize) -> String {
+    let mut text = String::from("{\"mark\": \"bar\"");
+    let value = "pear".repeat(16);
+    for index in 0..count {
+        text.push_str(&format!(
+            ", \"unknown_orchard_key_{index:06}\": \"{value}\""
+        ));
+    }
+    text.push('}');
+    std::fs::write(dir.join(name), &text).unwrap_or_else(|error| panic!("{error}"));
+    name.to_string()
+}
+
+#[test]
+fn a_ten_megabyte_spec_with_100000_findings_is_reported_in_linear_time() {
+    // was: every position was counted from the start of the text (and every excerpt searched
+    // its whole line), so 100,000 findings on one 10 MB line cost about 5 * 10^11 steps; the
+    // previous binary took over 300 s for the 25,000-finding spec below.
+    // bound: 4 times the findings within 8 times the processor time (plus 2 s of slack), and
+    // under 120 s of processor time in a debug build
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let quarter = one_line_spec_with_unknown_keys(dir.path(), "quarter.chart.json", 25_000);
+    let whole = one_line_spec_with_unknown_keys(dir.path(), "whole.chart.json", 100_000);
+    let size = std::fs::metadata(dir.path().join(&whole)).map_or(0, |m| m.len());
+    assert!(size > 9_500_000, "{size} bytes");
+    let small = run_measured(&["check", "--format", "json", &quarter], dir.path());
+    let large = run_measured(&["check", "--format", "json", &whole], dir.path());
+    assert_eq!(large.code, Some(1), "{}", large.stderr);
+    assert_eq!(
+        large.stdout.matches("\"rule\": \"unknown-key\"").count(),
+        100_000
+    );
+    // the last finding's position is on line 1, far along it
+    assert!(
+        large.stdout.contains("\"line\": 1,"),
+        "positions are printed"
+    );
+    eprintln!(
+        "json: 25,000 findings {:?}, 100,000 findings {:?} of processor time",
+        small.user_time, large.user_time
+    );
+    assert!(
+        large.user_time < small.user_time * 8 + Duration::from_secs(2),
+        "25,000 findings {:?}, 100,000 findings {:?}: not linear",
+        small.user_time,
+        large.user_time
+    );
+    assert!(large.user_time < Duration::from_secs(120));
+    // the terminal report: excerpts and positions of every finding
+    let report = run_measured(&["check", &whole], dir.path());
+    assert_eq!(report.code, Some(1), "{}", report.stderr);
+    assert!(
+        report.stdout.contains("whole.chart.json:1:"),
+        "{}",
+        &report.stdout[..200]
+    );
+    eprintln!("report: 100,000 findings {:?}", report.user_time);
+    assert!(report.user_time < Duration::from_secs(120));
 }

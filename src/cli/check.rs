@@ -350,6 +350,7 @@ pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Re
         }
         checked.push(CheckedFile {
             path,
+            lines: super::render::LineColumns::new(&spec_text),
             text: spec_text,
             diagnostics,
             outline: spec_outline,

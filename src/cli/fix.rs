@@ -8,7 +8,7 @@ use std::io::{self, Write};
 
 use crate::diagnostic::{apply_edits, Diagnostic, FixKind, TextEdit};
 
-use super::render::line_and_column;
+use super::render::LineColumns;
 use super::report::{has_syntax_errors, printable};
 
 /// What `--fix` would do to one spec.
@@ -65,18 +65,6 @@ pub fn plan(text: &str, diagnostics: &[Diagnostic]) -> FixPlan {
     }
 }
 
-fn line_start(text: &str, offset: usize) -> usize {
-    text[..offset]
-        .rfind(['\n', '\r'])
-        .map_or(0, |index| index + 1)
-}
-
-fn line_end(text: &str, offset: usize) -> usize {
-    text[offset..]
-        .find(['\n', '\r'])
-        .map_or(text.len(), |index| offset + index)
-}
-
 /// The preview of a change: per block of touched lines, the line number, the lines as they were
 /// (`was`) and as they become (`now`).
 pub fn write_preview(
@@ -97,14 +85,17 @@ pub fn write_preview(
         printable(&titles.join("; "))
     )?;
     // blocks of edits on the same or adjacent lines
+    let lines = LineColumns::new(text);
     let mut index = 0;
     while index < edits.len() {
-        let block_start = line_start(text, edits[index].range.start);
-        let mut block_end = line_end(text, edits[index].range.end);
+        let block_start = lines.line_bounds(text, edits[index].range.start).0;
+        let mut block_end = lines.line_bounds(text, edits[index].range.end).1;
         let mut last = index;
         while last + 1 < edits.len() && edits[last + 1].range.start <= block_end + 1 {
             last += 1;
-            block_end = line_end(text, edits[last].range.end.max(block_end));
+            block_end = lines
+                .line_bounds(text, edits[last].range.end.max(block_end))
+                .1;
         }
         let block_edits: Vec<TextEdit> = edits[index..=last]
             .iter()
@@ -118,7 +109,7 @@ pub fn write_preview(
             .collect();
         let old = &text[block_start..block_end];
         let new = apply_edits(old, &block_edits).unwrap_or_default();
-        let (line, _) = line_and_column(text, block_start);
+        let (line, _) = lines.line_and_column(text, block_start);
         writeln!(out, "  at line {line}")?;
         for old_line in old.split(['\n', '\r']).filter(|l| !l.is_empty()) {
             writeln!(out, "    was  {}", printable(old_line))?;

@@ -18,7 +18,7 @@ use crate::diagnostic::{Diagnostic, Fix, FixKind, RelatedTarget, Severity};
 use crate::spec::model::{ChartSpec, Source, SourceLocation};
 use crate::text_range::TextRange;
 
-use super::render::{count, line_and_column, shown_path, CheckedFile};
+use super::render::{count, shown_path, CheckedFile, LineColumns};
 
 /// Opening and closing marks around the range of a finding in the source line.
 pub const OPEN_MARK: &str = "⟦";
@@ -327,26 +327,19 @@ fn middle(text: &str, limit: usize) -> String {
 const CONTEXT_CHARS: usize = 48;
 const MARKED_CHARS: usize = 72;
 
-fn line_bounds(text: &str, offset: usize) -> (usize, usize) {
-    let bytes = text.as_bytes();
-    let start = memchr::memrchr2(b'\n', b'\r', &bytes[..offset]).map_or(0, |index| index + 1);
-    let end =
-        memchr::memchr2(b'\n', b'\r', &bytes[offset..]).map_or(text.len(), |index| offset + index);
-    (start, end)
-}
-
 /// The source lines of `range` with the range between the marks: (line number or none for an
 /// elision, text).
 pub fn excerpt(
     text: &str,
+    lines: &LineColumns,
     range: TextRange,
     palette: &Palette,
     severity: Severity,
 ) -> Vec<(Option<usize>, String)> {
     let start = floor_boundary(text, range.start);
     let end = floor_boundary(text, range.end).max(start);
-    let (first_start, first_end) = line_bounds(text, start);
-    let (line, _) = line_and_column(text, start);
+    let (first_start, first_end) = lines.line_bounds(text, start);
+    let (line, _) = lines.line_and_column(text, start);
     let before = tail(text[first_start..start].trim_start(), CONTEXT_CHARS);
     let marked = |piece: &str| palette.marked(severity, &middle(piece, MARKED_CHARS));
     if end <= first_end {
@@ -359,8 +352,8 @@ pub fn excerpt(
             ),
         )];
     }
-    let (last_start, last_end) = line_bounds(text, end);
-    let (last_line, _) = line_and_column(text, end);
+    let (last_start, last_end) = lines.line_bounds(text, end);
+    let (last_line, _) = lines.line_and_column(text, end);
     let mut lines = vec![(
         Some(line),
         format!("{before}{OPEN_MARK}{}", marked(&text[start..first_end])),
@@ -398,7 +391,9 @@ fn write_finding(
     diagnostic: &Diagnostic,
     palette: &Palette,
 ) -> io::Result<()> {
-    let (line, column) = line_and_column(&file.text, diagnostic.range.start);
+    let (line, column) = file
+        .lines
+        .line_and_column(&file.text, diagnostic.range.start);
     writeln!(
         out,
         "{}  {}  {}",
@@ -407,7 +402,13 @@ fn write_finding(
         palette.quiet(diagnostic.rule),
     )?;
     writeln!(out, "      {}", printable(&diagnostic.message))?;
-    let lines = excerpt(&file.text, diagnostic.range, palette, diagnostic.severity);
+    let lines = excerpt(
+        &file.text,
+        &file.lines,
+        diagnostic.range,
+        palette,
+        diagnostic.severity,
+    );
     let width = lines
         .iter()
         .filter_map(|(number, _)| number.map(|n| n.to_string().len()))
@@ -424,7 +425,7 @@ fn write_finding(
     for related in &diagnostic.related {
         let place = match &related.target {
             RelatedTarget::SameDocument(range) => {
-                let (line, column) = line_and_column(&file.text, range.start);
+                let (line, column) = file.lines.line_and_column(&file.text, range.start);
                 format!("{path}:{line}:{column}")
             }
             RelatedTarget::File {
@@ -607,7 +608,13 @@ mod tests {
     const PLAIN: Palette = Palette { colour: false };
 
     fn lines(text: &str, start: usize, end: usize) -> Vec<(Option<usize>, String)> {
-        excerpt(text, TextRange::new(start, end), &PLAIN, Severity::Error)
+        excerpt(
+            text,
+            &LineColumns::new(text),
+            TextRange::new(start, end),
+            &PLAIN,
+            Severity::Error,
+        )
     }
 
     #[test]

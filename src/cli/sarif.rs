@@ -7,7 +7,7 @@ use serde_json::{json, Value};
 use crate::analysis::rules::registry;
 use crate::diagnostic::{Diagnostic, RelatedTarget, Severity};
 
-use super::render::{line_and_column, CheckedFile};
+use super::render::CheckedFile;
 
 const SARIF_SCHEMA_URI: &str =
     "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json";
@@ -40,9 +40,9 @@ pub fn path_to_uri_reference(path: &std::path::Path) -> String {
     out
 }
 
-fn region(text: &str, start: usize, end: usize) -> Value {
-    let (start_line, start_column) = line_and_column(text, start);
-    let (end_line, end_column) = line_and_column(text, end);
+fn region(file: &CheckedFile, start: usize, end: usize) -> Value {
+    let (start_line, start_column) = file.lines.line_and_column(&file.text, start);
+    let (end_line, end_column) = file.lines.line_and_column(&file.text, end);
     json!({
         "startLine": start_line,
         "startColumn": start_column,
@@ -63,7 +63,7 @@ fn result(file: &CheckedFile, uri: &str, diagnostic: &Diagnostic) -> Value {
             let location = match &related.target {
                 RelatedTarget::SameDocument(range) => json!({
                     "artifactLocation": { "uri": uri },
-                    "region": region(&file.text, range.start, range.end),
+                    "region": region(file, range.start, range.end),
                 }),
                 RelatedTarget::File { path, line, .. } => json!({
                     "artifactLocation": { "uri": path_to_uri_reference(path) },
@@ -86,7 +86,7 @@ fn result(file: &CheckedFile, uri: &str, diagnostic: &Diagnostic) -> Value {
                 .iter()
                 .map(|edit| {
                     json!({
-                        "deletedRegion": region(&file.text, edit.range.start, edit.range.end),
+                        "deletedRegion": region(file, edit.range.start, edit.range.end),
                         "insertedContent": { "text": edit.new_text },
                     })
                 })
@@ -107,7 +107,7 @@ fn result(file: &CheckedFile, uri: &str, diagnostic: &Diagnostic) -> Value {
         "locations": [{
             "physicalLocation": {
                 "artifactLocation": { "uri": uri },
-                "region": region(&file.text, diagnostic.range.start, diagnostic.range.end),
+                "region": region(file, diagnostic.range.start, diagnostic.range.end),
             }
         }],
     });

@@ -212,11 +212,13 @@ impl<'de> Visitor<'de> for RowSeed<'_> {
         self.table.rows += 1;
         while let Some(key) = members.next_key::<String>()? {
             match self.table.try_column_index(&key) {
-                Some(index) => members.next_value_seed(CellSeed {
-                    column: &mut self.table.columns[index],
-                })?,
-                // past the column limit: the profile will be refused as too wide
-                None => {
+                Some(index) if self.table.first_cell_in_row(index, &key) => members
+                    .next_value_seed(CellSeed {
+                        column: &mut self.table.columns[index],
+                    })?,
+                // a repeated key, or one past the column limit (then the profile is refused
+                // as too wide)
+                _ => {
                     members.next_value::<IgnoredAny>()?;
                 }
             }
@@ -260,6 +262,9 @@ pub fn add_inline_rows(table: &mut TableAccumulator, rows: &[InlineRow]) {
         table.rows += 1;
         for (key, value) in row {
             let index = table.column_index(key);
+            if !table.first_cell_in_row(index, key) {
+                continue;
+            }
             let column = &mut table.columns[index];
             match value {
                 InlineValue::Null => column.add_missing(),

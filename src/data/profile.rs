@@ -820,6 +820,9 @@ pub struct TableAccumulator {
     quota_level: usize,
     /// A key past `max_columns` was seen (and left out).
     too_wide: bool,
+    /// Per column, the row (as `rows` counted it) that last gave it a cell: a JSON row that
+    /// names a key twice gives its column one cell, not two.
+    last_row_with_cell: Vec<u64>,
 }
 
 impl TableAccumulator {
@@ -882,6 +885,29 @@ impl TableAccumulator {
         self.columns.push(column);
         self.index_by_name.insert(name.to_string(), index);
         index
+    }
+
+    /// Whether the current row (number `rows`) has not yet given column `index` a cell; marks
+    /// it as given. A second key of the same name in one row is then a problem, not a cell.
+    pub fn first_cell_in_row(&mut self, index: usize, key: &str) -> bool {
+        if self.last_row_with_cell.len() < self.columns.len() {
+            self.last_row_with_cell.resize(self.columns.len(), 0);
+        }
+        let Some(last) = self.last_row_with_cell.get_mut(index) else {
+            return true;
+        };
+        if *last == self.rows {
+            self.add_problem(DataProblem {
+                message: format!(
+                    "a row names the key `{key}` twice; only its first value is profiled"
+                ),
+                line: None,
+                byte_offset: None,
+            });
+            return false;
+        }
+        *last = self.rows;
+        true
     }
 
     /// Like [`TableAccumulator::column_index`], but `None` (and the table marked too wide)

@@ -116,6 +116,47 @@ fn difference(first: &Candidate, second: &Candidate, floor: f64) -> f64 {
     worst
 }
 
+/// The per-vision CIEDE2000 differences from every candidate to the candidates that were ever
+/// chosen, each computed on first use. The search asks for the same pairs again and again (the
+/// improvement pass compares every candidate with every other chosen colour, for every slot
+/// and round); the cache answers them with exactly the values, and in exactly the order of
+/// visions, that [`difference`] computes, so the palette is the same, only found sooner.
+struct DifferenceCache<'c> {
+    candidates: &'c [&'c Candidate],
+    /// Per chosen candidate: its differences to every candidate (`NaN`: not yet computed).
+    columns: Vec<Option<Vec<[f64; 4]>>>,
+}
+
+impl<'c> DifferenceCache<'c> {
+    fn new(candidates: &'c [&'c Candidate]) -> DifferenceCache<'c> {
+        DifferenceCache {
+            candidates,
+            columns: (0..candidates.len()).map(|_| None).collect(),
+        }
+    }
+
+    /// `difference(candidates[candidate], candidates[chosen], floor)`, from the cache.
+    fn difference(&mut self, candidate: usize, chosen: usize, floor: f64) -> f64 {
+        let candidates = self.candidates;
+        let column =
+            self.columns[chosen].get_or_insert_with(|| vec![[f64::NAN; 4]; candidates.len()]);
+        let mut worst = f64::INFINITY;
+        for (vision, value) in column[candidate].iter_mut().enumerate() {
+            if value.is_nan() {
+                *value = ciede2000(
+                    candidates[candidate].visions[vision],
+                    candidates[chosen].visions[vision],
+                );
+            }
+            worst = worst.min(*value);
+            if worst < floor {
+                break;
+            }
+        }
+        worst
+    }
+}
+
 /// The candidate grid (before the background filter), computed once.
 fn grid() -> &'static [Candidate] {
     static GRID: OnceLock<Vec<Candidate>> = OnceLock::new();
@@ -176,18 +217,18 @@ pub fn categorical(count: usize, background: Srgb8) -> Result<CategoricalPalette
             .map(|candidate| difference(candidate, &background_candidate, 0.0)),
     );
     chosen.push(seed);
+    let mut cache = DifferenceCache::new(&candidates);
     // Greedy farthest point: each candidate's nearest chosen colour, updated per addition.
-    let mut nearest: Vec<f64> = candidates
-        .iter()
-        .map(|candidate| difference(candidate, candidates[seed], 0.0))
+    let mut nearest: Vec<f64> = (0..candidates.len())
+        .map(|index| cache.difference(index, seed, 0.0))
         .collect();
     while chosen.len() < count {
         let next = argmax(nearest.iter().copied());
         chosen.push(next);
-        for (index, candidate) in candidates.iter().enumerate() {
-            if nearest[index] > 0.0 {
-                let to_next = difference(candidate, candidates[next], nearest[index]);
-                nearest[index] = nearest[index].min(to_next);
+        for (index, nearest_so_far) in nearest.iter_mut().enumerate() {
+            if *nearest_so_far > 0.0 {
+                let to_next = cache.difference(index, next, *nearest_so_far);
+                *nearest_so_far = nearest_so_far.min(to_next);
             }
         }
     }
@@ -196,11 +237,11 @@ pub fn categorical(count: usize, background: Srgb8) -> Result<CategoricalPalette
     for _ in 0..IMPROVEMENT_ROUNDS {
         let mut moved = false;
         for slot in 0..chosen.len() {
-            let nearest_other = |candidate: &Candidate, floor: f64| {
+            let nearest_other = |cache: &mut DifferenceCache<'_>, candidate: usize, floor: f64| {
                 let mut worst = f64::INFINITY;
                 for (other_slot, &other) in chosen.iter().enumerate() {
                     if other_slot != slot {
-                        worst = worst.min(difference(candidate, candidates[other], floor));
+                        worst = worst.min(cache.difference(candidate, other, floor));
                         if worst <= floor {
                             break;
                         }
@@ -208,13 +249,13 @@ pub fn categorical(count: usize, background: Srgb8) -> Result<CategoricalPalette
                 }
                 worst
             };
-            let mut best = nearest_other(candidates[chosen[slot]], 0.0);
+            let mut best = nearest_other(&mut cache, chosen[slot], 0.0);
             let mut best_index = chosen[slot];
-            for (index, candidate) in candidates.iter().enumerate() {
+            for index in 0..candidates.len() {
                 if chosen.contains(&index) {
                     continue;
                 }
-                let value = nearest_other(candidate, best);
+                let value = nearest_other(&mut cache, index, best);
                 if value > best + 1e-9 {
                     best = value;
                     best_index = index;
