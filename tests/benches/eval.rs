@@ -103,7 +103,7 @@ fn demo_specs() {
         let time = median(samples);
         medians.push(time);
         println!(
-            "  {:<40} {:>8.3} ms  ({rows} rows, {marks} marks)",
+            "  {:<46} {:>8.3} ms  ({rows} rows, {marks} marks)",
             path.file_name()
                 .map_or(String::new(), |name| name.to_string_lossy().into_owned()),
             time.as_secs_f64() * 1000.0
