@@ -260,3 +260,53 @@ fn data_files_are_documents_too() {
     );
     assert!(client.finish().success());
 }
+
+#[test]
+fn a_client_that_pulls_gets_the_closed_specs_from_workspace_diagnostic() {
+    let workspace = Workspace::new();
+    workspace.write("harvest.csv", "variety,boxes,rain_mm\nBramley,120,31\n");
+    let mut client = start();
+    let result = client.initialize(
+        json!({"textDocument": {"diagnostic": {"dynamicRegistration": false}}}),
+        Some(&workspace.root_uri()),
+    );
+    assert_eq!(
+        result["capabilities"]["diagnosticProvider"]["workspaceDiagnostics"],
+        true
+    );
+    let report = client.request_result("workspace/diagnostic", json!({"previousResultIds": []}));
+    let items = report["items"].as_array().cloned().unwrap_or_default();
+    assert_eq!(items.len(), 2, "{report}");
+    let points = items
+        .iter()
+        .find(|item| item["uri"] == workspace.uri("more/points.chart.json").as_str())
+        .unwrap_or_else(|| panic!("no report for the points spec: {report}"));
+    assert_eq!(points["kind"], "full");
+    assert!(points["items"]
+        .as_array()
+        .into_iter()
+        .flatten()
+        .any(|d| d["code"] == "unknown-column"));
+    // asked again with the ids it got: unchanged
+    let previous: Vec<Value> = items
+        .iter()
+        .map(|item| json!({"uri": item["uri"], "value": item["resultId"]}))
+        .collect();
+    let again = client.request_result(
+        "workspace/diagnostic",
+        json!({"previousResultIds": previous}),
+    );
+    assert!(
+        again["items"]
+            .as_array()
+            .into_iter()
+            .flatten()
+            .all(|item| item["kind"] == "unchanged"),
+        "{again}"
+    );
+    client.settle(std::time::Duration::from_millis(200));
+    assert!(client
+        .take_queued("textDocument/publishDiagnostics")
+        .is_empty());
+    assert!(client.finish().success());
+}

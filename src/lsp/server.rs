@@ -1048,7 +1048,7 @@ fn server_capabilities(
             lsp::DiagnosticServerCapabilities::Options(lsp::DiagnosticOptions {
                 identifier: Some("markwell".to_string()),
                 inter_file_dependencies: true,
-                workspace_diagnostics: false,
+                workspace_diagnostics: true,
                 work_done_progress_options: lsp::WorkDoneProgressOptions::default(),
             })
         }),
@@ -1681,14 +1681,7 @@ impl LanguageServer for Backend {
                     published_diagnostics(&outcome, &uri, encoding)
                 })?;
                 // the id names the answer itself: data or settings can change it without a new text
-                let result_id = {
-                    use std::hash::{Hash, Hasher};
-                    let mut hasher = std::collections::hash_map::DefaultHasher::new();
-                    serde_json::to_string(&items)
-                        .unwrap_or_default()
-                        .hash(&mut hasher);
-                    format!("{:016x}", hasher.finish())
-                };
+                let result_id = result_id_of(&items);
                 if params.previous_result_id.as_deref() == Some(result_id.as_str()) {
                     lsp::DocumentDiagnosticReport::Unchanged(
                         lsp::RelatedUnchangedDocumentDiagnosticReport {
@@ -1717,6 +1710,48 @@ impl LanguageServer for Backend {
             }),
         };
         Ok(lsp::DocumentDiagnosticReportResult::Report(report))
+    }
+
+    async fn workspace_diagnostic(
+        &self,
+        params: lsp::WorkspaceDiagnosticParams,
+    ) -> jsonrpc::Result<lsp::WorkspaceDiagnosticReportResult> {
+        let previous: HashMap<lsp::Url, String> = params
+            .previous_result_ids
+            .into_iter()
+            .map(|previous| (previous.uri, previous.value))
+            .collect();
+        let reports = closed_spec_reports(self.state.clone(), |_| true).await;
+        let items = reports
+            .into_iter()
+            .map(|(uri, diagnostics)| {
+                let result_id = result_id_of(&diagnostics);
+                if previous.get(&uri) == Some(&result_id) {
+                    lsp::WorkspaceDocumentDiagnosticReport::Unchanged(
+                        lsp::WorkspaceUnchangedDocumentDiagnosticReport {
+                            uri,
+                            version: None,
+                            unchanged_document_diagnostic_report:
+                                lsp::UnchangedDocumentDiagnosticReport { result_id },
+                        },
+                    )
+                } else {
+                    lsp::WorkspaceDocumentDiagnosticReport::Full(
+                        lsp::WorkspaceFullDocumentDiagnosticReport {
+                            uri,
+                            version: None,
+                            full_document_diagnostic_report: lsp::FullDocumentDiagnosticReport {
+                                result_id: Some(result_id),
+                                items: diagnostics,
+                            },
+                        },
+                    )
+                }
+            })
+            .collect();
+        Ok(lsp::WorkspaceDiagnosticReportResult::Report(
+            lsp::WorkspaceDiagnosticReport { items },
+        ))
     }
 
     async fn references(
@@ -2304,6 +2339,56 @@ async fn check_closed_specs(
     state: Arc<ServerState>,
     wanted: impl Fn(&workspace::IndexedSpec) -> bool + Send + 'static,
 ) -> (usize, usize) {
+    let results = closed_spec_reports(state.clone(), wanted).await;
+    let checked = results.len();
+    let findings = results
+        .iter()
+        .map(|(_, diagnostics)| diagnostics.len())
+        .sum();
+    let (pull, refresh) = {
+        let session = lock(&state.session);
+        (
+            session.pull_diagnostics,
+            session.supports_diagnostic_refresh,
+        )
+    };
+    if pull {
+        // the client pulls `workspace/diagnostic`: tell it the answers may have changed
+        if refresh && checked > 0 {
+            let refreshed = tokio::time::timeout(
+                CLIENT_ANSWER_TIMEOUT,
+                state.client.workspace_diagnostic_refresh(),
+            )
+            .await;
+            if !matches!(refreshed, Ok(Ok(()))) {
+                log::info("workspace/diagnostic/refresh: no answer or an error from the client");
+            }
+        }
+        return (checked, findings);
+    }
+    for (uri, diagnostics) in results {
+        let shown_before = lock(&state.closed_published).contains(&uri);
+        if diagnostics.is_empty() && !shown_before {
+            continue;
+        }
+        if diagnostics.is_empty() {
+            lock(&state.closed_published).remove(&uri);
+        } else {
+            lock(&state.closed_published).insert(uri.clone());
+        }
+        state
+            .client
+            .publish_diagnostics(uri, diagnostics, None)
+            .await;
+    }
+    (checked, findings)
+}
+
+/// The findings of the closed specs of the workspace that `wanted` selects, converted.
+async fn closed_spec_reports(
+    state: Arc<ServerState>,
+    wanted: impl Fn(&workspace::IndexedSpec) -> bool + Send + 'static,
+) -> Vec<(lsp::Url, Vec<lsp::Diagnostic>)> {
     workspace_ready(&state).await;
     let open: HashSet<PathBuf> = lock(&state.documents)
         .keys()
@@ -2349,25 +2434,17 @@ async fn check_closed_specs(
     })
     .await
     .unwrap_or_default();
-    let checked = results.len();
-    let mut findings = 0;
-    for (uri, diagnostics) in results {
-        findings += diagnostics.len();
-        let shown_before = lock(&state.closed_published).contains(&uri);
-        if diagnostics.is_empty() && !shown_before {
-            continue;
-        }
-        if diagnostics.is_empty() {
-            lock(&state.closed_published).remove(&uri);
-        } else {
-            lock(&state.closed_published).insert(uri.clone());
-        }
-        state
-            .client
-            .publish_diagnostics(uri, diagnostics, None)
-            .await;
-    }
-    (checked, findings)
+    results
+}
+
+/// A result id that names a set of diagnostics (pulled answers are "unchanged" when it is).
+fn result_id_of(items: &[lsp::Diagnostic]) -> String {
+    use std::hash::{Hash, Hasher};
+    let mut hasher = std::collections::hash_map::DefaultHasher::new();
+    serde_json::to_string(items)
+        .unwrap_or_default()
+        .hash(&mut hasher);
+    format!("{:016x}", hasher.finish())
 }
 
 /// Wait (bounded) until the first scan of the workspace has ended: requests that need the
