@@ -308,12 +308,23 @@ fn profile_file(
     }
 }
 
-fn profile_file_under(
-    path: &Path,
-    read: &ReadOptions,
-    depth: ScanDepth<'_>,
-    control: &mut ScanControl,
-) -> Result<DataProfile, DataError> {
+/// A data file checked for reading, with its head read and its format known: where profiling
+/// and the row readers of `rows` both start.
+pub(super) struct OpenedData {
+    pub size: u64,
+    pub modified: Option<SystemTime>,
+    /// The first `SAMPLE_BYTES` of the file (all of it when `complete`).
+    pub head: Vec<u8>,
+    pub complete: bool,
+    /// Length of a UTF-8 byte-order mark at the start (0 or 3).
+    pub mark_length: usize,
+    pub format: DataFormat,
+    pub delimiter: u8,
+}
+
+/// Open `path`, read its head, and refuse what cannot be read as data: an empty file, binary
+/// bytes, an unknown format, delimited text with lone-CR line ends.
+pub(super) fn open_data_head(path: &Path, read: &ReadOptions) -> Result<OpenedData, DataError> {
     let (size, modified) = file_stamp(path)?;
     let mut file = open_data_file(path)?;
     let head = read_head(&mut file, SAMPLE_BYTES, path)?;
@@ -342,6 +353,33 @@ fn profile_file_under(
         ));
     }
     let mark_length = head.len() - after_mark.len();
+    Ok(OpenedData {
+        size,
+        modified,
+        head,
+        complete,
+        mark_length,
+        format,
+        delimiter,
+    })
+}
+
+fn profile_file_under(
+    path: &Path,
+    read: &ReadOptions,
+    depth: ScanDepth<'_>,
+    control: &mut ScanControl,
+) -> Result<DataProfile, DataError> {
+    let OpenedData {
+        size,
+        modified,
+        head,
+        complete,
+        mark_length,
+        format,
+        delimiter,
+    } = open_data_head(path, read)?;
+    let after_mark = &head[mark_length..];
     let in_memory = complete || matches!(depth, ScanDepth::Sample);
     let truncated = !complete;
     control.readers = if in_memory { 1 } else { worker_threads() };

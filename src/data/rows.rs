@@ -22,10 +22,7 @@ use serde::de::{DeserializeSeed, IgnoredAny, MapAccess, SeqAccess, Visitor};
 use serde::Deserialize;
 use std::collections::HashMap;
 
-use super::cache::{
-    check_is_text, cut_at_last_line, detect_format, file_stamp, open_data_file, read_head,
-    simple_error, BYTE_ORDER_MARK, SAMPLE_BYTES,
-};
+use super::cache::{cut_at_last_line, open_data_file};
 use super::csv_reader::{read_header_within, record_read_error, RecordReader};
 use super::resolve::resolve_source_path;
 use super::{io_error, DataError, DataErrorKind, ProfileLimits, ReadOptions, ResolveOptions};
@@ -102,21 +99,17 @@ pub fn open_file_rows_within(
     sampled: bool,
     limits: &ProfileLimits,
 ) -> Result<Box<dyn RowSource + Send>, DataError> {
-    let (size, _) = file_stamp(path)?;
-    let mut file = open_data_file(path)?;
-    let head = read_head(&mut file, SAMPLE_BYTES, path)?;
-    let complete = head.len() as u64 >= size;
-    let after_mark = head.strip_prefix(&BYTE_ORDER_MARK).unwrap_or(&head);
-    if complete && after_mark.iter().all(|byte| byte.is_ascii_whitespace()) {
-        return Err(simple_error(
-            DataErrorKind::Empty,
-            format!("`{}` is empty", path.display()),
-            path,
-        ));
-    }
-    check_is_text(&head, path)?;
-    let (format, delimiter) = detect_format(path, &head, read)?;
-    let mark_length = (head.len() - after_mark.len()) as u64;
+    let super::cache::OpenedData {
+        size,
+        head,
+        complete,
+        mark_length,
+        format,
+        delimiter,
+        ..
+    } = super::cache::open_data_head(path, read)?;
+    let after_mark = &head[mark_length..];
+    let mark_length = mark_length as u64;
     let in_memory = complete || sampled;
     let is_sample = !complete && sampled;
     match format {
@@ -1000,7 +993,7 @@ mod tests {
     fn a_sampled_head_of_a_long_file_is_marked_and_ends_at_a_whole_line() {
         let mut contents = String::from("id,value\n");
         let mut id = 0u64;
-        while contents.len() < SAMPLE_BYTES + 1000 {
+        while contents.len() < crate::data::cache::SAMPLE_BYTES + 1000 {
             id += 1;
             contents.push_str(&format!("{id},{}\n", id % 17));
         }
