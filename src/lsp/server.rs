@@ -152,6 +152,8 @@ pub struct ServerState {
     workspace_scanned: AtomicBool,
     /// Closed specs that were sent diagnostics (to clear them when they are fixed or opened).
     closed_published: Mutex<HashSet<lsp::Url>>,
+    /// One permit per analysis on the blocking pool ([`ANALYSES_AT_ONCE`]).
+    analysis_permits: Arc<tokio::sync::Semaphore>,
 }
 
 /// The tower-lsp `LanguageServer`.
@@ -301,6 +303,7 @@ impl Backend {
                 shutdown_requested,
                 next_progress_token: AtomicU64::new(1),
                 full_scans_running: Mutex::new(HashSet::new()),
+                analysis_permits: Arc::new(tokio::sync::Semaphore::new(ANALYSES_AT_ONCE)),
             }),
         }
     }
@@ -515,6 +518,10 @@ fn owned_record<'m>(
 /// still current. Only one loop per document runs at a time (the one whose id the record holds).
 async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
     loop {
+        // wait for a turn first, so the snapshot is the newest text when the run starts
+        let Ok(permit) = state.analysis_permits.clone().acquire_owned().await else {
+            return;
+        };
         let snapshot = {
             let mut documents = lock(&state.documents);
             let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
@@ -528,6 +535,8 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         let cache = state.cache.clone();
         ANALYSES_RUNNING.fetch_add(1, Ordering::SeqCst);
         let mut task = tokio::task::spawn_blocking(move || {
+            // held until the run ends, also when the loop abandoned it
+            let _permit = permit;
             let _running = RunningAnalysis;
             catch_unwind(AssertUnwindSafe(|| {
                 analyse_snapshot(&snapshot, &cache, None)
@@ -683,6 +692,14 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
 
 /// How often a waiting analysis loop looks for a newer text of its document.
 const SUPERSEDE_POLL: Duration = Duration::from_millis(25);
+
+/// At most this many analyses run at once (current and abandoned ones): opening thousands of
+/// documents at once queues their analyses instead of starting a blocking thread for each (up to
+/// tokio's 512), whose stacks and allocator heaps made most of the server's memory (10,000
+/// small documents: 515 threads). A run that waits on a slow read holds its permit until the
+/// read's time budget ends. markwell's choice, no source: a few per core of the 2-core machine
+/// it was measured on, with room for a few slow reads.
+const ANALYSES_AT_ONCE: usize = 8;
 
 /// Analyses running on the blocking pool (current and superseded ones).
 static ANALYSES_RUNNING: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
