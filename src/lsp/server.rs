@@ -41,6 +41,7 @@ use crate::eval::EvaluatedChart;
 use crate::lsp::completion;
 use crate::lsp::convert::{self, from_lsp_position, to_lsp_range};
 use crate::lsp::documents::{next_generation, AnalysisOutcome, OpenDocument, TextChange};
+use crate::lsp::evaluation_cache::{sampled_evaluation, CachedEvaluation};
 use crate::lsp::features;
 use crate::lsp::log;
 use crate::lsp::settings::{merge_settings, parse_editor_settings, EditorSettings};
@@ -171,6 +172,9 @@ struct Snapshot {
     config: Arc<AnalysisConfig>,
     /// The evaluation of this text, when it was computed already (sampled or exact).
     known_evaluation: Option<Arc<EvaluatedChart>>,
+    /// The latest sampled evaluation and what it was computed from (reused when only the
+    /// title, description or frame changed).
+    kept_evaluation: Option<Arc<CachedEvaluation>>,
 }
 
 fn lock<T>(mutex: &Mutex<T>) -> MutexGuard<'_, T> {
@@ -215,15 +219,24 @@ fn analyse_snapshot(
     reuse_data: Option<Arc<DataContext>>,
 ) -> AnalysisOutcome {
     let parsed = parse_document(snapshot.index.text());
-    let (data, evaluation) = match reuse_data {
-        Some(data) => (data, snapshot.known_evaluation.clone()),
+    let (data, evaluation, kept_evaluation) = match reuse_data {
+        Some(data) => (
+            data,
+            snapshot.known_evaluation.clone(),
+            snapshot.kept_evaluation.clone(),
+        ),
         None => {
             let data = Arc::new(cache.load_for_spec_sampled(&parsed.spec, &snapshot.resolve));
-            let evaluation = snapshot.known_evaluation.clone().or_else(|| {
-                crate::lsp::evaluate::evaluate_sampled(&parsed.spec, &snapshot.resolve)
-                    .map(Arc::new)
-            });
-            (data, evaluation)
+            let (evaluation, kept) = match snapshot.known_evaluation.clone() {
+                Some(known) => (Some(known), snapshot.kept_evaluation.clone()),
+                None => sampled_evaluation(
+                    snapshot.kept_evaluation.as_deref(),
+                    &parsed,
+                    &snapshot.resolve,
+                    || crate::lsp::evaluate::evaluate_sampled(&parsed.spec, &snapshot.resolve),
+                ),
+            };
+            (data, evaluation, kept)
         }
     };
     let diagnostics =
@@ -238,6 +251,7 @@ fn analyse_snapshot(
         diagnostics,
         pending_full_scans,
         evaluation,
+        kept_evaluation,
     }
 }
 
@@ -346,6 +360,11 @@ impl Backend {
                 .as_ref()
                 .filter(|(generation, _)| *generation == record.document.generation)
                 .map(|(_, evaluation)| evaluation.clone()),
+            kept_evaluation: record
+                .document
+                .latest
+                .as_ref()
+                .and_then(|latest| latest.kept_evaluation.clone()),
         }
     }
 
