@@ -541,6 +541,7 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         let Ok(permit) = state.analysis_permits.clone().acquire_owned().await else {
             return;
         };
+        let mut permit = Some(permit);
         let snapshot = {
             let mut documents = lock(&state.documents);
             let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
@@ -554,8 +555,6 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         let cache = state.cache.clone();
         ANALYSES_RUNNING.fetch_add(1, Ordering::SeqCst);
         let mut task = tokio::task::spawn_blocking(move || {
-            // held until the run ends, also when the loop abandoned it
-            let _permit = permit;
             let _running = RunningAnalysis;
             catch_unwind(AssertUnwindSafe(|| {
                 analyse_snapshot(&snapshot, &cache, None)
@@ -583,6 +582,10 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                     {
                         break None;
                     }
+                    if started.elapsed() >= PROGRESS_AFTER {
+                        // a run this slow waits on a read: it gives its turn to the others
+                        permit = None;
+                    }
                     if token.is_none() && started.elapsed() >= PROGRESS_AFTER {
                         let file = uri
                             .path_segments()
@@ -593,6 +596,7 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                 }
             }
         };
+        drop(permit);
         if let Some(token) = token {
             end_progress(&state, token).await;
         }
@@ -712,13 +716,15 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
 /// How often a waiting analysis loop looks for a newer text of its document.
 const SUPERSEDE_POLL: Duration = Duration::from_millis(25);
 
-/// At most this many analyses run at once (current and abandoned ones): opening thousands of
-/// documents at once queues their analyses instead of starting a blocking thread for each (up to
-/// tokio's 512), whose stacks and allocator heaps made most of the server's memory (10,000
-/// small documents: 515 threads). A run that waits on a slow read holds its permit until the
-/// read's time budget ends. markwell's choice, no source: a few per core of the 2-core machine
-/// it was measured on, with room for a few slow reads.
-const ANALYSES_AT_ONCE: usize = 8;
+/// At most this many analyses start and run at once: opening thousands of documents at once
+/// queues their analyses instead of starting a blocking thread for each (up to tokio's 512),
+/// whose stacks and allocator heaps made most of the server's memory (10,000 small documents:
+/// 515 threads, 636 MiB; with 4 at once 180 MiB; `tests/lsp_hostile.rs`). A run still going after
+/// [`PROGRESS_AFTER`] (one waiting on a slow read) or abandoned for a newer text gives its turn
+/// back, so slow reads never hold the others. markwell's choice, no source: two per core of the
+/// 2-core machine it was measured on (each analysing thread keeps some of its peak in its
+/// allocator heap: 8 at once cost 1.6 times the memory of 4 for 100 documents of 35 KB).
+const ANALYSES_AT_ONCE: usize = 4;
 
 /// Analyses running on the blocking pool (current and superseded ones).
 static ANALYSES_RUNNING: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);

@@ -20,10 +20,22 @@ use markwell::positions::{LineIndex, PositionEncoding};
 struct Counting;
 
 static LIVE: AtomicIsize = AtomicIsize::new(0);
+/// The highest `LIVE` seen since the last [`reset_peak`].
+static PEAK: AtomicIsize = AtomicIsize::new(0);
+
+fn note_peak() {
+    let now = LIVE.load(Ordering::Relaxed);
+    PEAK.fetch_max(now, Ordering::Relaxed);
+}
+
+fn reset_peak() {
+    PEAK.store(LIVE.load(Ordering::Relaxed), Ordering::Relaxed);
+}
 
 unsafe impl GlobalAlloc for Counting {
     unsafe fn alloc(&self, layout: Layout) -> *mut u8 {
         LIVE.fetch_add(layout.size() as isize, Ordering::Relaxed);
+        note_peak();
         // SAFETY: forwarded unchanged to mimalloc
         unsafe { mimalloc::MiMalloc.alloc(layout) }
     }
@@ -64,11 +76,18 @@ fn quay_spec(layers: usize) -> String {
     text
 }
 
-/// Live bytes `build` leaves behind, with what it built (kept alive by the caller).
+/// Live bytes `build` leaves behind, with what it built (kept alive by the caller); the
+/// transient peak above the start is printed when it is more than twice what is kept.
 fn kept<T>(build: impl FnOnce() -> T) -> (T, isize) {
     let before = live();
+    reset_peak();
     let value = build();
-    (value, live() - before)
+    let kept = live() - before;
+    let peak = PEAK.load(Ordering::Relaxed) - before;
+    if peak > 2 * kept.max(1) && peak > 100_000 {
+        println!("  (while building the next: a transient peak of {peak} bytes)");
+    }
+    (value, kept)
 }
 
 fn measure(text: String, layers: usize) {
