@@ -41,6 +41,15 @@ pub const MAX_NESTING_DEPTH: usize = 256;
 /// The input is a `&str`, so it is valid UTF-8: front ends replace invalid UTF-8 by U+FFFD
 /// (`String::from_utf8_lossy`) before parsing and report the invalid bytes themselves.
 pub fn parse(text: &str) -> SyntaxTree {
+    parse_shared(Arc::from(text))
+}
+
+/// [`parse`] keeping `text` itself in the tree (no copy: the server shares one text between
+/// its line index and the tree).
+pub fn parse_shared(shared: Arc<str>) -> SyntaxTree {
+    // the builder owns one handle; the lexer and parser borrow through the other
+    let borrowed = shared.clone();
+    let text: &str = &borrowed;
     let mut lexer = Lexer::new(text);
     let current = lexer.next_token();
     let mut parser = Parser {
@@ -48,7 +57,7 @@ pub fn parse(text: &str) -> SyntaxTree {
         lexer,
         current,
         lookahead: VecDeque::new(),
-        builder: TreeBuilder::new(Arc::from(text)),
+        builder: TreeBuilder::new(shared),
         last_significant_end: 0,
         depth: 0,
         open_objects: 0,
