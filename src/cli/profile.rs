@@ -148,7 +148,6 @@ fn run_buffered(
         return Ok(2);
     }
     let limits = args.budgets.apply(crate::data::ProfileLimits::default());
-    let cache = ProfileCache::new();
     let read = ReadOptions {
         format: args.data_format.map(DataFormatArgument::format),
         delimiter: args.delimiter,
@@ -197,6 +196,9 @@ fn run_buffered(
             }
             true
         };
+        // a cache of its own for each file: a profile is dropped once printed, so several wide
+        // files never sit in memory together
+        let cache = ProfileCache::new();
         let result = if args.sample {
             cache.sample_profile_within(&path, &read, &limits)
         } else {
