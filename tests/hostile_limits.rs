@@ -430,6 +430,82 @@ fn the_time_budget_is_set_in_markwell_toml_or_on_the_command_line() {
     assert!(run.stderr.contains("above 0"), "{}", run.stderr);
 }
 
+/// Evaluating a chart over all of its rows has its own time budget (`evaluate-seconds`): past
+/// it, `check` warns on each layer left out and `draw` says what it did not draw. Bound: the run
+/// ends (the profile of the 3,000,000 rows, about 40 MB, is read in full within its own budget)
+/// and stays under [`PEAK_BOUND_KIB`].
+#[test]
+fn the_evaluation_time_budget_stops_a_long_evaluation_with_a_warning() {
+    let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+    let (_, mut writer) = create(dir.path(), "crossings.csv");
+    writeln!(writer, "route,passengers").unwrap_or_else(|error| panic!("{error}"));
+    let routes = ["Harbour", "Islet", "Point", "Quay", "Skerry"];
+    for row in 0..3_000_000usize {
+        writeln!(writer, "{},{}", routes[row % 5], 10 + row % 97)
+            .unwrap_or_else(|error| panic!("{error}"));
+    }
+    finish(writer);
+    std::fs::create_dir(dir.path().join(".git")).unwrap_or_else(|error| panic!("{error}"));
+    std::fs::write(
+        dir.path().join("crossings.chart.json"),
+        r#"{ "source": { "path": "crossings.csv" }, "layers": [
+  { "mark": "bar", "bind": { "x": "route", "y": { "column": "passengers", "summary": "sum" } } },
+  { "mark": "point", "bind": { "x": "route", "y": "passengers" } } ] }"#,
+    )
+    .unwrap_or_else(|error| panic!("{error}"));
+
+    let run = run_measured(
+        &["check", "--evaluate-seconds", "0.2", "crossings.chart.json"],
+        dir.path(),
+    );
+    assert_within_bound(&run, "check with a 0.2 s evaluation budget");
+    let output = format!("{}{}", run.stdout, run.stderr);
+    assert_eq!(
+        output.matches("evaluation-timed-out").count(),
+        2,
+        "one warning for each layer left out: {output}"
+    );
+    assert!(output.contains("time budget of 0.2 s"), "{output}");
+    // a warning: the run passes under the default `--fail-on error`
+    assert_eq!(run.code, Some(0), "{output}");
+
+    // the same from markwell.toml; the command line wins over the file
+    std::fs::write(
+        dir.path().join("markwell.toml"),
+        "[data]\nevaluate-seconds = 0.2\n",
+    )
+    .unwrap_or_else(|error| panic!("{error}"));
+    let run = run_measured(&["check", "crossings.chart.json"], dir.path());
+    let output = format!("{}{}", run.stdout, run.stderr);
+    assert!(output.contains("evaluation-timed-out"), "{output}");
+    let run = run_measured(
+        &["check", "--evaluate-seconds", "600", "crossings.chart.json"],
+        dir.path(),
+    );
+    let output = format!("{}{}", run.stdout, run.stderr);
+    assert!(!output.contains("evaluation-timed-out"), "{output}");
+
+    // `draw` says what it left out, and fails
+    let run = run_measured(
+        &["draw", "-o", "pictures", "crossings.chart.json"],
+        dir.path(),
+    );
+    assert_within_bound(&run, "draw with a 0.2 s evaluation budget");
+    // nothing was drawn: exit 2, as for any spec with nothing to draw
+    assert_eq!(run.code, Some(2), "{}", run.stderr);
+    assert!(
+        run.stderr.contains("so layer 1 is not drawn") && run.stderr.contains("evaluate-seconds"),
+        "{}",
+        run.stderr
+    );
+    let run = run_measured(
+        &["draw", "--evaluate-seconds=-1", "crossings.chart.json"],
+        dir.path(),
+    );
+    assert_eq!(run.code, Some(2), "{}", run.stderr);
+    assert!(run.stderr.contains("above 0"), "{}", run.stderr);
+}
+
 /// A one-line spec of `count` unknown keys of about 100 bytes each (one finding each, with a
 /// fix): the worst case for printing positions, since every finding is on the same line.
 fn one_line_spec_with_unknown_keys(dir: &Path, name: &str, count: usize) -> String {

@@ -108,7 +108,7 @@ struct Session {
     file_config: AnalysisConfig,
     /// `[data] allow-outside-workspace` of `markwell.toml`.
     allow_outside_workspace: bool,
-    /// `[data] profile-memory-mib` and `profile-seconds` of `markwell.toml`.
+    /// `[data] profile-memory-mib`, `profile-seconds` and `evaluate-seconds` of `markwell.toml`.
     profile_limits: crate::data::ProfileLimits,
     editor_settings: EditorSettings,
     config: Arc<AnalysisConfig>,
