@@ -18,6 +18,12 @@ impl TimeBudget {
     pub const DEFAULT_PROFILE: TimeBudget = TimeBudget {
         limit: Some(Duration::from_secs(60)),
     };
+    /// The default for evaluating one chart over all of its rows: the same minute as a profile,
+    /// since the evaluation reads the same files at a similar speed (DEVELOPERS.md gives both).
+    /// Our own choice, no source.
+    pub const DEFAULT_EVALUATION: TimeBudget = TimeBudget {
+        limit: Some(Duration::from_secs(60)),
+    };
     pub const UNLIMITED: TimeBudget = TimeBudget { limit: None };
 
     pub fn seconds(seconds: f64) -> TimeBudget {

@@ -13,7 +13,7 @@ fn token_texts(text: &str) -> Vec<String> {
     tree.tokens()
         .iter()
         .filter(|token| token.kind != TokenKind::Whitespace)
-        .map(|token| text[token.range.start..token.range.end].to_string())
+        .map(|token| text[token.range().start..token.range().end].to_string())
         .collect()
 }
 

@@ -328,6 +328,21 @@ fn run_with_stdout(args: &[&str], dir: &Path, stdout: Stdio) -> (Option<i32>, St
     )
 }
 
+/// A CSV of 2,000 columns: its profile prints megabytes (far more than the output buffer), so a
+/// write fails or the pipe closes in the middle of the output, not only at the end.
+fn write_wide_csv(dir: &Path) {
+    let columns = 2_000;
+    let header: Vec<String> = (0..columns).map(|index| format!("crate{index}")).collect();
+    let mut text = header.join(",") + "\n";
+    for row in 0..3 {
+        let cells: Vec<String> = (0..columns)
+            .map(|index| ((index + row) % 7).to_string())
+            .collect();
+        text.push_str(&(cells.join(",") + "\n"));
+    }
+    write(dir, "wide.csv", &text);
+}
+
 #[test]
 fn a_closed_stdout_ends_quietly_with_the_usual_status() {
     // was: `markwell check ... | head -1` and `rules` panicked with exit code 101
@@ -343,6 +358,7 @@ fn a_closed_stdout_ends_quietly_with_the_usual_status() {
         r#"{ "mark": "bar", "bnid": {} }"#,
     );
     write(dir.path(), "d.csv", "a,b\nx,1\n");
+    write_wide_csv(dir.path());
     for (args, usual) in [
         (&["rules"][..], 0),
         (&["explain", "unknown-key"][..], 0),
@@ -350,6 +366,9 @@ fn a_closed_stdout_ends_quietly_with_the_usual_status() {
         (&["check", "wrong.chart.json"][..], 1),
         (&["check", "--format", "json", "."][..], 1),
         (&["profile", "d.csv"][..], 0),
+        (&["profile", "wide.csv"][..], 0),
+        (&["profile", "--format", "json", "wide.csv"][..], 0),
+        (&["profile", "--format", "json", "wide.csv", "d.csv"][..], 0),
     ] {
         let (code, stderr) = run_with_stdout(args, dir.path(), closed_pipe());
         assert_eq!(code, Some(usual), "{args:?}: {stderr}");
@@ -368,10 +387,14 @@ fn a_full_disk_is_exit_code_2_with_a_message() {
         "wrong.chart.json",
         r#"{ "mark": "bar", "bnid": {} }"#,
     );
+    write_wide_csv(dir.path());
     for args in [
         &["rules"][..],
         &["profile", "d.csv"][..],
         &["profile", "--format", "json", "d.csv"][..],
+        &["profile", "wide.csv"][..],
+        &["profile", "--format", "json", "wide.csv"][..],
+        &["profile", "--format", "json", "wide.csv", "d.csv"][..],
         &["check", "wrong.chart.json"][..],
     ] {
         let full = std::fs::OpenOptions::new()

@@ -693,6 +693,38 @@ fn markwell_toml_at_the_workspace_root_sets_rule_severities() {
 }
 
 #[test]
+fn an_evaluation_past_its_time_budget_is_a_warning_in_the_editor() {
+    let workspace = Workspace::new();
+    // one nanosecond: spent before the first row is read
+    std::fs::write(
+        workspace.path("markwell.toml"),
+        "[data]\nevaluate-seconds = 0.000000001\n",
+    )
+    .expect("write markwell.toml");
+    let uri = workspace.uri("crossings.chart.json");
+    let text = "{\n  \"source\": { \"path\": \"crossings.csv\" },\n  \"mark\": \"bar\",\n  \"bind\": { \"x\": \"route\", \"y\": { \"column\": \"passengers\", \"summary\": \"sum\" } }\n}\n";
+    let mut client = start();
+    client.initialize(json!({}), Some(&workspace.root_uri()));
+    client.open(&uri, text, 1);
+    let published = client.wait_for("the evaluation-timed-out warning", |m| {
+        m["method"] == "textDocument/publishDiagnostics"
+            && m["params"]["uri"] == uri.as_str()
+            && m["params"]["diagnostics"]
+                .as_array()
+                .is_some_and(|d| codes(d).contains(&"evaluation-timed-out".to_string()))
+    });
+    let diagnostics = published["params"]["diagnostics"]
+        .as_array()
+        .cloned()
+        .unwrap_or_default();
+    let warning = find_code(&diagnostics, "evaluation-timed-out");
+    // LSP DiagnosticSeverity: 2 = Warning
+    assert_eq!(warning["severity"], 2);
+    assert_eq!(warning["range"], range_of(text, "\"bar\""));
+    assert!(client.finish().success());
+}
+
+#[test]
 fn hover_on_a_channel_key_shows_the_perceived_channel_and_rankings() {
     let text = r#"{
   "columns": { "loaves": { "kind": "quantitative" } },

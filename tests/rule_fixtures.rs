@@ -3,7 +3,9 @@
 //! `.expect` file lists every diagnostic the spec must produce, one per line, as
 //! `rule-id: exact source text of the range` (an empty or absent file: no diagnostics at all).
 //! A line `    message: ...` (four spaces) under an expectation also pins its exact message.
-//! Specs read invented data from `tests/fixtures/data/`.
+//! Specs read invented data from `tests/fixtures/data/`. A spec `NAME.chart.json` may have a
+//! `NAME.toml` beside it, read as `check` reads a project's `markwell.toml`: its rules, ranking
+//! and `[data]` budgets apply to that spec.
 //!
 //! The test reports true positives, false positives and false negatives per rule and fails on
 //! any false result; it also fails when a registered rule has no hit or no near miss.
@@ -11,7 +13,8 @@
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-use markwell::analysis::{analyze_with_evaluation, parse_document, AnalysisConfig};
+use markwell::analysis::config::{parse_project_config, ProjectConfig};
+use markwell::analysis::{analyze_with_evaluation, parse_document};
 use markwell::data::{ProfileCache, ResolveOptions};
 
 fn fixtures_root() -> PathBuf {
@@ -28,32 +31,31 @@ struct Tally {
 }
 
 /// (rule, source text, message) a spec produces.
-fn actual_findings(path: &Path, cache: &ProfileCache) -> Vec<(String, String, String)> {
+fn actual_findings(
+    path: &Path,
+    cache: &ProfileCache,
+    project: &ProjectConfig,
+) -> Vec<(String, String, String)> {
     let text = std::fs::read_to_string(path).unwrap_or_default();
     let document = parse_document(&text);
     let options = ResolveOptions {
         spec_dir: path.parent().map(Path::to_path_buf).unwrap_or_default(),
         workspace_root: Some(fixtures_root()),
         allow_outside_workspace: false,
-        ..Default::default()
+        limits: project.profile_limits,
     };
     let data = cache.load_for_spec(&document.spec, &options);
     let evaluation = evaluated(&document.spec, &options);
-    analyze_with_evaluation(
-        &document,
-        &data,
-        &AnalysisConfig::default(),
-        Some(&evaluation),
-    )
-    .into_iter()
-    .map(|diagnostic| {
-        let snippet = text
-            .get(diagnostic.range.start..diagnostic.range.end)
-            .unwrap_or("<bad range>")
-            .to_string();
-        (diagnostic.rule.to_string(), snippet, diagnostic.message)
-    })
-    .collect()
+    analyze_with_evaluation(&document, &data, &project.analysis, Some(&evaluation))
+        .into_iter()
+        .map(|diagnostic| {
+            let snippet = text
+                .get(diagnostic.range.start..diagnostic.range.end)
+                .unwrap_or("<bad range>")
+                .to_string();
+            (diagnostic.rule.to_string(), snippet, diagnostic.message)
+        })
+        .collect()
 }
 
 /// (rule, source text, exact message if pinned) a spec must produce.
@@ -98,12 +100,21 @@ fn every_rule_fixture_produces_exactly_its_expected_diagnostics() {
             .collect();
         specs.sort();
         for spec in specs {
+            let config_path = spec.with_extension("").with_extension("toml");
+            let project = match std::fs::read_to_string(&config_path) {
+                Err(_) => ProjectConfig::default(),
+                Ok(text) => match parse_project_config(&text) {
+                    Ok((project, warnings)) if warnings.is_empty() => project,
+                    Ok((_, warnings)) => panic!("{}: {warnings:?}", config_path.display()),
+                    Err(error) => panic!("{}: {error}", config_path.display()),
+                },
+            };
             let name = spec
                 .file_name()
                 .map(|n| n.to_string_lossy().into_owned())
                 .unwrap_or_default();
             let expected = expected_findings(&spec);
-            let mut actual = actual_findings(&spec, &cache);
+            let mut actual = actual_findings(&spec, &cache, &project);
             let tally = tallies.entry(rule.clone()).or_default();
             if name.starts_with("hit-") {
                 tally.hit_files += 1;
@@ -191,5 +202,9 @@ fn evaluated(
     let mut open = |source: &markwell::spec::model::Source| {
         markwell::data::rows::open_rows(source, options, false)
     };
-    markwell::eval::evaluate_chart(spec, &mut open, &markwell::eval::EvalOptions::default())
+    markwell::eval::evaluate_chart(
+        spec,
+        &mut open,
+        &markwell::eval::EvalOptions::with_time(options.limits.evaluation),
+    )
 }

@@ -12,6 +12,7 @@
 //! allow-outside-workspace = false # may `source.path` leave the workspace folder?
 //! profile-memory-mib = 256        # memory budget of one profile (at least 16)
 //! profile-seconds = 60            # time budget of one profile
+//! evaluate-seconds = 60           # time budget of evaluating one chart over all its rows
 //! ```
 
 use std::collections::HashMap;
@@ -82,10 +83,11 @@ pub struct ProjectConfig {
 }
 
 /// The keys `[data]` accepts.
-const DATA_KEYS: [&str; 3] = [
+const DATA_KEYS: [&str; 4] = [
     "allow-outside-workspace",
     "profile-memory-mib",
     "profile-seconds",
+    "evaluate-seconds",
 ];
 
 /// A positive number from TOML (an integer or a float).
@@ -173,6 +175,16 @@ pub fn parse_project_config(text: &str) -> Result<(ProjectConfig, Vec<String>), 
                                     .to_string(),
                             ),
                         },
+                        ("evaluate-seconds", value) => match positive_number(value) {
+                            Some(seconds) => {
+                                config.profile_limits.evaluation =
+                                    crate::budget::TimeBudget::seconds(seconds)
+                            }
+                            None => warnings.push(
+                                "data.evaluate-seconds: expected a number of seconds above 0"
+                                    .to_string(),
+                            ),
+                        },
                         _ => warnings.push(
                             match crate::spec::suggest::closest_name(data_key, DATA_KEYS) {
                                 Some(suggestion) => format!(
@@ -231,19 +243,28 @@ mod tests {
             Some(Severity::Error)
         );
         assert!(config.allow_outside_workspace);
-        let (budgets, warnings) =
-            parse_project_config("[data]\nprofile-memory-mib = 64\nprofile-seconds = 0.5\n")
-                .unwrap_or_else(|error| panic!("{error}"));
+        let (budgets, warnings) = parse_project_config(
+            "[data]\nprofile-memory-mib = 64\nprofile-seconds = 0.5\nevaluate-seconds = 2\n",
+        )
+        .unwrap_or_else(|error| panic!("{error}"));
         assert!(warnings.is_empty(), "{warnings:?}");
         assert_eq!(budgets.profile_limits.memory.bytes, 64 << 20);
         assert_eq!(
             budgets.profile_limits.time,
             crate::budget::TimeBudget::seconds(0.5)
         );
-        let (_, warnings) =
-            parse_project_config("[data]\nprofile-memory-mib = 2\nprofile-seconds = -1\n")
-                .unwrap_or_else(|error| panic!("{error}"));
-        assert_eq!(warnings.len(), 2, "{warnings:?}");
+        assert_eq!(
+            budgets.profile_limits.evaluation,
+            crate::budget::TimeBudget::seconds(2.0)
+        );
+        let (_, warnings) = parse_project_config(
+            "[data]\nprofile-memory-mib = 2\nprofile-seconds = -1\nevaluate-seconds = \"soon\"\n",
+        )
+        .unwrap_or_else(|error| panic!("{error}"));
+        assert_eq!(warnings.len(), 3, "{warnings:?}");
+        assert!(warnings
+            .iter()
+            .any(|w| w.starts_with("data.evaluate-seconds")));
     }
 
     #[test]

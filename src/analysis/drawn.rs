@@ -396,6 +396,8 @@ pub(crate) mod testing {
             layers,
             is_sample: false,
             notes: Vec::new(),
+            timed_out: Vec::new(),
+            time_budget: crate::budget::TimeBudget::DEFAULT_EVALUATION,
         }
     }
 }

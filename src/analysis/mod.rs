@@ -39,7 +39,12 @@ pub struct ParsedDocument {
 
 /// Parse and lower `text`. Never fails.
 pub fn parse_document(text: &str) -> ParsedDocument {
-    let tree = crate::syntax::parse(text);
+    parse_shared_document(std::sync::Arc::from(text))
+}
+
+/// [`parse_document`] keeping `text` itself in the tree, without a copy.
+pub fn parse_shared_document(text: std::sync::Arc<str>) -> ParsedDocument {
+    let tree = crate::syntax::parse_shared(text);
     let errors = tree.errors();
     let mut diagnostics: Vec<Diagnostic> = errors
         .iter()

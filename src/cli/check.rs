@@ -56,6 +56,37 @@ pub struct CheckArgs {
     pub config: Option<PathBuf>,
     #[command(flatten)]
     pub budgets: super::profile::ProfileBudgetArgs,
+    #[command(flatten)]
+    pub evaluation_budget: EvaluateBudgetArgs,
+}
+
+/// The time budget of evaluating one chart on the command line (over `[data]` of
+/// `markwell.toml`), for `check` and `draw`.
+#[derive(clap::Args, Debug, Clone, Default)]
+pub struct EvaluateBudgetArgs {
+    /// Time budget of evaluating one chart over all of its rows, in seconds (default 60).
+    #[arg(long, value_name = "SECONDS")]
+    pub evaluate_seconds: Option<f64>,
+}
+
+impl EvaluateBudgetArgs {
+    /// `limits` with the command line's evaluation budget laid over it.
+    pub fn apply(&self, mut limits: crate::data::ProfileLimits) -> crate::data::ProfileLimits {
+        if let Some(seconds) = self.evaluate_seconds {
+            limits.evaluation = crate::budget::TimeBudget::seconds(seconds);
+        }
+        limits
+    }
+
+    /// A message when the setting is out of range.
+    pub fn problem(&self) -> Option<String> {
+        match self.evaluate_seconds {
+            Some(seconds) if !(seconds.is_finite() && seconds > 0.0) => Some(format!(
+                "`--evaluate-seconds {seconds}`: expected a number of seconds above 0"
+            )),
+            _ => None,
+        }
+    }
 }
 
 /// Extensions of data files (given to `check` by mistake).
@@ -118,7 +149,10 @@ impl Checker<'_> {
             workspace_root: Some(workspace_root.to_path_buf()),
             allow_outside_workspace: self.args.allow_outside_workspace
                 || project.allow_outside_workspace,
-            limits: self.args.budgets.apply(project.profile_limits),
+            limits: self
+                .args
+                .evaluation_budget
+                .apply(self.args.budgets.apply(project.profile_limits)),
         };
         let data = self.cache.load_for_spec(&document.spec, &options);
         let evaluation = evaluate_exactly(&document.spec, &options);
@@ -152,13 +186,21 @@ pub fn evaluate_exactly(
     let mut open =
         |source: &crate::spec::model::Source| crate::data::rows::open_rows(source, options, false);
     std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-        crate::eval::evaluate_chart(spec, &mut open, &crate::eval::EvalOptions::default())
+        crate::eval::evaluate_chart(
+            spec,
+            &mut open,
+            &crate::eval::EvalOptions::with_time(options.limits.evaluation),
+        )
     }))
     .ok()
 }
 
 pub fn run(args: &CheckArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Result<u8> {
-    if let Some(problem) = args.budgets.problem() {
+    if let Some(problem) = args
+        .budgets
+        .problem()
+        .or_else(|| args.evaluation_budget.problem())
+    {
         writeln!(err, "markwell: {problem}")?;
         return Ok(EXIT_TROUBLE);
     }

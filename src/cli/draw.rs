@@ -61,6 +61,8 @@ pub struct DrawArgs {
     /// Allow `source.path` to point outside the workspace.
     #[arg(long)]
     pub allow_outside_workspace: bool,
+    #[command(flatten)]
+    pub evaluation_budget: super::check::EvaluateBudgetArgs,
 }
 
 /// Scans of at least this many specs report progress on stderr, at most once per interval.
@@ -102,6 +104,10 @@ pub fn run(args: &DrawArgs, out: &mut dyn Write, err: &mut dyn Write) -> io::Res
             "markwell: `--scale {}`: give a number above 0 and at most {MAX_SCALE}",
             args.scale
         )?;
+        return Ok(EXIT_TROUBLE);
+    }
+    if let Some(problem) = args.evaluation_budget.problem() {
+        writeln!(err, "markwell: {problem}")?;
         return Ok(EXIT_TROUBLE);
     }
     let out_dir = args.out.clone().unwrap_or_else(|| PathBuf::from("."));
@@ -261,10 +267,14 @@ fn draw_one(
             .unwrap_or_else(|| PathBuf::from(".")),
         workspace_root: Some(workspace_root),
         allow_outside_workspace: args.allow_outside_workspace || project.allow_outside_workspace,
-        limits: project.profile_limits,
+        limits: args.evaluation_budget.apply(project.profile_limits),
     };
     let mut open = |source: &crate::spec::model::Source| rows_for(source, &options);
-    let chart = evaluate_chart(&document.spec, &mut open, &EvalOptions::default());
+    let chart = evaluate_chart(
+        &document.spec,
+        &mut open,
+        &EvalOptions::with_time(options.limits.evaluation),
+    );
     if !errors.is_empty() {
         let first = printable(&errors[0].message);
         writeln!(

@@ -257,17 +257,33 @@ impl ReadOptions {
 ///   and so a larger stated error, when the share is small);
 /// - **columns**: at most `B / 2 / COLUMN_FIXED_BYTES` columns (104,857 by default); a wider
 ///   file is refused with a message saying how to raise the budget.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+///
+/// `evaluation` is the time budget of evaluating one chart over all of its rows
+/// (`evaluate-seconds`, `--evaluate-seconds`): it travels with the profile's budgets because
+/// both are the `[data]` settings every front end passes down with the [`ResolveOptions`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct ProfileLimits {
     pub memory: crate::budget::MemoryBudget,
     pub time: crate::budget::TimeBudget,
+    pub evaluation: crate::budget::TimeBudget,
+}
+
+impl Default for ProfileLimits {
+    fn default() -> ProfileLimits {
+        ProfileLimits {
+            memory: crate::budget::MemoryBudget::DEFAULT_PROFILE,
+            time: crate::budget::TimeBudget::DEFAULT_PROFILE,
+            evaluation: crate::budget::TimeBudget::DEFAULT_EVALUATION,
+        }
+    }
 }
 
 impl ProfileLimits {
-    /// No time limit, the default memory budget (for tests and tools).
+    /// No time limits, the default memory budget (for tests and tools).
     pub const UNTIMED: ProfileLimits = ProfileLimits {
         memory: crate::budget::MemoryBudget::DEFAULT_PROFILE,
         time: crate::budget::TimeBudget::UNLIMITED,
+        evaluation: crate::budget::TimeBudget::UNLIMITED,
     };
 
     pub fn record_bytes(&self) -> usize {

@@ -1,7 +1,11 @@
 //! Rendering a [`DataProfile`] for `markwell profile`: a text table (one row per column, then a
 //! small bar histogram per numeric column) and a JSON value with stable keys in our own words.
 
-use serde_json::{json, Value};
+use std::io::{self, Write};
+
+use serde::ser::{SerializeMap, Serializer};
+use serde::Serialize;
+use serde_json::{json, Map, Value};
 
 use super::{ColumnProfile, DataProfile, DistinctCount};
 use crate::spec::model::AttributeKind;
@@ -91,12 +95,16 @@ fn bar(count: u64, largest: u64) -> String {
     out
 }
 
-/// The profile as a readable table followed by histograms.
+/// The profile as a readable table followed by histograms, in one string (see
+/// [`write_profile_text`], which writes the same text piece by piece).
 ///
 /// Text from the data (names, values) has its control characters escaped (see
 /// [`escape_control_characters`]): a data file must not drive the terminal.
 pub fn render_profile_text(profile: &DataProfile) -> String {
-    escape_control_characters(&render_profile_text_raw(profile)).into_owned()
+    let mut bytes = Vec::new();
+    // writing into a `Vec` cannot fail
+    let _ = write_profile_text(profile, &mut bytes);
+    String::from_utf8_lossy(&bytes).into_owned()
 }
 
 /// Control characters other than line break and tab written visibly (`\x1b`, `\u{9b}`), so
@@ -127,91 +135,103 @@ pub fn escape_control_characters(text: &str) -> std::borrow::Cow<'_, str> {
     std::borrow::Cow::Owned(out)
 }
 
-fn render_profile_text_raw(profile: &DataProfile) -> String {
-    let headings = [
-        "column",
-        "kind",
-        "rows",
-        "missing",
-        "distinct",
-        "min",
-        "max",
-        "mean / top values",
-    ];
-    let rows: Vec<[String; 8]> = profile
-        .columns
-        .iter()
-        .map(|column| {
-            let (min, max) = min_max_cells(column);
-            [
-                shorten(&column.name, 28),
-                column.kind.as_str().to_string(),
-                column.rows.to_string(),
-                column.missing.to_string(),
-                format_distinct(&column.distinct),
-                min,
-                max,
-                summary_cell(column),
-            ]
-        })
-        .collect();
-    let mut widths: Vec<usize> = headings
+/// `text` written with its control characters escaped. Escaping goes character by character,
+/// so escaping each piece gives the same bytes as escaping the whole text at once.
+fn write_escaped(out: &mut dyn Write, text: &str) -> io::Result<()> {
+    out.write_all(escape_control_characters(text).as_bytes())
+}
+
+const TABLE_HEADINGS: [&str; 8] = [
+    "column",
+    "kind",
+    "rows",
+    "missing",
+    "distinct",
+    "min",
+    "max",
+    "mean / top values",
+];
+
+/// The cells of one column's row of the table, before escaping.
+fn table_cells(column: &ColumnProfile) -> [String; 8] {
+    let (min, max) = min_max_cells(column);
+    [
+        shorten(&column.name, 28),
+        column.kind.as_str().to_string(),
+        column.rows.to_string(),
+        column.missing.to_string(),
+        format_distinct(&column.distinct),
+        min,
+        max,
+        summary_cell(column),
+    ]
+}
+
+/// One line of the table: cells padded to `widths` (counts, missing and distinct right-aligned),
+/// two spaces apart, trailing spaces dropped, before escaping.
+fn table_line(cells: &[&str], widths: &[usize]) -> String {
+    let mut text = String::new();
+    for (index, (cell, width)) in cells.iter().zip(widths.iter()).enumerate() {
+        let padding = width.saturating_sub(cell.chars().count());
+        let right_aligned = (2..=4).contains(&index);
+        if right_aligned {
+            text.push_str(&" ".repeat(padding));
+            text.push_str(cell);
+        } else {
+            text.push_str(cell);
+            if index + 1 < cells.len() {
+                text.push_str(&" ".repeat(padding));
+            }
+        }
+        if index + 1 < cells.len() {
+            text.push_str("  ");
+        }
+    }
+    text.trim_end().to_string() + "\n"
+}
+
+/// The profile as a readable table followed by histograms, written to `out` line by line (the
+/// same text as [`render_profile_text`], with control characters escaped).
+///
+/// Memory: one line at a time, never the whole text. The column widths need every row, so the
+/// cells are computed twice: once to measure them, once to write them. `out` should be
+/// buffered: this makes many small writes.
+pub fn write_profile_text(profile: &DataProfile, out: &mut dyn Write) -> io::Result<()> {
+    let mut widths: Vec<usize> = TABLE_HEADINGS
         .iter()
         .map(|heading| heading.chars().count())
         .collect();
-    for row in &rows {
-        for (width, cell) in widths.iter_mut().zip(row.iter()) {
+    for column in &profile.columns {
+        for (width, cell) in widths.iter_mut().zip(table_cells(column).iter()) {
             *width = (*width).max(cell.chars().count());
         }
     }
-    let mut out = String::new();
     let source = profile.path.as_ref().map_or_else(
         || "inline rows".to_string(),
         |path| path.display().to_string(),
     );
-    out.push_str(&format!(
-        "{source}: {} rows, {} columns ({}){}\n\n",
-        profile.rows,
-        profile.columns.len(),
-        profile.format.as_str(),
-        if profile.is_sample {
-            ", from a sample of the first rows"
-        } else {
-            ""
-        }
-    ));
-    let line = |cells: Vec<&str>| -> String {
-        let mut text = String::new();
-        for (index, (cell, width)) in cells.iter().zip(widths.iter()).enumerate() {
-            let padding = width.saturating_sub(cell.chars().count());
-            let right_aligned = (2..=4).contains(&index);
-            if right_aligned {
-                text.push_str(&" ".repeat(padding));
-                text.push_str(cell);
+    write_escaped(
+        out,
+        &format!(
+            "{source}: {} rows, {} columns ({}){}\n\n",
+            profile.rows,
+            profile.columns.len(),
+            profile.format.as_str(),
+            if profile.is_sample {
+                ", from a sample of the first rows"
             } else {
-                text.push_str(cell);
-                if index + 1 < cells.len() {
-                    text.push_str(&" ".repeat(padding));
-                }
+                ""
             }
-            if index + 1 < cells.len() {
-                text.push_str("  ");
-            }
-        }
-        text.trim_end().to_string() + "\n"
-    };
-    out.push_str(&line(headings.to_vec()));
-    out.push_str(&line(
-        widths
-            .iter()
-            .map(|width| "-".repeat(*width))
-            .collect::<Vec<_>>()
-            .iter()
-            .map(String::as_str)
-            .collect(),
-    ));
-    for row in &rows {
-        out.push_str(&line(row.iter().map(String::as_str).collect()));
+        ),
+    )?;
+    write_escaped(out, &table_line(&TABLE_HEADINGS, &widths))?;
+    let dashes: Vec<String> = widths.iter().map(|width| "-".repeat(*width)).collect();
+    let dashes: Vec<&str> = dashes.iter().map(String::as_str).collect();
+    write_escaped(out, &table_line(&dashes, &widths))?;
+    for column in &profile.columns {
+        let cells = table_cells(column);
+        let cells: Vec<&str> = cells.iter().map(String::as_str).collect();
+        write_escaped(out, &table_line(&cells, &widths))?;
     }
     for column in &profile.columns {
         let Some(numeric) = &column.numeric else {
@@ -220,7 +240,7 @@ fn render_profile_text_raw(profile: &DataProfile) -> String {
         if column.kind != AttributeKind::Quantitative || numeric.histogram.is_empty() {
             continue;
         }
-        out.push_str(&format!("\n{}\n", column.name));
+        write_escaped(out, &format!("\n{}\n", column.name))?;
         let bins = numeric.histogram.len();
         let width = (numeric.max - numeric.min) / bins as f64;
         let largest = numeric.histogram.iter().copied().max().unwrap_or(0);
@@ -242,23 +262,28 @@ fn render_profile_text_raw(profile: &DataProfile) -> String {
             .max()
             .unwrap_or(0);
         for (label, &count) in labels.iter().zip(numeric.histogram.iter()) {
-            out.push_str(&format!(
-                "  {label:>label_width$} │{:<bar_width$} {count}\n",
-                bar(count, largest),
-                bar_width = BAR_WIDTH
-            ));
+            write_escaped(
+                out,
+                &format!(
+                    "  {label:>label_width$} │{:<bar_width$} {count}\n",
+                    bar(count, largest),
+                    bar_width = BAR_WIDTH
+                ),
+            )?;
         }
     }
     if !profile.problems.is_empty() {
-        out.push_str("\nproblems\n");
+        write_escaped(out, "\nproblems\n")?;
         for problem in &profile.problems {
             match problem.line {
-                Some(line) => out.push_str(&format!("  line {}: {}\n", line + 1, problem.message)),
-                None => out.push_str(&format!("  {}\n", problem.message)),
+                Some(line) => {
+                    write_escaped(out, &format!("  line {}: {}\n", line + 1, problem.message))?
+                }
+                None => write_escaped(out, &format!("  {}\n", problem.message))?,
             }
         }
     }
-    out
+    Ok(())
 }
 
 fn value_counts(values: &[(String, u64)]) -> Value {
@@ -304,20 +329,119 @@ fn column_json(column: &ColumnProfile) -> Value {
     })
 }
 
-/// The profile as JSON (keys are ours and stable).
-pub fn render_profile_json(profile: &DataProfile) -> Value {
-    json!({
+/// The keys of the profile's JSON with `columns` left as a placeholder (`null`) in its place, so
+/// that the whole value ([`render_profile_json`]) and the streamed form ([`write_profile_json`])
+/// share every key, value and the order of the keys.
+fn profile_json_without_columns(profile: &DataProfile) -> Map<String, Value> {
+    let value = json!({
         "file": profile.path.as_ref().map(|path| path.display().to_string()),
         "format": profile.format.as_str(),
         "rows": profile.rows,
         "sampled": profile.is_sample,
-        "columns": profile.columns.iter().map(column_json).collect::<Vec<_>>(),
+        "columns": Value::Null,
         "problems": profile.problems.iter().map(|problem| json!({
             "message": problem.message,
             "line": problem.line,
             "byte_offset": problem.byte_offset,
         })).collect::<Vec<_>>(),
-    })
+    });
+    match value {
+        Value::Object(map) => map,
+        _ => Map::new(),
+    }
+}
+
+/// The profile as one JSON value (keys are ours and stable). It holds the whole output (about
+/// 10 KB a column): to print a profile use [`write_profile_json`], which writes the same JSON
+/// one column at a time.
+pub fn render_profile_json(profile: &DataProfile) -> Value {
+    let mut map = profile_json_without_columns(profile);
+    if let Some(columns) = map.get_mut("columns") {
+        *columns = Value::Array(profile.columns.iter().map(column_json).collect());
+    }
+    Value::Object(map)
+}
+
+/// The profile's JSON as serde sees it, with the columns made one at a time while they are
+/// written.
+struct StreamedProfileJson<'a> {
+    keys: Map<String, Value>,
+    columns: &'a [ColumnProfile],
+}
+
+struct StreamedColumnsJson<'a>(&'a [ColumnProfile]);
+
+impl Serialize for StreamedColumnsJson<'_> {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_seq(self.0.iter().map(column_json))
+    }
+}
+
+impl Serialize for StreamedProfileJson<'_> {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        let mut map = serializer.serialize_map(Some(self.keys.len()))?;
+        for (key, value) in &self.keys {
+            if key == "columns" {
+                map.serialize_entry(key, &StreamedColumnsJson(self.columns))?;
+            } else {
+                map.serialize_entry(key, value)?;
+            }
+        }
+        map.end()
+    }
+}
+
+/// A writer that puts `indent` after every line break, so that pretty JSON written at the top
+/// level reads as if nested that deep. Sound because pretty JSON breaks lines only between
+/// tokens: a line break inside a string is always escaped.
+struct IndentAfterLineBreaks<'a> {
+    inner: &'a mut dyn Write,
+    indent: String,
+}
+
+impl Write for IndentAfterLineBreaks<'_> {
+    fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
+        let mut rest = buf;
+        while let Some(position) = rest.iter().position(|&byte| byte == b'\n') {
+            self.inner.write_all(&rest[..=position])?;
+            self.inner.write_all(self.indent.as_bytes())?;
+            rest = &rest[position + 1..];
+        }
+        self.inner.write_all(rest)?;
+        Ok(buf.len())
+    }
+
+    fn flush(&mut self) -> io::Result<()> {
+        self.inner.flush()
+    }
+}
+
+/// The profile as pretty JSON (two-space indent), written to `out` one column at a time: the
+/// same bytes as `serde_json::to_string_pretty(&render_profile_json(profile))`, as they read
+/// nested `depth` levels deep in pretty JSON (every line after the first indented by two spaces
+/// per level), without a final line break.
+///
+/// Memory: one column's JSON value at a time (about 10 KB), besides the profile. `out` should
+/// be buffered: serde writes many small pieces. Write errors are returned as they are.
+pub fn write_profile_json(
+    profile: &DataProfile,
+    depth: usize,
+    out: &mut dyn Write,
+) -> io::Result<()> {
+    let streamed = StreamedProfileJson {
+        keys: profile_json_without_columns(profile),
+        columns: &profile.columns,
+    };
+    let written = if depth == 0 {
+        serde_json::to_writer_pretty(out, &streamed)
+    } else {
+        let mut indented = IndentAfterLineBreaks {
+            inner: out,
+            indent: "  ".repeat(depth),
+        };
+        serde_json::to_writer_pretty(&mut indented, &streamed)
+    };
+    written.map_err(io::Error::from)
 }
 
 #[cfg(test)]

@@ -107,6 +107,8 @@ pub(super) struct ChartState<'s> {
     panel_ids: HashMap<Arc<str>, u32>,
     pub notes: Vec<EvalNote>,
     pub is_sample: bool,
+    /// Layers left out because the time budget ran out.
+    pub timed_out: Vec<usize>,
 }
 
 impl<'s> ChartState<'s> {
@@ -123,6 +125,7 @@ impl<'s> ChartState<'s> {
             panel_ids: HashMap::new(),
             notes: Vec::new(),
             is_sample: false,
+            timed_out: Vec::new(),
         }
     }
 
@@ -542,13 +545,7 @@ pub(super) fn evaluate_layer(
     let mut rows = match open_rows(source) {
         Ok(rows) => rows,
         Err(error) => {
-            state.note(
-                Some(number),
-                format!(
-                    "the data of layer {} could not be read ({error}), so it is not drawn",
-                    number + 1
-                ),
-            );
+            read_error(state, number, &error);
             return None;
         }
     };
@@ -681,13 +678,7 @@ pub(super) fn evaluate_layer(
             !binned_slots.is_empty() || seen < KIND_PROBE_ROWS
         });
         if let Err(error) = scanned {
-            state.note(
-                Some(number),
-                format!(
-                    "the data of layer {} could not be read ({error}), so it is not drawn",
-                    number + 1
-                ),
-            );
+            read_error(state, number, &error);
             return None;
         }
         if needs_probe {
@@ -820,6 +811,19 @@ pub(super) fn evaluate_layer(
 }
 
 fn read_error(state: &mut ChartState<'_>, layer: usize, error: &crate::data::DataError) {
+    if error.kind == crate::data::DataErrorKind::TimedOut {
+        if !state.timed_out.contains(&layer) {
+            state.timed_out.push(layer);
+        }
+        state.note(
+            Some(layer),
+            format!(
+                "{error}, so layer {} is not drawn; `evaluate-seconds` under `[data]` in markwell.toml (or `--evaluate-seconds`) raises the budget",
+                layer + 1
+            ),
+        );
+        return;
+    }
     state.note(
         Some(layer),
         format!(

@@ -17,7 +17,8 @@ pub mod summary;
 
 pub use model::*;
 
-use crate::data::DataError;
+use crate::budget::{Deadline, TimeBudget};
+use crate::data::{DataError, DataErrorKind};
 use crate::spec::model::{ChartSpec, Source};
 
 /// Limits of one evaluation.
@@ -28,6 +29,10 @@ pub struct EvalOptions {
     /// Marks kept for layers that draw one mark per row (points, text); past it the layer is
     /// drawn as a `DensityGrid`.
     pub max_kept_marks: usize,
+    /// How long the whole chart's evaluation may take (`evaluate-seconds` under `[data]`).
+    /// Past it, the layer being read and every later one are left out and named in
+    /// [`EvaluatedChart::timed_out`].
+    pub time: TimeBudget,
 }
 
 impl Default for EvalOptions {
@@ -35,9 +40,25 @@ impl Default for EvalOptions {
         EvalOptions {
             exact_quantile_budget_bytes: 64 << 20,
             max_kept_marks: 100_000,
+            time: TimeBudget::DEFAULT_EVALUATION,
         }
     }
 }
+
+impl EvalOptions {
+    /// The defaults with the time budget the `[data]` settings give.
+    pub fn with_time(time: TimeBudget) -> EvalOptions {
+        EvalOptions {
+            time,
+            ..EvalOptions::default()
+        }
+    }
+}
+
+/// Rows read between two looks at the clock: a look is one clock read, so this costs nothing
+/// measurable, and at the scan's speed (hundreds of MB/s) it is well under a millisecond of
+/// reading. markwell's choice, no source.
+pub const ROWS_BETWEEN_CLOCK_CHECKS: u64 = 4_096;
 
 pub use crate::data::rows::RowSource;
 
@@ -53,9 +74,15 @@ pub fn evaluate_chart(
     options: &EvalOptions,
 ) -> EvaluatedChart {
     let mut state = layer::ChartState::new(spec, options);
+    let deadline = options.time.start();
+    // every source is read within the chart's one deadline
+    let mut timed_open = |source: &Source| -> Result<Box<dyn RowSource + Send + '_>, DataError> {
+        let inner = open_rows(source)?;
+        Ok(Box::new(WithinDeadline { inner, deadline }))
+    };
     let mut layers = Vec::new();
     for spec_layer in &spec.layers {
-        if let Some(evaluated) = layer::evaluate_layer(&mut state, spec_layer, open_rows) {
+        if let Some(evaluated) = layer::evaluate_layer(&mut state, spec_layer, &mut timed_open) {
             layers.push(evaluated);
         }
     }
@@ -119,6 +146,61 @@ pub fn evaluate_chart(
         layers,
         is_sample: state.is_sample,
         notes: state.notes,
+        timed_out: state.timed_out,
+        time_budget: options.time,
+    }
+}
+
+/// The error a scan gives when the evaluation's time budget ran out.
+pub fn timed_out_error(budget: TimeBudget) -> DataError {
+    DataError {
+        kind: DataErrorKind::TimedOut,
+        message: format!(
+            "evaluating the chart took longer than its time budget of {}",
+            budget.describe()
+        ),
+        path: None,
+        line: None,
+        byte_offset: None,
+    }
+}
+
+/// Rows that stop being delivered once the evaluation's deadline has passed (looked at before
+/// the first row and then every [`ROWS_BETWEEN_CLOCK_CHECKS`] rows).
+struct WithinDeadline<'a> {
+    inner: Box<dyn RowSource + Send + 'a>,
+    deadline: Deadline,
+}
+
+impl RowSource for WithinDeadline<'_> {
+    fn column_names(&self) -> Vec<String> {
+        self.inner.column_names()
+    }
+
+    fn scan(
+        &mut self,
+        wanted: &[usize],
+        row: &mut dyn FnMut(&[Option<&str>]) -> bool,
+    ) -> Result<(), DataError> {
+        let deadline = self.deadline;
+        let mut read: u64 = 0;
+        let mut passed = false;
+        let outcome = self.inner.scan(wanted, &mut |cells| {
+            if read % ROWS_BETWEEN_CLOCK_CHECKS == 0 && deadline.passed() {
+                passed = true;
+                return false;
+            }
+            read += 1;
+            row(cells)
+        });
+        if passed {
+            return Err(timed_out_error(deadline.budget()));
+        }
+        outcome
+    }
+
+    fn is_sample(&self) -> bool {
+        self.inner.is_sample()
     }
 }
 

@@ -162,4 +162,9 @@ pub struct EvaluatedChart {
     /// Evaluated from the sampled head of the data (the exact evaluation comes later).
     pub is_sample: bool,
     pub notes: Vec<EvalNote>,
+    /// Layers (their index in the spec) left out because the time budget ran out while they
+    /// were read; also named in `notes`.
+    pub timed_out: Vec<usize>,
+    /// The time budget the evaluation had, for messages.
+    pub time_budget: crate::budget::TimeBudget,
 }

@@ -615,3 +615,79 @@ fn a_chart_from_a_sampled_head_says_so() {
     assert!(chart.is_sample);
     assert!(!evaluate(&bar_of("sum")).is_sample);
 }
+
+/// Rows without end (a stand-in for a file too big to read within the budget), counted.
+struct EndlessRows {
+    read: std::sync::Arc<std::sync::atomic::AtomicU64>,
+}
+
+impl RowSource for EndlessRows {
+    fn column_names(&self) -> Vec<String> {
+        vec!["route".to_string(), "passengers".to_string()]
+    }
+
+    fn scan(
+        &mut self,
+        _wanted: &[usize],
+        row: &mut dyn FnMut(&[Option<&str>]) -> bool,
+    ) -> Result<(), DataError> {
+        let routes = ["Harbour", "Islet", "Point"];
+        let mut index = 0usize;
+        loop {
+            self.read.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+            if !row(&[Some(routes[index % 3]), Some("12")]) {
+                return Ok(());
+            }
+            index += 1;
+        }
+    }
+}
+
+#[test]
+fn the_time_budget_stops_an_endless_source_and_names_every_layer_left_out() {
+    let text = r#"{ "source": { "path": "crossings.csv" }, "layers": [
+        { "mark": "bar", "bind": { "x": "route", "y": { "column": "passengers", "summary": "sum" } } },
+        { "mark": "point", "bind": { "x": "route", "y": "passengers" } } ] }"#;
+    let spec = spec_of(text);
+    let read = std::sync::Arc::new(std::sync::atomic::AtomicU64::new(0));
+    let counter = read.clone();
+    let mut open = move |_: &Source| -> Result<Box<dyn RowSource + Send>, DataError> {
+        Ok(Box::new(EndlessRows {
+            read: counter.clone(),
+        }))
+    };
+    let options = EvalOptions::with_time(TimeBudget::seconds(0.05));
+    let started = std::time::Instant::now();
+    let chart = evaluate_chart(&spec, &mut open, &options);
+    // the budget is looked at every 4,096 rows: it stops soon after 50 ms (generous bound for a
+    // loaded machine; the point is that it stops at all)
+    assert!(started.elapsed() < std::time::Duration::from_secs(20));
+    assert!(read.load(std::sync::atomic::Ordering::Relaxed) > 0);
+    assert!(chart.layers.is_empty(), "{:?}", chart.layers.len());
+    assert_eq!(chart.timed_out, vec![0, 1]);
+    assert_eq!(chart.time_budget, TimeBudget::seconds(0.05));
+    assert_eq!(chart.notes.len(), 2, "{:?}", chart.notes);
+    assert!(
+        chart.notes[0].message.contains("time budget of 0.05 s")
+            && chart.notes[0].message.contains("evaluate-seconds"),
+        "{}",
+        chart.notes[0].message
+    );
+}
+
+#[test]
+fn within_the_budget_nothing_is_left_out() {
+    let chart = evaluate_with(
+        &bar_of("sum"),
+        &EvalOptions::with_time(TimeBudget::seconds(600.0)),
+    );
+    assert!(chart.timed_out.is_empty());
+    assert_eq!(chart.layers.len(), 1);
+    // a budget already spent leaves the layer out before its first row
+    let spent = evaluate_with(
+        &bar_of("sum"),
+        &EvalOptions::with_time(TimeBudget::seconds(0.0)),
+    );
+    assert_eq!(spent.timed_out, vec![0]);
+    assert!(spent.layers.is_empty());
+}

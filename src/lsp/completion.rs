@@ -185,7 +185,7 @@ fn cursor_context(document: &ParsedDocument, offset: usize) -> Option<CursorCont
 fn value_after_colon(object: Node<'_>, offset: usize) -> Option<CursorContext<'_>> {
     let tree = object.tree();
     let tokens = tree.tokens();
-    let before = tokens.partition_point(|token| token.range.end <= offset);
+    let before = tokens.partition_point(|token| token.range().end <= offset);
     let previous = tokens[..before]
         .iter()
         .rev()
@@ -195,7 +195,7 @@ fn value_after_colon(object: Node<'_>, offset: usize) -> Option<CursorContext<'_
     }
     let member = object
         .members()
-        .find(|member| member.range().contains_range(previous.range))?;
+        .find(|member| member.range().contains_range(previous.range()))?;
     if member.value().is_some() {
         return None;
     }

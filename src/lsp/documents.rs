@@ -50,6 +50,8 @@ pub struct AnalysisOutcome {
     /// What the chart draws, as the rules saw it (over the sampled head until the exact
     /// evaluation arrives); `None` when it was not evaluated.
     pub evaluation: Option<Arc<crate::eval::EvaluatedChart>>,
+    /// The sampled evaluation the next analysis may reuse (see `evaluation_cache`).
+    pub kept_evaluation: Option<Arc<crate::lsp::evaluation_cache::CachedEvaluation>>,
 }
 
 #[derive(Debug)]

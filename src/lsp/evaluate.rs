@@ -56,7 +56,11 @@ fn evaluate_with(
         })
     };
     catch_unwind(AssertUnwindSafe(|| {
-        evaluate_chart(spec, &mut open, &EvalOptions::default())
+        evaluate_chart(
+            spec,
+            &mut open,
+            &EvalOptions::with_time(resolve.limits.evaluation),
+        )
     }))
     .ok()
 }

@@ -12,6 +12,7 @@ pub mod completion;
 pub mod convert;
 pub mod documents;
 pub mod evaluate;
+pub mod evaluation_cache;
 pub mod features;
 pub mod framing;
 pub mod log;

@@ -41,6 +41,7 @@ use crate::eval::EvaluatedChart;
 use crate::lsp::completion;
 use crate::lsp::convert::{self, from_lsp_position, to_lsp_range};
 use crate::lsp::documents::{next_generation, AnalysisOutcome, OpenDocument, TextChange};
+use crate::lsp::evaluation_cache::{sampled_evaluation, CachedEvaluation};
 use crate::lsp::features;
 use crate::lsp::log;
 use crate::lsp::settings::{merge_settings, parse_editor_settings, EditorSettings};
@@ -108,7 +109,7 @@ struct Session {
     file_config: AnalysisConfig,
     /// `[data] allow-outside-workspace` of `markwell.toml`.
     allow_outside_workspace: bool,
-    /// `[data] profile-memory-mib` and `profile-seconds` of `markwell.toml`.
+    /// `[data] profile-memory-mib`, `profile-seconds` and `evaluate-seconds` of `markwell.toml`.
     profile_limits: crate::data::ProfileLimits,
     editor_settings: EditorSettings,
     config: Arc<AnalysisConfig>,
@@ -124,8 +125,8 @@ struct DocumentRecord {
     /// Set when an analysis is asked for while the loop runs for a reason other than new text
     /// (settings, data files): the loop then runs once more before it ends.
     rerun_requested: bool,
-    /// The diagnostics last published, to avoid republishing an unchanged set.
-    published: Option<Vec<lsp::Diagnostic>>,
+    /// What was last published, to avoid republishing an unchanged set.
+    published: Option<PublishedSet>,
     /// Data files read by the latest analysis.
     data_paths: Vec<PathBuf>,
     /// The latest evaluation of one generation of the text: over the sampled head, until the
@@ -134,6 +135,30 @@ struct DocumentRecord {
     evaluation: Option<(u64, Arc<EvaluatedChart>)>,
     /// The generation whose exact evaluation is being computed, when one is.
     exact_evaluation_running: Option<u64>,
+}
+
+/// A published set of diagnostics, as a count and a 64-bit digest of its JSON (kept instead
+/// of the set itself, which took 3.7 times the text of a 35 KB spec with 400 findings; two
+/// different sets with the same digest, which would leave the older one shown, have a chance of
+/// one in 2^64).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+struct PublishedSet {
+    count: usize,
+    digest: u64,
+}
+
+impl PublishedSet {
+    fn of(diagnostics: &[lsp::Diagnostic]) -> PublishedSet {
+        use std::hash::{Hash, Hasher};
+        let mut hasher = std::collections::hash_map::DefaultHasher::new();
+        serde_json::to_string(diagnostics)
+            .unwrap_or_default()
+            .hash(&mut hasher);
+        PublishedSet {
+            count: diagnostics.len(),
+            digest: hasher.finish(),
+        }
+    }
 }
 
 /// Everything the handlers and the analysis tasks share.
@@ -152,6 +177,8 @@ pub struct ServerState {
     workspace_scanned: AtomicBool,
     /// Closed specs that were sent diagnostics (to clear them when they are fixed or opened).
     closed_published: Mutex<HashSet<lsp::Url>>,
+    /// One permit per analysis on the blocking pool ([`ANALYSES_AT_ONCE`]).
+    analysis_permits: Arc<tokio::sync::Semaphore>,
 }
 
 /// The tower-lsp `LanguageServer`.
@@ -169,6 +196,9 @@ struct Snapshot {
     config: Arc<AnalysisConfig>,
     /// The evaluation of this text, when it was computed already (sampled or exact).
     known_evaluation: Option<Arc<EvaluatedChart>>,
+    /// The latest sampled evaluation and what it was computed from (reused when only the
+    /// title, description or frame changed).
+    kept_evaluation: Option<Arc<CachedEvaluation>>,
 }
 
 fn lock<T>(mutex: &Mutex<T>) -> MutexGuard<'_, T> {
@@ -212,16 +242,26 @@ fn analyse_snapshot(
     cache: &ProfileCache,
     reuse_data: Option<Arc<DataContext>>,
 ) -> AnalysisOutcome {
-    let parsed = parse_document(snapshot.index.text());
-    let (data, evaluation) = match reuse_data {
-        Some(data) => (data, snapshot.known_evaluation.clone()),
+    // the tree shares the line index's text
+    let parsed = crate::analysis::parse_shared_document(snapshot.index.shared_text());
+    let (data, evaluation, kept_evaluation) = match reuse_data {
+        Some(data) => (
+            data,
+            snapshot.known_evaluation.clone(),
+            snapshot.kept_evaluation.clone(),
+        ),
         None => {
             let data = Arc::new(cache.load_for_spec_sampled(&parsed.spec, &snapshot.resolve));
-            let evaluation = snapshot.known_evaluation.clone().or_else(|| {
-                crate::lsp::evaluate::evaluate_sampled(&parsed.spec, &snapshot.resolve)
-                    .map(Arc::new)
-            });
-            (data, evaluation)
+            let (evaluation, kept) = match snapshot.known_evaluation.clone() {
+                Some(known) => (Some(known), snapshot.kept_evaluation.clone()),
+                None => sampled_evaluation(
+                    snapshot.kept_evaluation.as_deref(),
+                    &parsed,
+                    &snapshot.resolve,
+                    || crate::lsp::evaluate::evaluate_sampled(&parsed.spec, &snapshot.resolve),
+                ),
+            };
+            (data, evaluation, kept)
         }
     };
     let diagnostics =
@@ -236,6 +276,7 @@ fn analyse_snapshot(
         diagnostics,
         pending_full_scans,
         evaluation,
+        kept_evaluation,
     }
 }
 
@@ -301,6 +342,7 @@ impl Backend {
                 shutdown_requested,
                 next_progress_token: AtomicU64::new(1),
                 full_scans_running: Mutex::new(HashSet::new()),
+                analysis_permits: Arc::new(tokio::sync::Semaphore::new(ANALYSES_AT_ONCE)),
             }),
         }
     }
@@ -343,6 +385,11 @@ impl Backend {
                 .as_ref()
                 .filter(|(generation, _)| *generation == record.document.generation)
                 .map(|(_, evaluation)| evaluation.clone()),
+            kept_evaluation: record
+                .document
+                .latest
+                .as_ref()
+                .and_then(|latest| latest.kept_evaluation.clone()),
         }
     }
 
@@ -515,6 +562,11 @@ fn owned_record<'m>(
 /// still current. Only one loop per document runs at a time (the one whose id the record holds).
 async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
     loop {
+        // wait for a turn first, so the snapshot is the newest text when the run starts
+        let Ok(permit) = state.analysis_permits.clone().acquire_owned().await else {
+            return;
+        };
+        let mut permit = Some(permit);
         let snapshot = {
             let mut documents = lock(&state.documents);
             let Some(record) = owned_record(&mut documents, &uri, loop_id) else {
@@ -555,6 +607,10 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                     {
                         break None;
                     }
+                    if started.elapsed() >= PROGRESS_AFTER {
+                        // a run this slow waits on a read: it gives its turn to the others
+                        permit = None;
+                    }
                     if token.is_none() && started.elapsed() >= PROGRESS_AFTER {
                         let file = uri
                             .path_segments()
@@ -565,6 +621,7 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
                 }
             }
         };
+        drop(permit);
         if let Some(token) = token {
             end_progress(&state, token).await;
         }
@@ -620,10 +677,11 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
             });
             let diagnostics = published_diagnostics(&outcome, &uri, encoding);
             record.document.latest = Some(outcome);
-            let to_publish = if record.published.as_ref() == Some(&diagnostics) {
+            let published = PublishedSet::of(&diagnostics);
+            let to_publish = if record.published.as_ref() == Some(&published) {
                 None
             } else {
-                record.published = Some(diagnostics.clone());
+                record.published = Some(published);
                 Some(diagnostics)
             };
             (to_publish, full_profiles_arrived)
@@ -683,6 +741,16 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
 
 /// How often a waiting analysis loop looks for a newer text of its document.
 const SUPERSEDE_POLL: Duration = Duration::from_millis(25);
+
+/// At most this many analyses start and run at once: opening thousands of documents at once
+/// queues their analyses instead of starting a blocking thread for each (up to tokio's 512),
+/// whose stacks and allocator heaps made most of the server's memory (10,000 small documents:
+/// 515 threads, 636 MiB; with 4 at once 180 MiB; `tests/lsp_hostile.rs`). A run still going after
+/// [`PROGRESS_AFTER`] (one waiting on a slow read) or abandoned for a newer text gives its turn
+/// back, so slow reads never hold the others. markwell's choice, no source: two per core of the
+/// 2-core machine it was measured on (each analysing thread keeps some of its peak in its
+/// allocator heap: 8 at once cost 1.6 times the memory of 4 for 100 documents of 35 KB).
+const ANALYSES_AT_ONCE: usize = 4;
 
 /// Analyses running on the blocking pool (current and superseded ones).
 static ANALYSES_RUNNING: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
@@ -1205,7 +1273,7 @@ impl LanguageServer for Backend {
     async fn did_close(&self, params: lsp::DidCloseTextDocumentParams) {
         let uri = params.text_document.uri;
         let removed = lock(&self.state.documents).remove(&uri);
-        if removed.is_some_and(|record| record.published.is_some_and(|set| !set.is_empty())) {
+        if removed.is_some_and(|record| record.published.is_some_and(|set| set.count > 0)) {
             // clear what the editor shows for a closed file
             self.state
                 .client

@@ -54,6 +54,8 @@ pub fn lower_document(tree: &SyntaxTree) -> (ChartSpec, Vec<Diagnostic>) {
                 .enumerate()
                 .map(|(index, node)| lower_layer(index, node, node))
                 .collect();
+            // the server keeps the model of every open document: no growth slack
+            spec.layers.shrink_to_fit();
         }
         for conflicting in [top_level_mark, top_level_bind, root.member("arrange")]
             .into_iter()
@@ -71,6 +73,7 @@ pub fn lower_document(tree: &SyntaxTree) -> (ChartSpec, Vec<Diagnostic>) {
         }
     } else if top_level_mark.is_some() || top_level_bind.is_some() {
         spec.layers.push(lower_layer(0, root, root));
+        spec.layers.shrink_to_fit();
         if top_level_mark.is_none() {
             let range = top_level_bind
                 .and_then(|member| member.key_range())
@@ -366,6 +369,7 @@ fn lower_bindings(bind: Node<'_>) -> Vec<Binding> {
         }
         bindings.push(binding);
     }
+    bindings.shrink_to_fit();
     bindings
 }
 

@@ -167,7 +167,7 @@ fn significant(tree: &SyntaxTree) -> Vec<TextRange> {
     tree.tokens()
         .iter()
         .filter(|token| !token.kind.is_trivia())
-        .map(|token| token.range)
+        .map(|token| token.range())
         .collect()
 }
 

@@ -84,10 +84,7 @@ impl<'t> Lexer<'t> {
     }
 
     fn push_token(&mut self, kind: TokenKind, end: usize) {
-        self.produced = Some(Token {
-            kind,
-            range: TextRange::new(self.position, end),
-        });
+        self.produced = Some(Token::new(kind, TextRange::new(self.position, end)));
         self.position = end;
     }
 
@@ -432,7 +429,7 @@ mod tests {
         lex(text)
             .tokens
             .iter()
-            .map(|token| (token.kind, &text[token.range.start..token.range.end]))
+            .map(|token| (token.kind, &text[token.range().start..token.range().end]))
             .collect()
     }
 

@@ -6,7 +6,7 @@ mod lexer;
 mod parser;
 pub mod tree;
 
-pub use parser::{parse, MAX_NESTING_DEPTH};
+pub use parser::{parse, parse_shared, MAX_NESTING_DEPTH};
 pub use tree::{
     Member, Node, NodeId, NodeKind, SyntaxError, SyntaxErrorKind, SyntaxTree, Token, TokenKind,
 };

@@ -41,6 +41,15 @@ pub const MAX_NESTING_DEPTH: usize = 256;
 /// The input is a `&str`, so it is valid UTF-8: front ends replace invalid UTF-8 by U+FFFD
 /// (`String::from_utf8_lossy`) before parsing and report the invalid bytes themselves.
 pub fn parse(text: &str) -> SyntaxTree {
+    parse_shared(Arc::from(text))
+}
+
+/// [`parse`] keeping `text` itself in the tree (no copy: the server shares one text between
+/// its line index and the tree).
+pub fn parse_shared(shared: Arc<str>) -> SyntaxTree {
+    // the builder owns one handle; the lexer and parser borrow through the other
+    let borrowed = shared.clone();
+    let text: &str = &borrowed;
     let mut lexer = Lexer::new(text);
     let current = lexer.next_token();
     let mut parser = Parser {
@@ -48,7 +57,7 @@ pub fn parse(text: &str) -> SyntaxTree {
         lexer,
         current,
         lookahead: VecDeque::new(),
-        builder: TreeBuilder::new(Arc::from(text)),
+        builder: TreeBuilder::new(shared),
         last_significant_end: 0,
         depth: 0,
         open_objects: 0,
@@ -97,7 +106,7 @@ impl<'t> Parser<'t> {
             if !token.kind.is_trivia() {
                 break;
             }
-            self.builder.token(token.kind, token.range);
+            self.builder.token(token.kind, token.range());
             self.advance();
         }
     }
@@ -121,9 +130,9 @@ impl<'t> Parser<'t> {
     /// Push the next token, whatever it is.
     fn bump(&mut self) {
         if let Some(token) = self.current {
-            self.builder.token(token.kind, token.range);
+            self.builder.token(token.kind, token.range());
             if !token.kind.is_trivia() {
-                self.last_significant_end = token.range.end;
+                self.last_significant_end = token.range().end;
             }
             self.advance();
         }
@@ -157,7 +166,7 @@ impl<'t> Parser<'t> {
 
     fn token_text(&self, token: Token) -> &'t str {
         self.text
-            .get(token.range.start..token.range.end)
+            .get(token.range().start..token.range().end)
             .unwrap_or_default()
     }
 
@@ -187,7 +196,7 @@ impl<'t> Parser<'t> {
             }
             self.builder.finish_node();
             self.builder.error(
-                TextRange::new(first.range.start, self.last_significant_end),
+                TextRange::new(first.range().start, self.last_significant_end),
                 "unexpected content after the document",
             );
         }
@@ -234,7 +243,7 @@ impl<'t> Parser<'t> {
         self.bump();
         self.builder.finish_node();
         let message = describe_error_token(self.token_text(token), place);
-        self.builder.error(token.range, message);
+        self.builder.error(token.range(), message);
     }
 
     /// A token that has no place where it stands, in an `Error` node.
@@ -247,7 +256,7 @@ impl<'t> Parser<'t> {
         self.bump();
         self.builder.finish_node();
         let message = format!("unexpected `{}`", shorten(self.token_text(token)));
-        self.builder.error(token.range, message);
+        self.builder.error(token.range(), message);
     }
 
     /// A container opened beyond [`MAX_NESTING_DEPTH`]: everything up to its matching closer
@@ -268,7 +277,7 @@ impl<'t> Parser<'t> {
         }
         self.builder.finish_node();
         self.builder.error(
-            opener.range,
+            opener.range(),
             format!("nesting deeper than {MAX_NESTING_DEPTH} levels"),
         );
     }
@@ -285,7 +294,7 @@ impl<'t> Parser<'t> {
             self.skip_trivia();
             let Some(token) = self.current() else {
                 self.builder
-                    .error(opener.range, "unclosed object: expected `}`");
+                    .error(opener.range(), "unclosed object: expected `}`");
                 break;
             };
             match token.kind {
@@ -297,22 +306,22 @@ impl<'t> Parser<'t> {
                 TokenKind::RBracket if self.open_arrays > 0 => {
                     // `[{"a": 1]`: close the object, the enclosing array takes the `]`
                     self.builder
-                        .error(opener.range, "unclosed object: expected `}`");
+                        .error(opener.range(), "unclosed object: expected `}`");
                     break;
                 }
                 TokenKind::RBracket => {
                     self.report_trailing_comma(expecting_member, last_comma);
-                    self.builder.error(token.range, "expected `}`, found `]`");
+                    self.builder.error(token.range(), "expected `}`, found `]`");
                     self.bump();
                     break;
                 }
                 TokenKind::Comma => {
                     if expecting_member {
                         self.builder
-                            .error(token.range, "expected a member before `,`");
+                            .error(token.range(), "expected a member before `,`");
                     }
                     self.bump();
-                    last_comma = Some(token.range);
+                    last_comma = Some(token.range());
                     expecting_member = true;
                 }
                 _ => {
@@ -350,7 +359,7 @@ impl<'t> Parser<'t> {
                 if let Err(key) = seen_keys.insert(key) {
                     self.builder.error_of_kind(
                         SyntaxErrorKind::DuplicateKey,
-                        key_token.range,
+                        key_token.range(),
                         format!("duplicate key `{}`", shorten(&key)),
                     );
                 }
@@ -360,7 +369,7 @@ impl<'t> Parser<'t> {
                 self.builder.start_node(NodeKind::Error);
                 self.builder.finish_node();
                 self.builder
-                    .error(key_token.range, "missing key before `:`");
+                    .error(key_token.range(), "missing key before `:`");
             }
             TokenKind::Error => self.error_token_node(key_token, Place::Key),
             _ => {
@@ -368,14 +377,14 @@ impl<'t> Parser<'t> {
                 self.parse_value();
                 self.builder.finish_node();
                 self.builder.error(
-                    TextRange::new(key_token.range.start, self.last_significant_end),
+                    TextRange::new(key_token.range().start, self.last_significant_end),
                     "keys must be strings in double quotes",
                 );
             }
         }
         let key_range = TextRange::new(
-            key_token.range.start,
-            self.last_significant_end.max(key_token.range.start),
+            key_token.range().start,
+            self.last_significant_end.max(key_token.range().start),
         );
 
         self.skip_trivia();
@@ -400,7 +409,7 @@ impl<'t> Parser<'t> {
             self.skip_trivia();
         }
         if !self.parse_value() {
-            self.builder.error(colon.range, "missing value after `:`");
+            self.builder.error(colon.range(), "missing value after `:`");
         }
         self.builder.finish_node();
     }
@@ -434,7 +443,7 @@ impl<'t> Parser<'t> {
             self.skip_trivia();
             let Some(token) = self.current() else {
                 self.builder
-                    .error(opener.range, "unclosed array: expected `]`");
+                    .error(opener.range(), "unclosed array: expected `]`");
                 break;
             };
             match token.kind {
@@ -446,21 +455,22 @@ impl<'t> Parser<'t> {
                 TokenKind::RBrace if self.open_objects > 0 => {
                     // `{"a": [1}`: close the array, the enclosing object takes the `}`
                     self.builder
-                        .error(opener.range, "unclosed array: expected `]`");
+                        .error(opener.range(), "unclosed array: expected `]`");
                     break;
                 }
                 TokenKind::RBrace => {
                     self.report_trailing_comma(expecting_value, last_comma);
-                    self.builder.error(token.range, "expected `]`, found `}`");
+                    self.builder.error(token.range(), "expected `]`, found `}`");
                     self.bump();
                     break;
                 }
                 TokenKind::Comma => {
                     if expecting_value {
-                        self.builder.error(token.range, "missing value before `,`");
+                        self.builder
+                            .error(token.range(), "missing value before `,`");
                     }
                     self.bump();
-                    last_comma = Some(token.range);
+                    last_comma = Some(token.range());
                     expecting_value = true;
                 }
                 TokenKind::Colon => self.stray_token_node(token),
@@ -623,7 +633,7 @@ mod tests {
         let concatenated: String = tree
             .tokens()
             .iter()
-            .map(|token| &input[token.range.start..token.range.end])
+            .map(|token| &input[token.range().start..token.range().end])
             .collect();
         assert_eq!(concatenated, input, "the tokens cover the input");
         tree

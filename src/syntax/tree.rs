@@ -35,11 +35,36 @@ impl TokenKind {
     }
 }
 
+/// One token: 12 bytes (offsets as `u32`; a text past 4 GiB, which no front end accepts, would
+/// get its offsets clamped).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Token {
     pub kind: TokenKind,
-    pub range: TextRange,
+    start: u32,
+    end: u32,
 }
+
+impl Token {
+    pub fn new(kind: TokenKind, range: TextRange) -> Token {
+        Token {
+            kind,
+            start: compact_offset(range.start),
+            end: compact_offset(range.end),
+        }
+    }
+
+    pub fn range(&self) -> TextRange {
+        TextRange::new(self.start as usize, self.end as usize)
+    }
+}
+
+/// An offset stored in 32 bits (saturating: see [`Token`]).
+fn compact_offset(offset: usize) -> u32 {
+    u32::try_from(offset).unwrap_or(u32::MAX)
+}
+
+/// `NodeData::parent` of the document node.
+const NO_PARENT: u32 = u32::MAX;
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum NodeKind {
@@ -62,12 +87,15 @@ pub enum NodeKind {
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub struct NodeId(pub u32);
 
+/// 32 bytes a node: offsets and indexes as `u32`.
 #[derive(Clone, Debug)]
 struct NodeData {
     kind: NodeKind,
     /// Range of the node's own (non-trivia) tokens; empty at a position for a node with none.
-    range: TextRange,
-    parent: Option<NodeId>,
+    start: u32,
+    end: u32,
+    /// [`NO_PARENT`] for the document.
+    parent: u32,
     /// Index range into `SyntaxTree::children`.
     children_start: u32,
     children_end: u32,
@@ -196,7 +224,8 @@ impl<'t> Node<'t> {
     }
 
     pub fn range(&self) -> TextRange {
-        self.data().range
+        let data = self.data();
+        TextRange::new(data.start as usize, data.end as usize)
     }
 
     /// The node's source text (its own tokens, without surrounding trivia).
@@ -206,9 +235,10 @@ impl<'t> Node<'t> {
     }
 
     pub fn parent(&self) -> Option<Node<'t>> {
-        self.data().parent.map(|id| Node {
+        let parent = self.data().parent;
+        (parent != NO_PARENT).then_some(Node {
             tree: self.tree,
-            id,
+            id: NodeId(parent),
         })
     }
 
@@ -447,11 +477,12 @@ impl TreeBuilder {
     pub fn start_node(&mut self, kind: NodeKind) -> NodeId {
         let id = NodeId(self.nodes.len() as u32);
         let parent = self.open.last().map(|(parent, _)| *parent);
-        let offset = self.tokens.last().map_or(0, |token| token.range.end);
+        let offset = self.tokens.last().map_or(0, |token| token.end);
         self.nodes.push(NodeData {
             kind,
-            range: TextRange::empty(offset),
-            parent,
+            start: offset,
+            end: offset,
+            parent: parent.map_or(NO_PARENT, |parent| parent.0),
             children_start: 0,
             children_end: 0,
             tokens_start: self.tokens.len() as u32,
@@ -468,13 +499,13 @@ impl TreeBuilder {
     pub fn token(&mut self, kind: TokenKind, range: TextRange) {
         debug_assert_eq!(
             range.start,
-            self.tokens.last().map_or(0, |token| token.range.end),
+            self.tokens.last().map_or(0, |token| token.range().end),
             "tokens must cover the input without gaps"
         );
         if !kind.is_trivia() {
             self.last_significant_token = Some(self.tokens.len());
         }
-        self.tokens.push(Token { kind, range });
+        self.tokens.push(Token::new(kind, range));
     }
 
     /// Close the innermost open node.
@@ -510,7 +541,8 @@ impl TreeBuilder {
         data.children_end = children_end;
         data.tokens_end = tokens_end as u32;
         if let (Some(first), Some(last)) = (first, last) {
-            data.range = TextRange::new(first.range.start, last.range.end);
+            data.start = first.start;
+            data.end = last.end;
         }
         // a node without tokens keeps the empty range where it was opened
     }
@@ -541,10 +573,17 @@ impl TreeBuilder {
         }
         self.errors
             .sort_by_key(|error| (error.range.start, error.range.end));
-        let end = self.text.len();
+        let end = compact_offset(self.text.len());
         if let Some(document) = self.nodes.first_mut() {
-            document.range = TextRange::new(0, end);
+            document.start = 0;
+            document.end = end;
         }
+        // the capacities were estimated from the text's length: give back what was not used,
+        // since the server keeps the tree of every open document
+        self.tokens.shrink_to_fit();
+        self.nodes.shrink_to_fit();
+        self.children.shrink_to_fit();
+        self.errors.shrink_to_fit();
         SyntaxTree {
             text: self.text,
             tokens: self.tokens,

@@ -69,6 +69,8 @@ pub fn chart(title: &str, layers: Vec<EvaluatedLayer>) -> EvaluatedChart {
         layers,
         is_sample: false,
         notes: Vec::new(),
+        timed_out: Vec::new(),
+        time_budget: markwell::budget::TimeBudget::DEFAULT_EVALUATION,
     }
 }
 

@@ -20,17 +20,17 @@ pub fn check_tree_invariants(text: &str, tree: &SyntaxTree) -> Result<(), String
     let mut expected_start = 0;
     let mut concatenated = String::with_capacity(text.len());
     for token in tree.tokens() {
-        if token.range.start != expected_start {
+        if token.range().start != expected_start {
             return Err(format!("gap or overlap before token {token:?}"));
         }
-        if token.range.is_empty() {
+        if token.range().is_empty() {
             return Err(format!("empty token {token:?}"));
         }
-        if !on_boundaries(token.range) {
+        if !on_boundaries(token.range()) {
             return Err(format!("token {token:?} is not on char boundaries"));
         }
-        concatenated.push_str(&text[token.range.start..token.range.end]);
-        expected_start = token.range.end;
+        concatenated.push_str(&text[token.range().start..token.range().end]);
+        expected_start = token.range().end;
     }
     if concatenated != text {
         return Err("token texts do not concatenate to the input".to_string());
@@ -70,7 +70,8 @@ pub fn check_tree_invariants(text: &str, tree: &SyntaxTree) -> Result<(), String
         let first = tokens.iter().find(|token| !token.kind.is_trivia());
         let last = tokens.iter().rev().find(|token| !token.kind.is_trivia());
         if let (Some(first), Some(last)) = (first, last) {
-            if TextRange::new(first.range.start, last.range.end) != range && node.parent().is_some()
+            if TextRange::new(first.range().start, last.range().end) != range
+                && node.parent().is_some()
             {
                 return Err(format!("node {node:?} range differs from its tokens'"));
             }

@@ -9,6 +9,7 @@ mod capacity;
 mod channel_not_on_mark;
 mod connected_unordered;
 mod emphasis_order;
+mod evaluation_timed_out;
 mod kind_conflict;
 mod levels_mismatch;
 mod log_of_nonpositive;
@@ -198,6 +199,7 @@ pub fn registry() -> &'static [Rule] {
         channel_not_on_mark::RULE,
         malformed_data::RULE,
         no_data_source::RULE,
+        evaluation_timed_out::RULE,
         unknown_column::RULE,
         levels_mismatch::RULE,
         kind_conflict::RULE,

@@ -36,6 +36,12 @@ fuzz_target!(|data: &[u8]| {
             }
         }
         let _ = markwell::data::render::render_profile_text(&profile);
-        let _ = markwell::data::render::render_profile_json(&profile);
+        let value = markwell::data::render::render_profile_json(&profile);
+        // the streamed JSON of `markwell profile` is byte for byte the pretty-printed value
+        let mut streamed = Vec::new();
+        let written = markwell::data::render::write_profile_json(&profile, 0, &mut streamed);
+        if let (Ok(()), Ok(whole)) = (written, serde_json::to_string_pretty(&value)) {
+            assert_eq!(streamed, whole.into_bytes());
+        }
     }
 });
