@@ -44,11 +44,18 @@ fn every_rule_fires_somewhere_in_the_demo_and_clean_specs_are_clean() {
         }
         fired.extend(diagnostics.iter().map(|diagnostic| diagnostic.rule));
     }
+    // `evaluation-timed-out` needs data too big to bundle, or a budget set too small for the
+    // demo's own data: it would tell a new user nothing about charts. Its fixture sets the
+    // budget (tests/fixtures/evaluation-timed-out).
+    let not_in_the_demo = ["evaluation-timed-out"];
     let missing: Vec<&str> = markwell::analysis::rules::registry()
         .iter()
         .map(|rule| rule.id)
-        .filter(|id| !fired.contains(id))
+        .filter(|id| !fired.contains(id) && !not_in_the_demo.contains(id))
         .collect();
+    for id in not_in_the_demo {
+        assert!(!fired.contains(id), "`{id}` fired in the demo");
+    }
     assert!(
         missing.is_empty(),
         "rules the demo never shows: {missing:?}"
