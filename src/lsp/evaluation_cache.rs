@@ -112,22 +112,54 @@ fn with_copied_members(evaluation: &Arc<EvaluatedChart>, spec: &ChartSpec) -> Ar
     Arc::new(patched)
 }
 
+/// What an entry is keyed on, taken before the evaluation reads the data: a file that changes
+/// while it is read then has a new stamp, and the entry misses.
+#[derive(Debug)]
+pub struct PendingEntry {
+    key: String,
+    stamps: Vec<(String, FileStamp)>,
+}
+
+/// The key and data stamps of `parsed` now, for an evaluation about to start.
+pub fn pending_entry(parsed: &ParsedDocument, resolve: &ResolveOptions) -> PendingEntry {
+    PendingEntry {
+        key: evaluation_key(parsed, resolve),
+        stamps: data_stamps(&parsed.spec, resolve),
+    }
+}
+
+impl PendingEntry {
+    /// The entry to keep for `evaluation`: `None` for one that ran out of time (the next text
+    /// must try again).
+    pub fn keep(self, evaluation: &Arc<EvaluatedChart>) -> Option<Arc<CachedEvaluation>> {
+        evaluation.timed_out.is_empty().then(|| {
+            Arc::new(CachedEvaluation {
+                key: self.key,
+                stamps: self.stamps,
+                evaluation: evaluation.clone(),
+            })
+        })
+    }
+}
+
 /// The sampled evaluation of `parsed`: the kept one when only what it copies changed, else a new
-/// one through `evaluate` (counted in `evaluated`, for tests). Returns it with the entry to keep
-/// (`None`: keep nothing, for an evaluation that failed or ran out of time).
+/// one through `evaluate`. The kept one may be exact (the
+/// background evaluation over all rows replaces the entry when it arrives), so a title edit
+/// keeps the exact evaluation and starts no new whole-file scan. Returns it with the entry to
+/// keep (`None`: keep nothing, for an evaluation that failed or ran out of time).
 pub fn sampled_evaluation(
     kept: Option<&CachedEvaluation>,
     parsed: &ParsedDocument,
     resolve: &ResolveOptions,
     evaluate: impl FnOnce() -> Option<EvaluatedChart>,
 ) -> (Option<Arc<EvaluatedChart>>, Option<Arc<CachedEvaluation>>) {
-    let key = evaluation_key(parsed, resolve);
-    let stamps = data_stamps(&parsed.spec, resolve);
-    if let Some(kept) = kept.filter(|kept| kept.key == key && kept.stamps == stamps) {
+    let pending = pending_entry(parsed, resolve);
+    if let Some(kept) = kept.filter(|kept| kept.key == pending.key && kept.stamps == pending.stamps)
+    {
         let evaluation = with_copied_members(&kept.evaluation, &parsed.spec);
         let entry = CachedEvaluation {
-            key,
-            stamps,
+            key: pending.key,
+            stamps: pending.stamps,
             evaluation: evaluation.clone(),
         };
         return (Some(evaluation), Some(Arc::new(entry)));
@@ -135,13 +167,7 @@ pub fn sampled_evaluation(
     let Some(evaluation) = evaluate().map(Arc::new) else {
         return (None, None);
     };
-    let entry = evaluation.timed_out.is_empty().then(|| {
-        Arc::new(CachedEvaluation {
-            key,
-            stamps,
-            evaluation: evaluation.clone(),
-        })
-    });
+    let entry = pending.keep(&evaluation);
     (Some(evaluation), entry)
 }
 
@@ -205,5 +231,46 @@ mod tests {
         let changed = run(&spec("Loaves sold per bakery", "rolls"));
         assert_eq!(evaluations.get(), 3);
         assert_ne!(changed.layers, rolls.layers);
+    }
+
+    #[test]
+    fn an_exact_evaluation_kept_for_a_text_is_reused_after_a_title_edit() {
+        let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
+        std::fs::write(
+            dir.path().join("loaves.csv"),
+            "bakery,loaves,rolls\nmill,12,3\nquay,7,9\nmill,5,1\n",
+        )
+        .unwrap_or_else(|error| panic!("{error}"));
+        let resolve = ResolveOptions {
+            spec_dir: dir.path().to_path_buf(),
+            workspace_root: Some(dir.path().to_path_buf()),
+            ..ResolveOptions::default()
+        };
+        // the background run: stamps first, then the evaluation over all rows
+        let parsed = parse_document(&spec("Loaves", "loaves"));
+        let pending = pending_entry(&parsed, &resolve);
+        let exact = Arc::new(
+            crate::lsp::evaluate::evaluate_exactly(&parsed.spec, &resolve, Arc::new(|| true))
+                .unwrap_or_else(|| panic!("no evaluation")),
+        );
+        assert!(!exact.is_sample);
+        let kept = pending.keep(&exact);
+        // a title edit: the exact evaluation comes back, with the new title, and nothing is
+        // evaluated
+        let retitled = parse_document(&spec("Loaves by bakery", "loaves"));
+        let (evaluation, entry) = sampled_evaluation(kept.as_deref(), &retitled, &resolve, || {
+            panic!("a title edit must not evaluate again")
+        });
+        let evaluation = evaluation.unwrap_or_else(|| panic!("no evaluation"));
+        assert!(!evaluation.is_sample);
+        assert_eq!(evaluation.title.as_deref(), Some("Loaves by bakery"));
+        assert_eq!(evaluation.layers, exact.layers);
+        assert!(entry.is_some());
+        // a timed-out evaluation is never kept
+        let mut timed_out = EvaluatedChart::clone(&exact);
+        timed_out.timed_out = vec![0];
+        assert!(pending_entry(&parsed, &resolve)
+            .keep(&Arc::new(timed_out))
+            .is_none());
     }
 }

@@ -135,6 +135,9 @@ struct DocumentRecord {
     evaluation: Option<(u64, Arc<EvaluatedChart>)>,
     /// The generation whose exact evaluation is being computed, when one is.
     exact_evaluation_running: Option<u64>,
+    /// The cache entry of the latest exact evaluation and its generation: the next text reuses
+    /// it when only its title, description or frame changed (see `evaluation_cache`).
+    kept_exact: Option<(u64, Arc<CachedEvaluation>)>,
 }
 
 /// A published set of diagnostics, as a count and a 64-bit digest of its JSON (kept instead
@@ -385,11 +388,16 @@ impl Backend {
                 .as_ref()
                 .filter(|(generation, _)| *generation == record.document.generation)
                 .map(|(_, evaluation)| evaluation.clone()),
-            kept_evaluation: record
-                .document
-                .latest
-                .as_ref()
-                .and_then(|latest| latest.kept_evaluation.clone()),
+            // the exact entry while the latest analysis is of its text (or older); an analysis
+            // of a newer text kept its own entry
+            kept_evaluation: match (&record.kept_exact, record.document.latest.as_ref()) {
+                (Some((exact, entry)), latest)
+                    if latest.is_none_or(|latest| latest.generation <= *exact) =>
+                {
+                    Some(entry.clone())
+                }
+                (_, latest) => latest.and_then(|latest| latest.kept_evaluation.clone()),
+            },
         }
     }
 
@@ -853,7 +861,15 @@ fn start_exact_evaluation(
         };
         let evaluation = if still_current() {
             let task = tokio::task::spawn_blocking(move || {
-                crate::lsp::evaluate::evaluate_exactly(&parsed.spec, &resolve, still_current)
+                // keyed before the rows are read: data changed meanwhile misses next time
+                let pending = crate::lsp::evaluation_cache::pending_entry(&parsed, &resolve);
+                let evaluation = Arc::new(crate::lsp::evaluate::evaluate_exactly(
+                    &parsed.spec,
+                    &resolve,
+                    still_current,
+                )?);
+                let entry = pending.keep(&evaluation);
+                Some((evaluation, entry))
             });
             match task.await {
                 Ok(evaluation) => evaluation,
@@ -877,8 +893,11 @@ fn start_exact_evaluation(
                 record.exact_evaluation_running = None;
             }
             match evaluation {
-                Some(evaluation) if record.document.generation == generation => {
-                    record.evaluation = Some((generation, Arc::new(evaluation)));
+                Some((evaluation, entry)) if record.document.generation == generation => {
+                    record.evaluation = Some((generation, evaluation));
+                    // the next text reuses the exact evaluation when only its title,
+                    // description or frame changed (see `evaluation_cache`)
+                    record.kept_exact = entry.map(|entry| (generation, entry));
                     Some(None)
                 }
                 _ => record
@@ -1234,6 +1253,7 @@ impl LanguageServer for Backend {
                 data_paths: Vec::new(),
                 evaluation: None,
                 exact_evaluation_running: None,
+                kept_exact: None,
             };
             lock(&self.state.documents).insert(item.uri.clone(), record);
         });
