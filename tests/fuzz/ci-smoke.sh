@@ -45,9 +45,14 @@ for target in "${targets[@]}"; do
     echo "fuzz smoke: $target for ${seconds} s"
     # the same flags as the build, so this does not rebuild; libFuzzer adds new inputs to the
     # first folder (the scratch copy) and writes a crashing input under tests/fuzz/artifacts
-    cargo +nightly fuzz run "${flags[@]}" "$target" "$scratch/$target" -- \
+    # (libFuzzer prints a line per new input: its log is kept aside and shown on a failure)
+    if ! cargo +nightly fuzz run "${flags[@]}" "$target" "$scratch/$target" -- \
         -max_total_time="$seconds" -timeout=60 -rss_limit_mb=2048 -max_len=65536 \
-        -print_final_stats=1 2>&1 | tee "$scratch/$target.log"
+        -print_final_stats=1 >"$scratch/$target.log" 2>&1; then
+        tail -n 80 "$scratch/$target.log" >&2
+        echo "fuzz smoke: $target failed; the input is under tests/fuzz/artifacts/$target" >&2
+        exit 1
+    fi
     # a build without coverage instrumentation would "fuzz" blind: require coverage
     coverage="$(sed -n 's/.*INITED cov: \([0-9]*\).*/\1/p' "$scratch/$target.log" | head -1)"
     if [[ -z "$coverage" || "$coverage" == 0 ]]; then
