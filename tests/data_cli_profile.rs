@@ -185,8 +185,10 @@ fn the_library_writes_the_json_nested_at_any_depth() {
 
 #[test]
 fn profiles_with_odd_names_print_as_before() {
-    // the text and JSON below were printed by the binary that built the whole output in memory
-    // (before it was streamed); the data folder's path is replaced by `<data>`
+    // the JSON below was printed by the binary that built the whole output in memory (before it
+    // was streamed); the text snapshots were printed again when table widths came to be measured
+    // on the escaped cells (before, `bell\x07tab\x09cr` pushed its row out of line); the data
+    // folder's path is replaced by `<data>`
     let folder = fixture_data("")
         .canonicalize()
         .unwrap_or_else(|error| panic!("{error}"));
@@ -200,6 +202,25 @@ fn profiles_with_odd_names_print_as_before() {
         let path = fixture_data(&format!("odd-names/profile-odd-names.{extension}"));
         let (code, stdout, stderr) = markwell(&["profile", &path.to_string_lossy()]);
         assert_eq!(code, 0, "{stderr}");
+        // every row of the table starts its `kind` cell where the heading does
+        let lines: Vec<&str> = stdout.lines().collect();
+        let heading = lines
+            .iter()
+            .position(|line| line.starts_with("column "))
+            .unwrap_or_else(|| panic!("{stdout}"));
+        let kind_at = lines[heading].find("kind").unwrap_or_default();
+        let kind_at = lines[heading][..kind_at].chars().count();
+        for row in lines[heading + 2..]
+            .iter()
+            .take_while(|line| !line.is_empty())
+        {
+            let cell: String = row.chars().skip(kind_at).take(4).collect();
+            assert!(
+                ["quan", "cate", "time", "orde"].contains(&cell.as_str())
+                    && row.chars().nth(kind_at.saturating_sub(1)) == Some(' '),
+                "{extension}: row out of line: {row}"
+            );
+        }
         let expected = read(&format!("profile-odd-names-{extension}.txt"));
         assert_eq!(
             stdout.replace(&folder_text, "<data>"),

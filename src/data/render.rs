@@ -152,8 +152,22 @@ const TABLE_HEADINGS: [&str; 8] = [
     "mean / top values",
 ];
 
-/// The cells of one column's row of the table, before escaping.
+/// `text` as one table cell: control characters escaped as everywhere, and line breaks and
+/// tabs too (they would break the row), so that the width measured is the width shown.
+fn cell_text(text: &str) -> String {
+    let escaped = escape_control_characters(text);
+    if !escaped.contains(['\n', '\t']) {
+        return escaped.into_owned();
+    }
+    escaped.replace('\n', "\\x0a").replace('\t', "\\x09")
+}
+
+/// The cells of one column's row of the table, escaped (see [`cell_text`]).
 fn table_cells(column: &ColumnProfile) -> [String; 8] {
+    table_cells_raw(column).map(|cell| cell_text(&cell))
+}
+
+fn table_cells_raw(column: &ColumnProfile) -> [String; 8] {
     let (min, max) = min_max_cells(column);
     [
         shorten(&column.name, 28),
@@ -240,7 +254,7 @@ pub fn write_profile_text(profile: &DataProfile, out: &mut dyn Write) -> io::Res
         if column.kind != AttributeKind::Quantitative || numeric.histogram.is_empty() {
             continue;
         }
-        write_escaped(out, &format!("\n{}\n", column.name))?;
+        write_escaped(out, &format!("\n{}\n", cell_text(&column.name)))?;
         let bins = numeric.histogram.len();
         let width = (numeric.max - numeric.min) / bins as f64;
         let largest = numeric.histogram.iter().copied().max().unwrap_or(0);
