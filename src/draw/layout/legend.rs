@@ -5,17 +5,33 @@ use super::*;
 // ---------------------------------------------------------------------------------------------
 // Legends
 
+#[derive(Clone, Debug)]
 pub(super) struct LegendSpec {
     channel: Channel,
     title: String,
+    /// The entries drawn, without the closing "+N more" line.
     entries: Vec<LegendEntry>,
-    pub(super) width: f64,
+    /// Entries left out (said by a closing "+N more" line).
+    hidden: usize,
+    /// The entries are values sampled from a continuous scale (a ramp, sizes, counts): when
+    /// there is no room for all, fewer are drawn, the two ends kept, with no "+N more" line.
+    sampled: bool,
 }
 
 const SWATCH: f64 = 11.0;
 /// Entries one legend lists at most; past it the last says how many more there are.
 pub const MAX_LEGEND_ENTRIES: usize = 16;
 const LEGEND_ROW: f64 = 17.0;
+/// The widest a legend's title or entry column is drawn (pixels).
+const MAX_LEGEND_WIDTH: f64 = 220.0;
+/// Gap between a legend's title and its first entry.
+const TITLE_GAP: f64 = 4.0;
+/// Gap between two entry columns of one legend.
+const ENTRY_COLUMN_GAP: f64 = 12.0;
+/// Gap between two legends stacked in one column, and between two rows of legends below.
+pub(super) const LEGEND_GAP_DOWN: f64 = 12.0;
+/// Gap between two columns of legends at the right, and between two legends side by side below.
+pub(super) const LEGEND_GAP_ACROSS: f64 = 16.0;
 
 pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<LegendSpec> {
     let mut specs: Vec<LegendSpec> = Vec::new();
@@ -91,31 +107,22 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
             {
                 continue;
             }
+            let sampled = !matches!(
+                (&info.channel, &info.domain),
+                (Channel::Shape, _) | (_, Domain::Categories(_))
+            );
             let mut entries = entries;
+            let mut hidden = 0;
             if entries.len() > MAX_LEGEND_ENTRIES {
-                let hidden = entries.len() - (MAX_LEGEND_ENTRIES - 1);
+                hidden = entries.len() - (MAX_LEGEND_ENTRIES - 1);
                 entries.truncate(MAX_LEGEND_ENTRIES - 1);
-                entries.push(LegendEntry {
-                    label: format!("and {hidden} more"),
-                    colour: None,
-                    symbol: None,
-                    radius: SWATCH / 2.0,
-                });
             }
-            let mark_room = entries
-                .iter()
-                .map(|entry| entry.radius * 2.0)
-                .fold(SWATCH, f64::max);
-            let width = entries
-                .iter()
-                .map(|entry| mark_room + 6.0 + text_width(&entry.label, LEGEND_SIZE))
-                .fold(text_width(&info.title, LEGEND_SIZE), f64::max)
-                .min(220.0);
             specs.push(LegendSpec {
                 channel: info.channel,
                 title: info.title.clone(),
                 entries,
-                width,
+                hidden,
+                sampled,
             });
         }
     }
@@ -150,13 +157,12 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
                     radius: SWATCH / 2.0,
                 });
             }
-            let title = "rows per cell".to_string();
-            let width = text_width(&title, LEGEND_SIZE).max(SWATCH + 6.0 + 50.0);
             specs.push(LegendSpec {
                 channel: Channel::Luminance,
-                title,
+                title: "rows per cell".to_string(),
                 entries,
-                width,
+                hidden: 0,
+                sampled: true,
             });
         }
     }
@@ -185,7 +191,303 @@ fn legend_values(low: f64, high: f64) -> Vec<(f64, String)> {
     }
 }
 
-pub(super) fn legend_group(spec: LegendSpec, x: f64, top: f64) -> (Group, LegendLayout) {
+impl LegendSpec {
+    /// The lines drawn: the entries, then "+N more" when some are left out.
+    fn lines(&self) -> Vec<LegendEntry> {
+        let mut lines = self.entries.clone();
+        if self.hidden > 0 {
+            lines.push(LegendEntry {
+                label: format!("+{} more", self.hidden),
+                colour: None,
+                symbol: None,
+                radius: SWATCH / 2.0,
+            });
+        }
+        lines
+    }
+
+    fn line_count(&self) -> usize {
+        self.entries.len() + usize::from(self.hidden > 0)
+    }
+
+    fn mark_room(&self) -> f64 {
+        self.entries
+            .iter()
+            .map(|entry| entry.radius * 2.0)
+            .fold(SWATCH, f64::max)
+    }
+
+    fn entry_width(&self) -> f64 {
+        let mark_room = self.mark_room();
+        self.lines()
+            .iter()
+            .map(|entry| mark_room + 6.0 + text_width(&entry.label, LEGEND_SIZE))
+            .fold(0.0, f64::max)
+            .min(MAX_LEGEND_WIDTH)
+    }
+
+    fn title_height() -> f64 {
+        line_height(LEGEND_SIZE) + TITLE_GAP
+    }
+
+    fn row_height(entry: &LegendEntry) -> f64 {
+        LEGEND_ROW.max(entry.radius * 2.0 + 4.0)
+    }
+
+    /// The lines of each entry column when the lines are set in `columns` columns, top to
+    /// bottom and then left to right.
+    fn column_lines(&self, columns: usize) -> Vec<Vec<LegendEntry>> {
+        let lines = self.lines();
+        let per_column = lines.len().div_ceil(columns.max(1)).max(1);
+        lines
+            .chunks(per_column)
+            .map(|chunk| chunk.to_vec())
+            .collect()
+    }
+
+    /// Width and height of the legend with its lines in `columns` columns.
+    fn size(&self, columns: usize) -> (f64, f64) {
+        let set = self.column_lines(columns);
+        let count = set.len().max(1) as f64;
+        let entries_width = count * self.entry_width() + (count - 1.0) * ENTRY_COLUMN_GAP;
+        let width = text_width(&self.title, LEGEND_SIZE)
+            .min(MAX_LEGEND_WIDTH)
+            .max(entries_width);
+        let tallest = set
+            .iter()
+            .map(|column| column.iter().map(Self::row_height).sum::<f64>())
+            .fold(0.0, f64::max);
+        (width, Self::title_height() + tallest)
+    }
+
+    /// The fewest entry columns that keep the legend within `height`.
+    fn columns_within_height(&self, height: f64) -> Option<usize> {
+        (1..=self.line_count().max(1)).find(|&columns| self.size(columns).1 <= height + 1e-9)
+    }
+
+    /// The most entry columns that keep the legend within `width` (at most one line each).
+    fn columns_within_width(&self, width: f64) -> Option<usize> {
+        (1..=self.line_count().max(1))
+            .rev()
+            .find(|&columns| self.size(columns).0 <= width + 1e-9)
+    }
+
+    /// The legend with at most `cap` lines: a list keeps its first entries and says how many
+    /// more there are; sampled values keep both ends and an even spread between them.
+    fn capped(&self, cap: usize) -> LegendSpec {
+        let cap = cap.max(1);
+        let mut capped = self.clone();
+        if self.line_count() <= cap {
+            return capped;
+        }
+        if self.sampled && self.hidden == 0 {
+            let count = self.entries.len();
+            capped.entries = if cap == 1 {
+                vec![self.entries[count - 1].clone()]
+            } else {
+                let mut kept: Vec<usize> = (0..cap)
+                    .map(|i| ((i * (count - 1)) as f64 / (cap - 1) as f64).round() as usize)
+                    .collect();
+                kept.dedup();
+                kept.iter().map(|&i| self.entries[i].clone()).collect()
+            };
+        } else {
+            let keep = cap - 1;
+            capped.hidden = self.hidden + (self.entries.len() - keep);
+            capped.entries.truncate(keep);
+        }
+        capped
+    }
+
+    /// Entries of the legend's scale or list that the drawing leaves out.
+    fn shown_of_total(&self) -> (usize, usize) {
+        (self.entries.len(), self.entries.len() + self.hidden)
+    }
+}
+
+/// Where the legends go.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(super) enum LegendSide {
+    /// In one or more columns right of the plots.
+    Right,
+    /// In rows under the plots and the x axis title.
+    Below,
+}
+
+/// A legend with its place inside the legends' block and its entry columns.
+pub(super) struct PlacedLegend {
+    spec: LegendSpec,
+    offset: Point,
+    columns: usize,
+}
+
+/// The legends of a chart, arranged: the side they take and the size of their block.
+pub(super) struct LegendPlan {
+    pub(super) side: LegendSide,
+    pub(super) placed: Vec<PlacedLegend>,
+    pub(super) width: f64,
+    pub(super) height: f64,
+    /// What was left out, for the scene's notes.
+    pub(super) notes: Vec<String>,
+}
+
+/// The room the legends may take.
+pub(super) struct LegendRoom {
+    /// Height of a column at the right (the frame below the title).
+    pub(super) right_height: f64,
+    /// Width legends may take at the right with the plots kept at their smallest width.
+    pub(super) right_width: f64,
+    /// Width of a row below the plots.
+    pub(super) below_width: f64,
+    /// Height legends may take below with the plots kept at their smallest height.
+    pub(super) below_height: f64,
+    /// The same two when the plots keep only their last-resort size.
+    pub(super) right_width_last_resort: f64,
+    pub(super) below_height_last_resort: f64,
+}
+
+/// Legends in columns at the right, each at most `height` tall: in order, a column is filled
+/// before the next starts; a legend taller than `height` sets its entries in columns.
+fn pack_right(specs: &[LegendSpec], height: f64) -> Option<(Vec<PlacedLegend>, f64, f64)> {
+    let mut placed = Vec::new();
+    let (mut column_x, mut column_width, mut used) = (0.0, 0.0f64, 0.0);
+    let mut tallest = 0.0f64;
+    for spec in specs {
+        let columns = spec.columns_within_height(height)?;
+        let (legend_width, legend_height) = spec.size(columns);
+        let mut y = if placed.is_empty() {
+            0.0
+        } else {
+            used + LEGEND_GAP_DOWN
+        };
+        if !placed.is_empty() && y + legend_height > height + 1e-9 {
+            column_x += column_width + LEGEND_GAP_ACROSS;
+            column_width = 0.0;
+            y = 0.0;
+        }
+        placed.push(PlacedLegend {
+            spec: spec.clone(),
+            offset: Point { x: column_x, y },
+            columns,
+        });
+        used = y + legend_height;
+        tallest = tallest.max(used);
+        column_width = column_width.max(legend_width);
+    }
+    Some((placed, column_x + column_width, tallest))
+}
+
+/// Legends in rows below the plots, each row at most `width` wide: each legend sets its
+/// entries in as many columns as fit, so it is as short as it can be.
+fn pack_below(specs: &[LegendSpec], width: f64) -> Option<(Vec<PlacedLegend>, f64, f64)> {
+    let mut placed = Vec::new();
+    let (mut x, mut y, mut row_height) = (0.0, 0.0, 0.0f64);
+    let mut widest = 0.0f64;
+    for spec in specs {
+        let columns = spec.columns_within_width(width)?;
+        let (legend_width, legend_height) = spec.size(columns);
+        if x > 0.0 && x + legend_width > width + 1e-9 {
+            y += row_height + LEGEND_GAP_DOWN;
+            x = 0.0;
+            row_height = 0.0;
+        }
+        placed.push(PlacedLegend {
+            spec: spec.clone(),
+            offset: Point { x, y },
+            columns,
+        });
+        widest = widest.max(x + legend_width);
+        x += legend_width + LEGEND_GAP_ACROSS;
+        row_height = row_height.max(legend_height);
+    }
+    Some((placed, widest, y + row_height))
+}
+
+fn fits_right(specs: &[LegendSpec], room: &LegendRoom, width: f64) -> Option<LegendPlan> {
+    let (placed, block_width, block_height) = pack_right(specs, room.right_height)?;
+    (block_width <= width + 1e-9).then_some(LegendPlan {
+        side: LegendSide::Right,
+        placed,
+        width: block_width,
+        height: block_height,
+        notes: Vec::new(),
+    })
+}
+
+fn fits_below(specs: &[LegendSpec], room: &LegendRoom, height: f64) -> Option<LegendPlan> {
+    let (placed, block_width, block_height) = pack_below(specs, room.below_width)?;
+    (block_height <= height + 1e-9).then_some(LegendPlan {
+        side: LegendSide::Below,
+        placed,
+        width: block_width,
+        height: block_height,
+        notes: Vec::new(),
+    })
+}
+
+/// Arrange the legends inside the frame. In order of preference: one column at the right (or
+/// more columns, when one is taller than the frame), while the plots keep their smallest width;
+/// rows below the plots, while they keep their smallest height; and as a last resort, with the
+/// plots at their last-resort size, fewer entries per legend (the same most for every legend)
+/// until they fit, then fewer legends. What is left out is said in the plan's notes.
+pub(super) fn plan_legends(specs: Vec<LegendSpec>, room: &LegendRoom) -> LegendPlan {
+    let empty = LegendPlan {
+        side: LegendSide::Right,
+        placed: Vec::new(),
+        width: 0.0,
+        height: 0.0,
+        notes: Vec::new(),
+    };
+    if specs.is_empty() {
+        return empty;
+    }
+    if let Some(plan) = fits_right(&specs, room, room.right_width)
+        .or_else(|| fits_below(&specs, room, room.below_height))
+    {
+        return plan;
+    }
+    let most_lines = specs.iter().map(LegendSpec::line_count).max().unwrap_or(1);
+    for kept in (1..=specs.len()).rev() {
+        for cap in (1..=most_lines).rev() {
+            let capped: Vec<LegendSpec> =
+                specs[..kept].iter().map(|spec| spec.capped(cap)).collect();
+            let plan = fits_right(&capped, room, room.right_width_last_resort)
+                .or_else(|| fits_below(&capped, room, room.below_height_last_resort));
+            if let Some(mut plan) = plan {
+                for (original, drawn) in specs.iter().zip(&capped) {
+                    let (shown, total) = drawn.shown_of_total();
+                    if shown < original.shown_of_total().0 {
+                        plan.notes.push(format!(
+                            "the legend `{}` shows {shown} of its {total} entries: the frame is too small for the rest",
+                            original.title
+                        ));
+                    }
+                }
+                for original in &specs[kept..] {
+                    plan.notes.push(format!(
+                        "the legend `{}` is left out: the frame is too small for it",
+                        original.title
+                    ));
+                }
+                return plan;
+            }
+        }
+    }
+    let mut plan = empty;
+    for original in &specs {
+        plan.notes.push(format!(
+            "the legend `{}` is left out: the frame is too small for it",
+            original.title
+        ));
+    }
+    plan
+}
+
+pub(super) fn legend_group(placed: PlacedLegend, origin: Point) -> (Group, LegendLayout) {
+    let spec = placed.spec;
+    let x = origin.x + placed.offset.x;
+    let top = origin.y + placed.offset.y;
+    let (width, height) = spec.size(placed.columns);
     let mut children = Vec::new();
     let title_item = text_item(
         Point {
@@ -201,71 +503,72 @@ pub(super) fn legend_group(spec: LegendSpec, x: f64, top: f64) -> (Group, Legend
         },
     );
     children.push(text_node(title_item));
-    let mark_room = spec
-        .entries
-        .iter()
-        .map(|entry| entry.radius * 2.0)
-        .fold(SWATCH, f64::max);
-    let mut y = top + line_height(LEGEND_SIZE) + 4.0;
-    for entry in &spec.entries {
-        let row = LEGEND_ROW.max(entry.radius * 2.0 + 4.0);
-        let centre = Point {
-            x: x + mark_room / 2.0,
-            y: y + row / 2.0,
-        };
-        match (entry.symbol, &entry.colour) {
-            (None, Some(colour)) => children.push(plain(
-                Shape::Rect(BoxRect {
-                    x: centre.x - SWATCH / 2.0,
-                    y: centre.y - SWATCH / 2.0,
-                    width: SWATCH,
-                    height: SWATCH,
-                }),
-                Paint::fill(colour),
-            )),
-            (Some(symbol), _) => {
-                let paint = Paint::stroke(INK, 1.0);
-                let shape = if symbol == Symbol::Circle {
-                    Shape::Circle {
-                        centre,
-                        radius: entry.radius,
-                    }
-                } else {
-                    Shape::Symbol {
-                        symbol,
-                        centre,
-                        radius: entry.radius,
-                    }
-                };
-                children.push(plain(shape, paint));
+    let mark_room = spec.mark_room();
+    let entry_width = spec.entry_width();
+    let lines = spec.lines();
+    for (column_index, column) in spec.column_lines(placed.columns).iter().enumerate() {
+        let column_x = x + column_index as f64 * (entry_width + ENTRY_COLUMN_GAP);
+        let mut y = top + LegendSpec::title_height();
+        for entry in column {
+            let row = LegendSpec::row_height(entry);
+            let centre = Point {
+                x: column_x + mark_room / 2.0,
+                y: y + row / 2.0,
+            };
+            match (entry.symbol, &entry.colour) {
+                (None, Some(colour)) => children.push(plain(
+                    Shape::Rect(BoxRect {
+                        x: centre.x - SWATCH / 2.0,
+                        y: centre.y - SWATCH / 2.0,
+                        width: SWATCH,
+                        height: SWATCH,
+                    }),
+                    Paint::fill(colour),
+                )),
+                (Some(symbol), _) => {
+                    let paint = Paint::stroke(INK, 1.0);
+                    let shape = if symbol == Symbol::Circle {
+                        Shape::Circle {
+                            centre,
+                            radius: entry.radius,
+                        }
+                    } else {
+                        Shape::Symbol {
+                            symbol,
+                            centre,
+                            radius: entry.radius,
+                        }
+                    };
+                    children.push(plain(shape, paint));
+                }
+                (None, None) => {}
             }
-            (None, None) => {}
+            children.push(text_node(text_item(
+                Point {
+                    x: column_x + mark_room + 6.0,
+                    y: centre.y + (ascent(LEGEND_SIZE) - descent(LEGEND_SIZE)) / 2.0,
+                },
+                Text {
+                    content: &entry.label,
+                    size: LEGEND_SIZE,
+                    anchor: Anchor::Start,
+                    rotation: 0.0,
+                    colour: MUTED_INK,
+                },
+            )));
+            y += row;
         }
-        children.push(text_node(text_item(
-            Point {
-                x: x + mark_room + 6.0,
-                y: centre.y + (ascent(LEGEND_SIZE) - descent(LEGEND_SIZE)) / 2.0,
-            },
-            Text {
-                content: &entry.label,
-                size: LEGEND_SIZE,
-                anchor: Anchor::Start,
-                rotation: 0.0,
-                colour: MUTED_INK,
-            },
-        )));
-        y += row;
     }
     let bounds = BoxRect {
         x,
         y: top,
-        width: spec.width,
-        height: y - top,
+        width,
+        height,
     };
     let label = format!(
         "legend, {}: {}",
         spec.title,
-        spec.entries
+        lines
             .iter()
             .map(|entry| entry.label.as_str())
             .collect::<Vec<_>>()
@@ -281,7 +584,7 @@ pub(super) fn legend_group(spec: LegendSpec, x: f64, top: f64) -> (Group, Legend
             channel: spec.channel,
             title: spec.title,
             bounds,
-            entries: spec.entries,
+            entries: lines,
         },
     )
 }

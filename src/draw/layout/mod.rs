@@ -11,7 +11,9 @@
 mod legend;
 mod marks;
 
-use legend::{legend_channels, legend_group};
+use legend::{
+    legend_channels, legend_group, plan_legends, LegendRoom, LegendSide, LEGEND_GAP_ACROSS,
+};
 use marks::{layer_group, mark_inset, symbol_radius};
 
 pub use legend::MAX_LEGEND_ENTRIES;
@@ -58,6 +60,15 @@ pub const MAX_SYMBOL_RADIUS: f64 = 13.0;
 pub const MIN_SYMBOL_RADIUS: f64 = 1.5;
 /// Radius of a point without an area channel.
 pub const DEFAULT_POINT_RADIUS: f64 = 3.5;
+/// The plots keep at least this share of the frame's width beside legends at the right, and of
+/// its height above legends set below; past it the legends move below, then show fewer entries
+/// (markwell's choice).
+pub const MIN_PLOT_SHARE: f64 = 0.45;
+/// The last-resort smallest plot side (pixels), kept when the legends show fewer entries
+/// (markwell's choice).
+pub const MIN_PLOT_SIDE: f64 = 40.0;
+/// Gap between the x axis title and legends set below the plots.
+const LEGENDS_BELOW_GAP: f64 = 10.0;
 /// Marks with an accessible label each, at most (past it only the layer is labelled).
 pub const MAX_LABELLED_MARKS: usize = 2_000;
 
@@ -1021,18 +1032,46 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
     let x_info = joined_channel(chart, Channel::X);
     let y_info = joined_channel(chart, Channel::Y);
 
-    // legends take the right side
+    // legends take the right side: in one column, or in more when one is taller than the
+    // frame; else rows below the plots; else fewer entries (see `plan_legends`)
     let legend_specs = legend_channels(chart, background_colour);
-    let legends_width = legend_specs
-        .iter()
-        .map(|legend| legend.width)
-        .fold(0.0, f64::max);
-    let right = FRAME_PADDING
-        + if legends_width > 0.0 {
-            legends_width + 16.0
+    let below_furniture =
+        if is_pie || x_info.is_none() {
+            0.0
+        } else {
+            TICK_LENGTH + TICK_LABEL_GAP + line_height(TICK_LABEL_SIZE) + 2.0
+        } + if !is_pie && x_info.as_ref().is_some_and(|info| !info.title.is_empty()) {
+            line_height(AXIS_TITLE_SIZE) + 4.0
         } else {
             0.0
         };
+    // the estimate of the left margin the first pass uses too
+    let left_estimate = 60.0;
+    let right_room = width - 2.0 * FRAME_PADDING - LEGEND_GAP_ACROSS - left_estimate;
+    let below_room = height - top - FRAME_PADDING - below_furniture - LEGENDS_BELOW_GAP;
+    let legend_plan = plan_legends(
+        legend_specs,
+        &LegendRoom {
+            right_height: height - top - FRAME_PADDING,
+            right_width: right_room - MIN_PLOT_SHARE * width,
+            below_width: width - 2.0 * FRAME_PADDING,
+            below_height: below_room - MIN_PLOT_SHARE * height,
+            right_width_last_resort: right_room - MIN_PLOT_SIDE,
+            below_height_last_resort: below_room - MIN_PLOT_SIDE,
+        },
+    );
+    notes.extend(legend_plan.notes.iter().cloned());
+    let right = FRAME_PADDING
+        + if legend_plan.side == LegendSide::Right && legend_plan.width > 0.0 {
+            legend_plan.width + LEGEND_GAP_ACROSS
+        } else {
+            0.0
+        };
+    let legends_below = if legend_plan.side == LegendSide::Below && legend_plan.height > 0.0 {
+        legend_plan.height + LEGENDS_BELOW_GAP
+    } else {
+        0.0
+    };
 
     let panel_count = chart.panels.len().max(1);
     let (columns, rows) = panel_grid(
@@ -1048,7 +1087,8 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
 
     // first pass: the scales' domains and labels at an estimated size
     let estimate_width = ((width - right - FRAME_PADDING - 60.0) / columns as f64).max(20.0);
-    let estimate_height = ((height - top - FRAME_PADDING - 40.0) / rows as f64 - strip).max(20.0);
+    let estimate_height =
+        ((height - top - FRAME_PADDING - legends_below - 40.0) / rows as f64 - strip).max(20.0);
     let x_scale = if is_pie {
         None
     } else {
@@ -1167,6 +1207,7 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         0.0
     };
     let bottom = FRAME_PADDING
+        + legends_below
         + if x_title.as_deref().is_some_and(|title| !title.is_empty()) {
             line_height(AXIS_TITLE_SIZE) + 4.0
         } else {
@@ -1385,7 +1426,7 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         titles.push(text_node(text_item(
             Point {
                 x: (grid_left + grid_right) / 2.0,
-                y: height - FRAME_PADDING - descent(AXIS_TITLE_SIZE),
+                y: height - FRAME_PADDING - legends_below - descent(AXIS_TITLE_SIZE),
             },
             Text {
                 content: title,
@@ -1436,11 +1477,18 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
 
     // legends
     let mut legends = Vec::new();
-    let mut legend_top = top;
-    let legend_x = width - right + 16.0;
-    for spec in legend_specs {
-        let (group, legend) = legend_group(spec, legend_x, legend_top);
-        legend_top = legend.bounds.bottom() + 12.0;
+    let legend_origin = match legend_plan.side {
+        LegendSide::Right => Point {
+            x: width - right + LEGEND_GAP_ACROSS,
+            y: top,
+        },
+        LegendSide::Below => Point {
+            x: FRAME_PADDING,
+            y: height - FRAME_PADDING - legend_plan.height,
+        },
+    };
+    for placed in legend_plan.placed {
+        let (group, legend) = legend_group(placed, legend_origin);
         groups.push(group);
         legends.push(legend);
     }
