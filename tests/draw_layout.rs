@@ -7,7 +7,7 @@ mod charts;
 #[path = "support/svg_checks.rs"]
 mod svg_checks;
 
-use markwell::draw::layout::{layout, AxisSide, Role, Scene, Shape};
+use markwell::draw::layout::{layout, AxisSide, BoxRect, Node, Role, Scene, Shape};
 use markwell::draw::png::{parse_svg, svg_to_png};
 use markwell::draw::svg::write_svg;
 use markwell::spec::model::{Arrange, Channel, Mark};
@@ -79,55 +79,60 @@ fn stacked_segments_touch_and_side_by_side_bars_share_the_band() {
 #[test]
 fn every_tick_and_tick_label_lies_within_its_axis_and_labels_do_not_overlap() {
     for (name, chart) in charts::all_charts() {
-        let scene = layout(&chart);
-        for axis in &scene.axes {
-            let (low, high) = (
-                axis.extent.0.min(axis.extent.1),
-                axis.extent.0.max(axis.extent.1),
-            );
-            let mut boxes = Vec::new();
-            for tick in &axis.ticks {
-                assert!(
-                    tick.pixel >= low - 0.5 && tick.pixel <= high + 0.5,
-                    "{name}: tick {} at {} outside the axis {low}..{high}",
-                    tick.label,
-                    tick.pixel
-                );
-                if let Some(bounds) = tick.label_bounds() {
-                    // the label's centre along the axis sits at its tick, inside the frame
-                    let centre = match axis.side {
-                        AxisSide::Bottom => bounds.x + bounds.width / 2.0,
-                        AxisSide::Left => bounds.y + bounds.height / 2.0,
-                    };
-                    assert!(
-                        centre >= low - 0.5 && centre <= high + 0.5,
-                        "{name}: label {} centred at {centre} outside {low}..{high}",
-                        tick.label
-                    );
-                    assert!(
-                        bounds.x >= 0.0 && bounds.right() <= scene.width + 0.5,
-                        "{name}"
-                    );
-                    assert!(
-                        bounds.y >= 0.0 && bounds.bottom() <= scene.height + 0.5,
-                        "{name}"
-                    );
-                    boxes.push((tick.label.clone(), bounds));
-                }
-            }
-            for (index, (first, first_box)) in boxes.iter().enumerate() {
-                for (second, second_box) in &boxes[index + 1..] {
-                    assert!(
-                        !first_box.overlaps(second_box),
-                        "{name}: labels {first} and {second} overlap"
-                    );
-                }
-            }
+        assert_axis_labels_fit(name, &layout(&chart));
+    }
+}
+
+/// Every tick lies on its axis, every drawn label is centred on its tick inside the frame, and
+/// no two labels of an axis overlap.
+fn assert_axis_labels_fit(name: &str, scene: &Scene) {
+    for axis in &scene.axes {
+        let (low, high) = (
+            axis.extent.0.min(axis.extent.1),
+            axis.extent.0.max(axis.extent.1),
+        );
+        let mut boxes = Vec::new();
+        for tick in &axis.ticks {
             assert!(
-                !boxes.is_empty() || axis.panel % 2 == 1 || axis.side == AxisSide::Left,
-                "{name}: an axis without any label"
+                tick.pixel >= low - 0.5 && tick.pixel <= high + 0.5,
+                "{name}: tick {} at {} outside the axis {low}..{high}",
+                tick.label,
+                tick.pixel
             );
+            if let Some(bounds) = tick.label_bounds() {
+                // the label's centre along the axis sits at its tick, inside the frame
+                let centre = match axis.side {
+                    AxisSide::Bottom => bounds.x + bounds.width / 2.0,
+                    AxisSide::Left => bounds.y + bounds.height / 2.0,
+                };
+                assert!(
+                    centre >= low - 0.5 && centre <= high + 0.5,
+                    "{name}: label {} centred at {centre} outside {low}..{high}",
+                    tick.label
+                );
+                assert!(
+                    bounds.x >= 0.0 && bounds.right() <= scene.width + 0.5,
+                    "{name}"
+                );
+                assert!(
+                    bounds.y >= 0.0 && bounds.bottom() <= scene.height + 0.5,
+                    "{name}"
+                );
+                boxes.push((tick.label.clone(), bounds));
+            }
         }
+        for (index, (first, first_box)) in boxes.iter().enumerate() {
+            for (second, second_box) in &boxes[index + 1..] {
+                assert!(
+                    !first_box.overlaps(second_box),
+                    "{name}: labels {first} and {second} overlap"
+                );
+            }
+        }
+        assert!(
+            !boxes.is_empty() || axis.panel % 2 == 1 || axis.side == AxisSide::Left,
+            "{name}: an axis without any label"
+        );
     }
 }
 
@@ -463,5 +468,181 @@ fn hostile_charts_lay_out_without_panics_and_stay_parseable() {
         let svg = write_svg(&scene);
         roxmltree::Document::parse(&svg).unwrap();
         parse_svg(&svg).unwrap();
+    }
+}
+
+/// Every text of the scene with the role of the innermost group it is drawn in.
+fn texts_by_role(scene: &Scene) -> Vec<(Role, BoxRect, String)> {
+    fn walk(node: &Node, role: Role, out: &mut Vec<(Role, BoxRect, String)>) {
+        match node {
+            Node::Primitive(primitive) => {
+                if let Shape::Text(item) = &primitive.shape {
+                    out.push((role, item.bounds, item.content.clone()));
+                }
+            }
+            Node::Group(group) => group
+                .children
+                .iter()
+                .for_each(|child| walk(child, group.role, out)),
+        }
+    }
+    let mut out = Vec::new();
+    for group in &scene.groups {
+        group
+            .children
+            .iter()
+            .for_each(|child| walk(child, group.role, &mut out));
+    }
+    out
+}
+
+fn inside(inner: &BoxRect, outer: &BoxRect) -> bool {
+    let slack = 0.5;
+    inner.x >= outer.x - slack
+        && inner.y >= outer.y - slack
+        && inner.right() <= outer.right() + slack
+        && inner.bottom() <= outer.bottom() + slack
+}
+
+/// Every legend and its texts lie inside the frame; legends overlap neither each other, nor a
+/// plot, nor any other text; the axes' labels still fit (`assert_axis_labels_fit`).
+fn assert_legends_fit(name: &str, scene: &Scene) {
+    let frame = BoxRect {
+        x: 0.0,
+        y: 0.0,
+        width: scene.width,
+        height: scene.height,
+    };
+    assert_axis_labels_fit(name, scene);
+    for panel in &scene.panels {
+        assert!(
+            panel.plot.width > 0.0 && panel.plot.height > 0.0 && inside(&panel.plot, &frame),
+            "{name}: plot {:?}",
+            panel.plot
+        );
+    }
+    for (index, legend) in scene.legends.iter().enumerate() {
+        assert!(
+            inside(&legend.bounds, &frame),
+            "{name}: legend `{}` at {:?} leaves the frame",
+            legend.title,
+            legend.bounds
+        );
+        for other in &scene.legends[index + 1..] {
+            assert!(
+                !legend.bounds.overlaps(&other.bounds),
+                "{name}: legends `{}` and `{}` overlap",
+                legend.title,
+                other.title
+            );
+        }
+        for panel in &scene.panels {
+            assert!(
+                !legend.bounds.overlaps(&panel.plot),
+                "{name}: legend `{}` covers a plot",
+                legend.title
+            );
+        }
+    }
+    let texts = texts_by_role(scene);
+    for (index, (role, bounds, content)) in texts.iter().enumerate() {
+        assert!(
+            inside(bounds, &frame),
+            "{name}: text `{content}` at {bounds:?} leaves the frame"
+        );
+        if *role != Role::Legend {
+            for legend in &scene.legends {
+                assert!(
+                    !legend.bounds.overlaps(bounds),
+                    "{name}: legend `{}` covers the text `{content}`",
+                    legend.title
+                );
+            }
+            continue;
+        }
+        assert!(
+            scene
+                .legends
+                .iter()
+                .any(|legend| inside(bounds, &legend.bounds)),
+            "{name}: legend text `{content}` outside its legend"
+        );
+        for (_, other_bounds, other) in &texts[index + 1..] {
+            assert!(
+                !bounds.overlaps(other_bounds),
+                "{name}: legend text `{content}` overlaps `{other}`"
+            );
+        }
+    }
+}
+
+/// Frames from 200 x 150 to 1200 x 800 and one to three legends of up to 16 entries: every
+/// legend box and label lies inside the frame and overlaps nothing; a legend shows all its
+/// entries (as it does on the largest frame) or the scene's notes name it.
+#[test]
+fn legends_fit_every_frame_from_small_to_large() {
+    let widths = [200.0, 260.0, 320.0, 480.0, 640.0, 900.0, 1200.0];
+    let heights = [150.0, 200.0, 240.0, 320.0, 400.0, 600.0, 800.0];
+    let mut arrangements = std::collections::BTreeMap::new();
+    let mut checked = 0;
+    for stalls in [0, 1, 7, 16] {
+        for produce in [0, 1, 7, 16] {
+            for with_size in [false, true] {
+                if stalls == 0 && produce == 0 && !with_size {
+                    continue;
+                }
+                let reference = layout(&charts::market_legends(
+                    1200.0, 800.0, stalls, produce, with_size,
+                ));
+                assert!(reference.notes.is_empty(), "{:?}", reference.notes);
+                let expected =
+                    usize::from(stalls > 0) + usize::from(produce > 0) + usize::from(with_size);
+                assert_eq!(reference.legends.len(), expected);
+                for width in widths {
+                    for height in heights {
+                        let name = format!(
+                            "{width} x {height}, {stalls} stalls, {produce} produce, size {with_size}"
+                        );
+                        let scene = layout(&charts::market_legends(
+                            width, height, stalls, produce, with_size,
+                        ));
+                        assert_legends_fit(&name, &scene);
+                        for wanted in &reference.legends {
+                            let drawn = scene
+                                .legends
+                                .iter()
+                                .find(|legend| legend.title == wanted.title);
+                            let complete =
+                                drawn.is_some_and(|legend| legend.entries == wanted.entries);
+                            let noted = scene
+                                .notes
+                                .iter()
+                                .any(|note| note.contains(&format!("`{}`", wanted.title)));
+                            assert!(
+                                complete || noted,
+                                "{name}: legend `{}` is cut short without a note",
+                                wanted.title
+                            );
+                            assert!(!(complete && noted), "{name}: a note for a whole legend");
+                        }
+                        let plot = scene.panels[0].plot;
+                        let side = match scene.legends.first() {
+                            None => "none",
+                            Some(legend) if legend.bounds.x >= plot.right() => "right",
+                            Some(_) => "below",
+                        };
+                        let key = (side, !scene.notes.is_empty());
+                        *arrangements.entry(key).or_insert(0) += 1;
+                        checked += 1;
+                    }
+                }
+            }
+        }
+    }
+    assert_eq!(checked, 31 * 49);
+    eprintln!("arrangements (side, entries left out): {arrangements:?}");
+    // the table reaches every arrangement
+    for key in [("right", false), ("below", false), ("right", true)] {
+        assert!(arrangements.contains_key(&key), "{key:?}: {arrangements:?}");
     }
 }

@@ -562,3 +562,100 @@ pub fn all_charts() -> Vec<(&'static str, EvaluatedChart)> {
         ("density-scatter", density_scatter(120, 80, 50_000)),
     ]
 }
+
+/// A market-stall scatter with up to three legends: colour by stall (`stalls` categories),
+/// shape by produce (`produce` categories), and size by crates (a continuous scale), each
+/// legend present when its count is above zero, at a `width` x `height` frame.
+pub fn market_legends(
+    width: f64,
+    height: f64,
+    stalls: usize,
+    produce: usize,
+    with_size: bool,
+) -> EvaluatedChart {
+    let stall_names: Vec<String> = (0..stalls)
+        .map(|i| {
+            if i % 3 == 0 {
+                format!("Quayside stall {}", i + 1)
+            } else {
+                format!("Stall {}", i + 1)
+            }
+        })
+        .collect();
+    let produce_names: Vec<String> = (0..produce)
+        .map(|i| ["pears", "leeks", "damsons", "kale"][i % 4].to_string() + &format!(" {i}"))
+        .collect();
+    let mut channels = vec![
+        channel(
+            Channel::X,
+            "morning footfall",
+            AttributeKind::Quantitative,
+            Domain::Numeric {
+                min: 0.0,
+                max: 400.0,
+            },
+        ),
+        channel(
+            Channel::Y,
+            "takings",
+            AttributeKind::Quantitative,
+            Domain::Numeric {
+                min: 0.0,
+                max: 90.0,
+            },
+        ),
+    ];
+    if stalls > 0 {
+        let refs: Vec<&str> = stall_names.iter().map(String::as_str).collect();
+        channels.push(channel(
+            Channel::Hue,
+            "stall",
+            AttributeKind::Categorical,
+            categories(&refs),
+        ));
+    }
+    if produce > 0 {
+        let refs: Vec<&str> = produce_names.iter().map(String::as_str).collect();
+        channels.push(channel(
+            Channel::Shape,
+            "produce",
+            AttributeKind::Categorical,
+            categories(&refs),
+        ));
+    }
+    if with_size {
+        channels.push(channel(
+            Channel::Area,
+            "crates brought",
+            AttributeKind::Quantitative,
+            Domain::Numeric {
+                min: 1.0,
+                max: 48.0,
+            },
+        ));
+    }
+    let count = stalls.max(produce).max(4);
+    let marks = (0..count)
+        .map(|i| {
+            let t = i as f64;
+            let mut values = vec![
+                Datum::Number((t * 37.0) % 400.0),
+                Datum::Number(10.0 + (t * 11.0) % 80.0),
+            ];
+            if stalls > 0 {
+                values.push(text(&stall_names[i % stalls]));
+            }
+            if produce > 0 {
+                values.push(text(&produce_names[i % produce]));
+            }
+            if with_size {
+                values.push(Datum::Number(1.0 + (t * 5.0) % 47.0));
+            }
+            mark(values)
+        })
+        .collect();
+    let mut chart = chart("Market takings", vec![layer(Mark::Point, channels, marks)]);
+    chart.width = width;
+    chart.height = height;
+    chart
+}

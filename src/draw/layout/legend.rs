@@ -446,17 +446,27 @@ pub(super) fn plan_legends(specs: Vec<LegendSpec>, room: &LegendRoom) -> LegendP
     {
         return plan;
     }
-    let most_lines = specs.iter().map(LegendSpec::line_count).max().unwrap_or(1);
     for kept in (1..=specs.len()).rev() {
-        for cap in (1..=most_lines).rev() {
-            let capped: Vec<LegendSpec> =
-                specs[..kept].iter().map(|spec| spec.capped(cap)).collect();
+        // the legend with the most lines gives one up (the later one of a tie) until they fit
+        let mut caps: Vec<usize> = specs[..kept].iter().map(LegendSpec::line_count).collect();
+        loop {
+            let capped: Vec<LegendSpec> = specs
+                .iter()
+                .zip(&caps)
+                .map(|(spec, cap)| spec.capped(*cap))
+                .collect();
             let plan = fits_right(&capped, room, room.right_width_last_resort)
                 .or_else(|| fits_below(&capped, room, room.below_height_last_resort));
             if let Some(mut plan) = plan {
                 for (original, drawn) in specs.iter().zip(&capped) {
-                    let (shown, total) = drawn.shown_of_total();
-                    if shown < original.shown_of_total().0 {
+                    let (shown, _) = drawn.shown_of_total();
+                    let (all, total) = original.shown_of_total();
+                    if shown == 0 && all > 0 {
+                        plan.notes.push(format!(
+                            "the legend `{}` shows only how many entries it has ({total}): the frame is too small for them",
+                            original.title
+                        ));
+                    } else if shown < all {
                         plan.notes.push(format!(
                             "the legend `{}` shows {shown} of its {total} entries: the frame is too small for the rest",
                             original.title
@@ -471,6 +481,15 @@ pub(super) fn plan_legends(specs: Vec<LegendSpec>, room: &LegendRoom) -> LegendP
                 }
                 return plan;
             }
+            let Some((largest, _)) = caps
+                .iter()
+                .enumerate()
+                .filter(|(_, cap)| **cap > 1)
+                .max_by_key(|(index, cap)| (**cap, *index))
+            else {
+                break;
+            };
+            caps[largest] -= 1;
         }
     }
     let mut plan = empty;

@@ -61,11 +61,11 @@ pub const MIN_SYMBOL_RADIUS: f64 = 1.5;
 /// Radius of a point without an area channel.
 pub const DEFAULT_POINT_RADIUS: f64 = 3.5;
 /// The plots keep at least this share of the frame's width beside legends at the right, and of
-/// its height above legends set below; past it the legends move below, then show fewer entries
-/// (markwell's choice).
+/// its height above legends set below; past it the legends move below (markwell's choice).
 pub const MIN_PLOT_SHARE: f64 = 0.45;
-/// The last-resort smallest plot side (pixels), kept when the legends show fewer entries
-/// (markwell's choice).
+/// When the legends fit neither way, the plots may shrink to this share of the frame (and
+/// `MIN_PLOT_SIDE` pixels) before the legends show fewer entries (markwell's choice).
+pub const LAST_RESORT_PLOT_SHARE: f64 = 0.25;
 pub const MIN_PLOT_SIDE: f64 = 40.0;
 /// Gap between the x axis title and legends set below the plots.
 const LEGENDS_BELOW_GAP: f64 = 10.0;
@@ -617,6 +617,34 @@ fn shorten_label(label: &str) -> String {
     }
 }
 
+/// A title centred on `centre` along its line, moved to stay within `span` (low, high), and
+/// shortened with an ellipsis when it is longer than the span: the text and its centre.
+fn title_within(title: &str, size: f64, centre: f64, span: (f64, f64)) -> (String, f64) {
+    let (low, high) = span;
+    let room = (high - low).max(0.0);
+    let mut text = title.to_string();
+    if text_width(&text, size) > room {
+        let mut chars: Vec<char> = title.chars().collect();
+        while !chars.is_empty() {
+            chars.pop();
+            text = chars.iter().collect::<String>() + "…";
+            if text_width(&text, size) <= room {
+                break;
+            }
+        }
+        if chars.is_empty() {
+            text.clear();
+        }
+    }
+    let half = text_width(&text, size) / 2.0;
+    let centre = if half * 2.0 >= room {
+        (low + high) / 2.0
+    } else {
+        centre.clamp(low + half, high - half)
+    };
+    (text, centre)
+}
+
 /// A number as a label: up to six significant digits, no trailing zeros.
 pub fn format_number(value: f64) -> String {
     if !value.is_finite() {
@@ -1056,8 +1084,9 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
             right_width: right_room - MIN_PLOT_SHARE * width,
             below_width: width - 2.0 * FRAME_PADDING,
             below_height: below_room - MIN_PLOT_SHARE * height,
-            right_width_last_resort: right_room - MIN_PLOT_SIDE,
-            below_height_last_resort: below_room - MIN_PLOT_SIDE,
+            right_width_last_resort: right_room - MIN_PLOT_SIDE.max(LAST_RESORT_PLOT_SHARE * width),
+            below_height_last_resort: below_room
+                - MIN_PLOT_SIDE.max(LAST_RESORT_PLOT_SHARE * height),
         },
     );
     notes.extend(legend_plan.notes.iter().cloned());
@@ -1421,15 +1450,28 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
     let grid_right = width - right;
     let grid_top = top;
     let grid_bottom = height - bottom;
+    // a title wider than the grid is moved, then shortened, to stay clear of the frame's edges
+    // and of the legends
+    let titles_right = if legend_plan.side == LegendSide::Right && legend_plan.width > 0.0 {
+        width - right + LEGEND_GAP_ACROSS / 2.0
+    } else {
+        width - FRAME_PADDING
+    };
     let mut titles = Vec::new();
     if let Some(title) = x_title.as_deref().filter(|title| !title.is_empty()) {
+        let (title, centre) = title_within(
+            title,
+            AXIS_TITLE_SIZE,
+            (grid_left + grid_right) / 2.0,
+            (FRAME_PADDING, titles_right),
+        );
         titles.push(text_node(text_item(
             Point {
-                x: (grid_left + grid_right) / 2.0,
+                x: centre,
                 y: height - FRAME_PADDING - legends_below - descent(AXIS_TITLE_SIZE),
             },
             Text {
-                content: title,
+                content: &title,
                 size: AXIS_TITLE_SIZE,
                 anchor: Anchor::Middle,
                 rotation: 0.0,
@@ -1438,13 +1480,19 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         )));
     }
     if let Some(title) = y_title.as_deref().filter(|title| !title.is_empty()) {
+        let (title, centre) = title_within(
+            title,
+            AXIS_TITLE_SIZE,
+            (grid_top + grid_bottom) / 2.0,
+            (top, height - FRAME_PADDING - legends_below),
+        );
         titles.push(text_node(text_item(
             Point {
                 x: FRAME_PADDING + ascent(AXIS_TITLE_SIZE),
-                y: (grid_top + grid_bottom) / 2.0,
+                y: centre,
             },
             Text {
-                content: title,
+                content: &title,
                 size: AXIS_TITLE_SIZE,
                 anchor: Anchor::Middle,
                 rotation: -90.0,
