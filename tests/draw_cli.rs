@@ -267,3 +267,40 @@ fn a_folder_without_specs_is_trouble() {
     assert_eq!(result.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&result.stderr).contains("no chart specs"));
 }
+
+#[test]
+fn legends_too_big_for_a_small_frame_are_cut_short_and_the_output_says_so() {
+    // sixteen invented kiosks by colour and by shape on a 260 x 200 frame
+    let rows: Vec<String> = (0..16)
+        .map(|i| {
+            format!(
+                r#"{{ "kiosk": "Kiosk {i}", "pier": "Pier {i}", "cones": {}, "hour": {} }}"#,
+                20 + (i * 7) % 50,
+                9 + i % 8
+            )
+        })
+        .collect();
+    let spec = format!(
+        r#"{{
+  "title": "Cones sold",
+  "frame": {{ "width": 260, "height": 200 }},
+  "source": {{ "rows": [ {} ] }},
+  "mark": "point",
+  "bind": {{ "x": "hour", "y": "cones", "hue": "kiosk", "shape": "pier" }}
+}}"#,
+        rows.join(", ")
+    );
+    let dir = tempfile::tempdir().unwrap();
+    write(&dir.path().join(".git/HEAD"), "ref: main\n");
+    write(&dir.path().join("kiosks.chart.json"), &spec);
+    let result = markwell(&["draw", "kiosks.chart.json", "-o", "out"], dir.path());
+    let stderr = String::from_utf8_lossy(&result.stderr);
+    assert!(
+        stderr.contains("the legend `kiosk`") && stderr.contains("the frame is too small"),
+        "{stderr}"
+    );
+    // drawn, but not all of it: the same exit as any other note
+    assert_eq!(result.status.code(), Some(1), "{stderr}");
+    let svg = std::fs::read_to_string(dir.path().join("out/kiosks.svg")).unwrap();
+    assert!(svg.contains("more</text>"), "a '+N more' line");
+}

@@ -646,3 +646,28 @@ fn legends_fit_every_frame_from_small_to_large() {
         assert!(arrangements.contains_key(&key), "{key:?}: {arrangements:?}");
     }
 }
+
+/// Every hand-built chart (bars, stacks, lines, pies, cells, panels, a density grid) at small
+/// and large frames: its legends fit as the market scatter's do.
+#[test]
+fn every_hand_built_chart_keeps_its_legends_inside_small_frames() {
+    let mut with_legends = 0;
+    for (name, chart) in charts::all_charts() {
+        for (width, height) in [
+            (320.0, 200.0),
+            (480.0, 240.0),
+            (640.0, 400.0),
+            (1200.0, 800.0),
+        ] {
+            let mut chart = chart.clone();
+            chart.width = width;
+            chart.height = height;
+            // the chart title is not shortened to the frame (yet): a short one here
+            chart.title = Some("Ledger".to_string());
+            let scene = layout(&chart);
+            assert_legends_fit(&format!("{name} at {width} x {height}"), &scene);
+            with_legends += usize::from(!scene.legends.is_empty());
+        }
+    }
+    assert!(with_legends >= 16, "{with_legends} scenes with legends");
+}
