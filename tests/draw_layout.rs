@@ -671,3 +671,81 @@ fn every_hand_built_chart_keeps_its_legends_inside_small_frames() {
     }
     assert!(with_legends >= 16, "{with_legends} scenes with legends");
 }
+
+/// Long orchard names turn the x labels upright; with sixteen varieties the legend moves or
+/// shrinks, and still clears the turned labels.
+#[test]
+fn legends_clear_upright_category_labels() {
+    let orchards: Vec<String> = (0..12)
+        .map(|i| format!("Orchard on the far hill {i}"))
+        .collect();
+    let varieties: Vec<String> = (0..16).map(|i| format!("Variety {i}")).collect();
+    let orchard_refs: Vec<&str> = orchards.iter().map(String::as_str).collect();
+    let variety_refs: Vec<&str> = varieties.iter().map(String::as_str).collect();
+    let mut turned = 0;
+    for (width, height) in [
+        (320.0, 200.0),
+        (480.0, 320.0),
+        (640.0, 400.0),
+        (900.0, 300.0),
+    ] {
+        let mut chart = charts::orchard_stack(Arrange::SideBySide);
+        chart.width = width;
+        chart.height = height;
+        chart.title = Some("Crates".to_string());
+        let layer = &mut chart.layers[0];
+        layer.channels[0].domain = charts::categories(&orchard_refs);
+        layer.channels[2].domain = charts::categories(&variety_refs);
+        layer.marks = (0..orchards.len() * 2)
+            .map(|i| {
+                charts::mark(vec![
+                    charts::text(orchard_refs[i % orchards.len()]),
+                    markwell::eval::model::Datum::Number(20.0 + (i * 13 % 90) as f64),
+                    charts::text(variety_refs[i % varieties.len()]),
+                ])
+            })
+            .collect();
+        let scene = layout(&chart);
+        assert_legends_fit(&format!("{width} x {height}"), &scene);
+        turned += scene
+            .axes
+            .iter()
+            .filter(|axis| axis.side == AxisSide::Bottom)
+            .flat_map(|axis| axis.ticks.iter().filter_map(|tick| tick.label_bounds()))
+            .filter(|bounds| bounds.height > bounds.width)
+            .count();
+    }
+    assert!(turned > 0, "the labels are turned somewhere");
+}
+
+/// Sixty layers, each with its own three legends: a dozen are drawn, inside the frame, and a
+/// note says how many are left out.
+#[test]
+fn a_chart_with_many_legends_draws_a_dozen_and_says_so() {
+    use markwell::draw::layout::MAX_LEGENDS;
+    use markwell::spec::model::Channel;
+    for (width, height) in [(320.0, 200.0), (1200.0, 800.0)] {
+        let mut chart = charts::market_legends(width, height, 16, 16, true);
+        let first = chart.layers[0].clone();
+        for index in 1..60 {
+            let mut layer = first.clone();
+            layer.index = index;
+            for info in &mut layer.channels {
+                if !matches!(info.channel, Channel::X | Channel::Y) {
+                    info.title = format!("{} {index}", info.title);
+                }
+            }
+            chart.layers.push(layer);
+        }
+        let scene = layout(&chart);
+        assert!(scene.legends.len() <= MAX_LEGENDS);
+        assert!(
+            scene.notes.iter().any(
+                |note| note.starts_with(&format!("{} legends are left out", 180 - MAX_LEGENDS))
+            ),
+            "{:?}",
+            scene.notes
+        );
+        assert_legends_fit(&format!("sixty layers at {width} x {height}"), &scene);
+    }
+}

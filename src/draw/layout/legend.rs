@@ -16,12 +16,18 @@ pub(super) struct LegendSpec {
     /// The entries are values sampled from a continuous scale (a ramp, sizes, counts): when
     /// there is no room for all, fewer are drawn, the two ends kept, with no "+N more" line.
     sampled: bool,
+    /// The widest entry line and the title's width, measured once (`measured`).
+    entry_width: f64,
+    title_width: f64,
 }
 
 const SWATCH: f64 = 11.0;
 /// Entries one legend lists at most; past it the last says how many more there are.
 pub const MAX_LEGEND_ENTRIES: usize = 16;
 const LEGEND_ROW: f64 = 17.0;
+/// Legends drawn at most; the others are left out with a note (markwell's choice: past a
+/// dozen, a reader cannot hold them apart).
+pub const MAX_LEGENDS: usize = 12;
 /// The widest a legend's title or entry column is drawn (pixels).
 const MAX_LEGEND_WIDTH: f64 = 220.0;
 /// Gap between a legend's title and its first entry.
@@ -117,13 +123,18 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
                 hidden = entries.len() - (MAX_LEGEND_ENTRIES - 1);
                 entries.truncate(MAX_LEGEND_ENTRIES - 1);
             }
-            specs.push(LegendSpec {
-                channel: info.channel,
-                title: info.title.clone(),
-                entries,
-                hidden,
-                sampled,
-            });
+            specs.push(
+                LegendSpec {
+                    channel: info.channel,
+                    title: info.title.clone(),
+                    entries,
+                    hidden,
+                    sampled,
+                    entry_width: 0.0,
+                    title_width: 0.0,
+                }
+                .measured(),
+            );
         }
     }
     if let Some(layer) = chart.layers.iter().find(|layer| layer.density.is_some()) {
@@ -157,13 +168,18 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
                     radius: SWATCH / 2.0,
                 });
             }
-            specs.push(LegendSpec {
-                channel: Channel::Luminance,
-                title: "rows per cell".to_string(),
-                entries,
-                hidden: 0,
-                sampled: true,
-            });
+            specs.push(
+                LegendSpec {
+                    channel: Channel::Luminance,
+                    title: "rows per cell".to_string(),
+                    entries,
+                    hidden: 0,
+                    sampled: true,
+                    entry_width: 0.0,
+                    title_width: 0.0,
+                }
+                .measured(),
+            );
         }
     }
     specs
@@ -217,13 +233,20 @@ impl LegendSpec {
             .fold(SWATCH, f64::max)
     }
 
-    fn entry_width(&self) -> f64 {
+    fn measured(mut self) -> LegendSpec {
         let mark_room = self.mark_room();
-        self.lines()
+        self.entry_width = self
+            .lines()
             .iter()
             .map(|entry| mark_room + 6.0 + text_width(&entry.label, LEGEND_SIZE))
             .fold(0.0, f64::max)
-            .min(MAX_LEGEND_WIDTH)
+            .min(MAX_LEGEND_WIDTH);
+        self.title_width = text_width(&self.title, LEGEND_SIZE).min(MAX_LEGEND_WIDTH);
+        self
+    }
+
+    fn entry_width(&self) -> f64 {
+        self.entry_width
     }
 
     fn title_height() -> f64 {
@@ -247,15 +270,17 @@ impl LegendSpec {
 
     /// Width and height of the legend with its lines in `columns` columns.
     fn size(&self, columns: usize) -> (f64, f64) {
-        let set = self.column_lines(columns);
-        let count = set.len().max(1) as f64;
+        let mut rows: Vec<f64> = self.entries.iter().map(Self::row_height).collect();
+        if self.hidden > 0 {
+            rows.push(LEGEND_ROW);
+        }
+        let per_column = rows.len().div_ceil(columns.max(1)).max(1);
+        let count = rows.len().div_ceil(per_column).max(1) as f64;
         let entries_width = count * self.entry_width() + (count - 1.0) * ENTRY_COLUMN_GAP;
-        let width = text_width(&self.title, LEGEND_SIZE)
-            .min(MAX_LEGEND_WIDTH)
-            .max(entries_width);
-        let tallest = set
-            .iter()
-            .map(|column| column.iter().map(Self::row_height).sum::<f64>())
+        let width = self.title_width.max(entries_width);
+        let tallest = rows
+            .chunks(per_column)
+            .map(|column| column.iter().sum::<f64>())
             .fold(0.0, f64::max);
         (width, Self::title_height() + tallest)
     }
@@ -296,7 +321,7 @@ impl LegendSpec {
             capped.hidden = self.hidden + (self.entries.len() - keep);
             capped.entries.truncate(keep);
         }
-        capped
+        capped.measured()
     }
 
     /// Entries of the legend's scale or list that the drawing leaves out.
@@ -441,59 +466,84 @@ pub(super) fn plan_legends(specs: Vec<LegendSpec>, room: &LegendRoom) -> LegendP
     if specs.is_empty() {
         return empty;
     }
-    if let Some(plan) = fits_right(&specs, room, room.right_width)
-        .or_else(|| fits_below(&specs, room, room.below_height))
+    let mut specs = specs;
+    let mut notes = Vec::new();
+    if specs.len() > MAX_LEGENDS {
+        notes.push(format!(
+            "{} legends are left out: markwell draws {MAX_LEGENDS} at most",
+            specs.len() - MAX_LEGENDS
+        ));
+        specs.truncate(MAX_LEGENDS);
+    }
+    let mut plan = plan_some_legends(&specs, room);
+    notes.append(&mut plan.notes);
+    plan.notes = notes;
+    plan
+}
+
+fn plan_some_legends(specs: &[LegendSpec], room: &LegendRoom) -> LegendPlan {
+    let empty = LegendPlan {
+        side: LegendSide::Right,
+        placed: Vec::new(),
+        width: 0.0,
+        height: 0.0,
+        notes: Vec::new(),
+    };
+    if let Some(plan) = fits_right(specs, room, room.right_width)
+        .or_else(|| fits_below(specs, room, room.below_height))
     {
         return plan;
     }
-    for kept in (1..=specs.len()).rev() {
-        // the legend with the most lines gives one up (the later one of a tie) until they fit
-        let mut caps: Vec<usize> = specs[..kept].iter().map(LegendSpec::line_count).collect();
-        loop {
-            let capped: Vec<LegendSpec> = specs
-                .iter()
-                .zip(&caps)
-                .map(|(spec, cap)| spec.capped(*cap))
-                .collect();
-            let plan = fits_right(&capped, room, room.right_width_last_resort)
-                .or_else(|| fits_below(&capped, room, room.below_height_last_resort));
-            if let Some(mut plan) = plan {
-                for (original, drawn) in specs.iter().zip(&capped) {
-                    let (shown, _) = drawn.shown_of_total();
-                    let (all, total) = original.shown_of_total();
-                    if shown == 0 && all > 0 {
-                        plan.notes.push(format!(
-                            "the legend `{}` shows only how many entries it has ({total}): the frame is too small for them",
-                            original.title
-                        ));
-                    } else if shown < all {
-                        plan.notes.push(format!(
-                            "the legend `{}` shows {shown} of its {total} entries: the frame is too small for the rest",
-                            original.title
-                        ));
-                    }
-                }
-                for original in &specs[kept..] {
+    // the legend with the most lines gives one up (the later one of a tie) until they fit;
+    // when one line each is still too much, the last legends are left out
+    let mut caps: Vec<usize> = specs.iter().map(LegendSpec::line_count).collect();
+    loop {
+        let capped: Vec<LegendSpec> = specs
+            .iter()
+            .zip(&caps)
+            .map(|(spec, cap)| spec.capped(*cap))
+            .collect();
+        let plan = fits_right(&capped, room, room.right_width_last_resort)
+            .or_else(|| fits_below(&capped, room, room.below_height_last_resort));
+        if let Some(mut plan) = plan {
+            for (original, drawn) in specs.iter().zip(&capped) {
+                let (shown, _) = drawn.shown_of_total();
+                let (all, total) = original.shown_of_total();
+                if shown == 0 && all > 0 {
                     plan.notes.push(format!(
-                        "the legend `{}` is left out: the frame is too small for it",
+                        "the legend `{}` shows only how many entries it has ({total}): the frame is too small for them",
+                        original.title
+                    ));
+                } else if shown < all {
+                    plan.notes.push(format!(
+                        "the legend `{}` shows {shown} of its {total} entries: the frame is too small for the rest",
                         original.title
                     ));
                 }
-                return plan;
             }
-            let Some((largest, _)) = caps
-                .iter()
-                .enumerate()
-                .filter(|(_, cap)| **cap > 1)
-                .max_by_key(|(index, cap)| (**cap, *index))
-            else {
-                break;
-            };
-            caps[largest] -= 1;
+            for original in &specs[caps.len()..] {
+                plan.notes.push(format!(
+                    "the legend `{}` is left out: the frame is too small for it",
+                    original.title
+                ));
+            }
+            return plan;
+        }
+        match caps
+            .iter()
+            .enumerate()
+            .filter(|(_, cap)| **cap > 1)
+            .max_by_key(|(index, cap)| (**cap, *index))
+        {
+            Some((largest, _)) => caps[largest] -= 1,
+            None if caps.len() > 1 => {
+                caps.pop();
+            }
+            None => break,
         }
     }
     let mut plan = empty;
-    for original in &specs {
+    for original in specs {
         plan.notes.push(format!(
             "the legend `{}` is left out: the frame is too small for it",
             original.title

@@ -16,7 +16,7 @@ use legend::{
 };
 use marks::{layer_group, mark_inset, symbol_radius};
 
-pub use legend::MAX_LEGEND_ENTRIES;
+pub use legend::{MAX_LEGENDS, MAX_LEGEND_ENTRIES};
 
 use std::collections::HashMap;
 use std::sync::{Mutex, OnceLock};
@@ -617,25 +617,33 @@ fn shorten_label(label: &str) -> String {
     }
 }
 
+/// `text` as it is when it is at most `room` wide, else shortened with an ellipsis to fit
+/// (empty when not even one character and the ellipsis fit).
+fn fit_to_width(text: &str, size: f64, room: f64) -> String {
+    if text_width(text, size) <= room {
+        return text.to_string();
+    }
+    // as many characters as can fit when none is narrower than a fifth of the size (the bundled
+    // font's printing glyphs are wider): a very long text costs no more than a short one, and a
+    // text of narrower marks is only cut sooner than it needs to be
+    let most = (room.max(0.0) / (size * 0.2)).ceil() as usize + 1;
+    let mut chars: Vec<char> = text.chars().take(most).collect();
+    while !chars.is_empty() {
+        chars.pop();
+        let shortened = chars.iter().collect::<String>() + "…";
+        if text_width(&shortened, size) <= room {
+            return shortened;
+        }
+    }
+    String::new()
+}
+
 /// A title centred on `centre` along its line, moved to stay within `span` (low, high), and
 /// shortened with an ellipsis when it is longer than the span: the text and its centre.
 fn title_within(title: &str, size: f64, centre: f64, span: (f64, f64)) -> (String, f64) {
     let (low, high) = span;
     let room = (high - low).max(0.0);
-    let mut text = title.to_string();
-    if text_width(&text, size) > room {
-        let mut chars: Vec<char> = title.chars().collect();
-        while !chars.is_empty() {
-            chars.pop();
-            text = chars.iter().collect::<String>() + "…";
-            if text_width(&text, size) <= room {
-                break;
-            }
-        }
-        if chars.is_empty() {
-            text.clear();
-        }
-    }
+    let text = fit_to_width(title, size, room);
     let half = text_width(&text, size) / 2.0;
     let centre = if half * 2.0 >= room {
         (low + high) / 2.0
@@ -1230,11 +1238,6 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
             .min(height * 0.3)
             .max(line_height(TICK_LABEL_SIZE)),
     };
-    let x_axis_band = if x_scale.is_some() {
-        TICK_LENGTH + TICK_LABEL_GAP + x_label_room + 2.0
-    } else {
-        0.0
-    };
     let bottom = FRAME_PADDING
         + legends_below
         + if x_title.as_deref().is_some_and(|title| !title.is_empty()) {
@@ -1243,6 +1246,22 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
             0.0
         };
     let panel_gap_y = 10.0;
+    // turned labels take no more than leaves each plot `MIN_PLOT_SIDE` tall; longer ones are
+    // shortened to the room
+    let x_label_room = if x_setting == XLabelSetting::Upright && x_scale.is_some() {
+        let per_row =
+            (height - top - bottom - panel_gap_y * (rows - 1) as f64) / rows as f64 - strip;
+        x_label_room
+            .min(per_row - TICK_LENGTH - TICK_LABEL_GAP - 2.0 - MIN_PLOT_SIDE)
+            .max(line_height(TICK_LABEL_SIZE))
+    } else {
+        x_label_room
+    };
+    let x_axis_band = if x_scale.is_some() {
+        TICK_LENGTH + TICK_LABEL_GAP + x_label_room + 2.0
+    } else {
+        0.0
+    };
     let plot_height = ((height - top - bottom - (strip + x_axis_band) * rows as f64 + 0.0
         - panel_gap_y * (rows - 1) as f64)
         / rows as f64)
@@ -1352,7 +1371,7 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         let mut grid = Vec::new();
         if let (Some(scale), Some(info)) = (x, &x_info) {
             let ticks = fitting_x_ticks(scale, panel.plot.width);
-            let axis = x_axis(panel, scale, info, ticks, x_setting);
+            let axis = x_axis(panel, scale, info, ticks, x_setting, x_label_room);
             if matches!(scale, PositionScale::Continuous(_)) {
                 for tick in &axis.ticks {
                     grid.push(plain(
@@ -1582,6 +1601,7 @@ fn x_axis(
     info: &ChannelInfo,
     ticks: Vec<(Option<f64>, f64, String)>,
     setting: XLabelSetting,
+    upright_room: f64,
 ) -> AxisLayout {
     let baseline = panel.plot.bottom() + TICK_LENGTH + TICK_LABEL_GAP;
     let mut laid: Vec<TickLayout> = Vec::new();
@@ -1607,7 +1627,7 @@ fn x_axis(
                     y: baseline,
                 },
                 Text {
-                    content: &label,
+                    content: &fit_to_width(&label, TICK_LABEL_SIZE, upright_room),
                     size: TICK_LABEL_SIZE,
                     anchor: Anchor::End,
                     rotation: -90.0,
