@@ -1,4 +1,7 @@
-//! Legends for colour (categories and ramps), size and shape channels, and for a density grid.
+//! Legends for colour (categories and ramps), size and shape channels, and for a density grid,
+//! and their arrangement inside the frame (`plan_legends`): one column at the right, more
+//! columns, rows below the plots, and as a last resort fewer entries; what is left out is said
+//! in a note.
 
 use super::*;
 
