@@ -662,8 +662,6 @@ fn every_hand_built_chart_keeps_its_legends_inside_small_frames() {
             let mut chart = chart.clone();
             chart.width = width;
             chart.height = height;
-            // the chart title is not shortened to the frame (yet): a short one here
-            chart.title = Some("Ledger".to_string());
             let scene = layout(&chart);
             assert_legends_fit(&format!("{name} at {width} x {height}"), &scene);
             with_legends += usize::from(!scene.legends.is_empty());

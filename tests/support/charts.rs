@@ -654,7 +654,10 @@ pub fn market_legends(
             mark(values)
         })
         .collect();
-    let mut chart = chart("Market takings", vec![layer(Mark::Point, channels, marks)]);
+    let mut chart = chart(
+        "Takings by footfall at the Saturday market",
+        vec![layer(Mark::Point, channels, marks)],
+    );
     chart.width = width;
     chart.height = height;
     chart

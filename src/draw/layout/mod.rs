@@ -1035,13 +1035,15 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
     let mut top = FRAME_PADDING;
     if let Some(title) = chart.title.as_deref().filter(|title| !title.is_empty()) {
         let baseline = top + ascent(TITLE_SIZE);
+        // a title wider than the frame is shortened (the SVG's <title> keeps it whole)
+        let shown = fit_to_width(title, TITLE_SIZE, width - 2.0 * FRAME_PADDING);
         let item = text_item(
             Point {
                 x: FRAME_PADDING,
                 y: baseline,
             },
             Text {
-                content: title,
+                content: &shown,
                 size: TITLE_SIZE,
                 anchor: Anchor::Start,
                 rotation: 0.0,
