@@ -99,15 +99,27 @@ pub(super) fn layer_group(
     let mut skipped = 0u64;
 
     if let Some(grid) = &layer.density {
+        // each panel draws its own rows' counts in its own plot area; every panel's grid has
+        // the same cells and one colour scale (up to the largest count of any panel), so the
+        // panels can be compared
+        let max_count = grid.max_count();
+        let mut drawable = false;
         for (panel, (x, y)) in panels.iter().zip(panel_scales) {
             if let (Some(PositionScale::Continuous(x)), Some(PositionScale::Continuous(y))) = (x, y)
             {
-                if let Some(node) = density_image(grid, x, y, panel) {
+                drawable = true;
+                let Some(counts) = u32::try_from(panel.index)
+                    .ok()
+                    .and_then(|index| grid.counts_of(index))
+                else {
+                    continue;
+                };
+                if let Some(node) = density_image(grid, counts, max_count, x, y) {
                     children.push(node);
                 }
             }
         }
-        if children.is_empty() {
+        if !drawable {
             notes.push(format!(
                 "layer {}: the density grid needs number or time positions on both axes",
                 layer.index + 1
@@ -748,14 +760,17 @@ fn bar_geometry(
     Some((rect, shown))
 }
 
+/// One panel's counts of the grid as an image over the grid's domains, coloured up to
+/// `max_count`.
 fn density_image(
     grid: &DensityGrid,
+    counts: &[u32],
+    max_count: u32,
     x: &ContinuousScale,
     y: &ContinuousScale,
-    panel: &PanelLayout,
 ) -> Option<Node> {
     let cells = (grid.width as usize).checked_mul(grid.height as usize)?;
-    if cells == 0 || grid.counts.len() != cells || cells > 4096 * 4096 {
+    if cells == 0 || counts.len() != cells || cells > 4096 * 4096 {
         return None;
     }
     let left = x.map(grid.x_domain.0)?;
@@ -768,8 +783,7 @@ fn density_image(
         width: (right - left).abs(),
         height: (bottom - top).abs(),
     };
-    let _ = panel;
-    let png = density_png(grid)?;
+    let png = density_png(grid.width, grid.height, counts, max_count)?;
     Some(Node::Primitive(Primitive {
         shape: Shape::Image(ImageItem {
             bounds,
@@ -783,19 +797,20 @@ fn density_image(
     }))
 }
 
-/// The grid as an RGBA PNG: empty cells transparent, counts on the ramp by the logarithm of the
-/// count (common practice for density plots, so single points still show).
-pub fn density_png(grid: &DensityGrid) -> Option<Vec<u8>> {
-    let max = grid.counts.iter().copied().max().unwrap_or(0);
-    let scale = (1.0 + f64::from(max)).ln().max(1e-9);
-    let mut pixels = Vec::with_capacity(grid.counts.len() * 4);
+/// One panel's counts (`width * height`, row 0 at the top) as an RGBA PNG: empty cells
+/// transparent, counts on the ramp by the logarithm of the count over that of `max_count`, the
+/// largest count of every panel (common practice for density plots, so single points still
+/// show).
+pub fn density_png(width: u32, height: u32, counts: &[u32], max_count: u32) -> Option<Vec<u8>> {
+    let scale = (1.0 + f64::from(max_count)).ln().max(1e-9);
+    let mut pixels = Vec::with_capacity(counts.len() * 4);
     let table: Vec<[u8; 3]> = (0..=255)
         .map(|step| {
             let colour = ramp_colour(step as f64 / 255.0);
             [colour.red, colour.green, colour.blue]
         })
         .collect();
-    for count in &grid.counts {
+    for count in counts {
         if *count == 0 {
             pixels.extend_from_slice(&[0, 0, 0, 0]);
         } else {
@@ -805,7 +820,7 @@ pub fn density_png(grid: &DensityGrid) -> Option<Vec<u8>> {
             pixels.extend_from_slice(&[red, green, blue, 255]);
         }
     }
-    let size = resvg::tiny_skia::IntSize::from_wh(grid.width, grid.height)?;
+    let size = resvg::tiny_skia::IntSize::from_wh(width, height)?;
     let pixmap = resvg::tiny_skia::Pixmap::from_vec(pixels, size)?;
     pixmap.encode_png().ok()
 }
