@@ -511,6 +511,74 @@ fn a_density_grid_in_two_panels_is_two_images_each_inside_its_own_plot_area() {
     assert_ne!(density_png_rgba(&alone_images[0]), calm);
 }
 
+#[test]
+fn an_evaluated_grid_that_grew_past_the_data_is_cropped_to_each_panels_plot_area() {
+    use markwell::data::rows::InlineRows;
+    use markwell::eval::{evaluate_chart, EvalOptions, RowSource};
+    use markwell::spec::model::{Source, SourceLocation};
+    // the first 60 rows span 0..9, the later ones reach 22: the grid doubles its span to 36,
+    // well past the axes' domain, and was drawn past the frame and over the other panel
+    let rows: Vec<String> = (0..300)
+        .map(|index| {
+            let value = if index < 60 { index % 10 } else { index % 23 };
+            let ferry = if index % 2 == 0 { "morning" } else { "evening" };
+            format!(r#"{{"ferry": "{ferry}", "x": {value}, "y": {value}}}"#)
+        })
+        .collect();
+    let text = format!(
+        r#"{{"source": {{"rows": [{}]}}, "mark": "point", "panels": {{"by": "ferry"}},
+            "bind": {{"x": "x", "y": "y"}}}}"#,
+        rows.join(",")
+    );
+    let document = markwell::analysis::parse_document(&text);
+    let mut open =
+        |source: &Source| -> Result<Box<dyn RowSource + Send>, markwell::data::DataError> {
+            match &source.location {
+                SourceLocation::Rows { rows, .. } => Ok(Box::new(InlineRows::new(rows.clone()))),
+                _ => panic!("the rows are inline"),
+            }
+        };
+    let chart = evaluate_chart(
+        &document.spec,
+        &mut open,
+        &EvalOptions {
+            max_kept_marks: 50,
+            ..EvalOptions::default()
+        },
+    );
+    let Some(grid) = &chart.layers[0].density else {
+        panic!("a density grid past the cap");
+    };
+    assert!(grid.x_domain.1 > 30.0, "{:?}", grid.x_domain);
+    let scene = layout(&chart);
+    assert_eq!(scene.panels.len(), 2);
+    let images: Vec<_> = scene
+        .primitives()
+        .into_iter()
+        .filter_map(|primitive| match &primitive.shape {
+            Shape::Image(image) => Some(image),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(images.len(), 2);
+    for (image, panel) in images.iter().zip(&scene.panels) {
+        // a cell cut by the plot's edge is kept whole: at most one cell past it
+        let plot = panel.plot;
+        let cell_width = image.bounds.width / f64::from(image.pixel_width);
+        let cell_height = image.bounds.height / f64::from(image.pixel_height);
+        assert!(
+            image.bounds.x >= plot.x - cell_width
+                && image.bounds.right() <= plot.right() + cell_width
+                && image.bounds.y >= plot.y - cell_height
+                && image.bounds.bottom() <= plot.bottom() + cell_height,
+            "image {:?} outside panel {}'s plot {plot:?}",
+            image.bounds,
+            panel.index
+        );
+        assert!(image.pixel_width < grid.width && image.pixel_height < grid.height);
+    }
+}
+
 /// The RGBA pixels of a density image's PNG.
 fn density_png_rgba(image: &markwell::draw::layout::ImageItem) -> Vec<u8> {
     let pixmap = resvg::tiny_skia::Pixmap::decode_png(&image.png).unwrap();
