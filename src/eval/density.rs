@@ -9,8 +9,8 @@
 //! Memory: `width * height` counters per panel, whatever the number of rows. Panels are at most
 //! `layer::MAX_GROUPS` per chart, far too many for a grid each, so a grid holds at most
 //! [`MAX_DENSITY_PANELS`] panels: at most 64 * 320 * 200 * 4 bytes = 16.4 MB, plus one panel's
-//! counts while growing. Rows of further panels are refused by [`DoublingGrid::add`], and the
-//! layer says how many.
+//! counts while growing (finishing turns the counts over in place). Rows of further panels are
+//! refused by [`DoublingGrid::add`], and the layer says how many.
 
 use std::collections::HashMap;
 
@@ -76,6 +76,9 @@ pub struct DoublingGrid {
     panels: Vec<(u32, Vec<u32>)>,
     /// Panel index to its place in `panels`.
     slots: HashMap<u32, usize>,
+    /// The last panel counted and its place: rows of one panel often come together, and a
+    /// chart without panels has only panel 0, so most rows skip the map.
+    last: Option<(u32, usize)>,
 }
 
 impl DoublingGrid {
@@ -88,6 +91,7 @@ impl DoublingGrid {
             y: Axis::covering(y_extent.0, y_extent.1, height),
             panels: Vec::new(),
             slots: HashMap::new(),
+            last: None,
         }
     }
 
@@ -144,7 +148,13 @@ impl DoublingGrid {
 
     /// The place of a panel's counts, made on its first row; `None` past [`MAX_DENSITY_PANELS`].
     fn slot_of(&mut self, panel: u32) -> Option<usize> {
+        if let Some((last_panel, slot)) = self.last {
+            if last_panel == panel {
+                return Some(slot);
+            }
+        }
         if let Some(&slot) = self.slots.get(&panel) {
+            self.last = Some((panel, slot));
             return Some(slot);
         }
         if self.panels.len() >= MAX_DENSITY_PANELS {
@@ -154,6 +164,7 @@ impl DoublingGrid {
         self.panels
             .push((panel, vec![0; self.x.cells * self.y.cells]));
         self.slots.insert(panel, slot);
+        self.last = Some((panel, slot));
         Some(slot)
     }
 
@@ -176,22 +187,20 @@ impl DoublingGrid {
     }
 
     /// The grid as the model has it: panels in the order of their index, row 0 at the top
-    /// (largest y).
-    pub fn finish(&self) -> DensityGrid {
+    /// (largest y). The counts are turned upside down in place, so finishing needs no more
+    /// memory.
+    pub fn finish(self) -> DensityGrid {
         let width = self.x.cells;
         let height = self.y.cells;
         let mut panels: Vec<PanelCounts> = self
             .panels
-            .iter()
-            .map(|(panel, grid)| {
-                let mut counts = Vec::with_capacity(grid.len());
-                for row in (0..height).rev() {
-                    counts.extend_from_slice(&grid[row * width..(row + 1) * width]);
+            .into_iter()
+            .map(|(panel, mut counts)| {
+                for row in 0..height / 2 {
+                    let (lower, upper) = counts.split_at_mut((height - 1 - row) * width);
+                    lower[row * width..(row + 1) * width].swap_with_slice(&mut upper[..width]);
                 }
-                PanelCounts {
-                    panel: *panel,
-                    counts,
-                }
+                PanelCounts { panel, counts }
             })
             .collect();
         panels.sort_by_key(|counts| counts.panel);

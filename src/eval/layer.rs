@@ -1549,7 +1549,7 @@ fn evaluate_rows(
     match keeping {
         Keeping::Marks => {}
         Keeping::Density(grid, refused) => {
-            density = Some(grid.finish());
+            density = Some((*grid).finish());
             state.note(
                 Some(number),
                 format!(

@@ -424,6 +424,47 @@ fn a_density_grid_keeps_each_panels_rows_in_its_own_counts() {
         .any(|note| note.message.contains("one per panel")));
 }
 
+#[test]
+fn density_grids_stop_at_the_panel_cap_and_say_how_many_rows_are_not_drawn() {
+    // 70 bakeries, one row each beyond the first 10 kept: the grid takes the first 64 seen
+    let rows: Vec<String> = (0..140)
+        .map(|index| {
+            format!(
+                r#"{{"bakery": "b{}", "x": {}, "y": 1}}"#,
+                index % 70,
+                index % 9
+            )
+        })
+        .collect();
+    let text = format!(
+        r#"{{"source": {{"rows": [{}]}}, "mark": "point", "panels": {{"by": "bakery"}},
+            "bind": {{"x": "x", "y": "y"}}}}"#,
+        rows.join(",")
+    );
+    let chart = evaluate_with(
+        &text,
+        &EvalOptions {
+            max_kept_marks: 10,
+            ..EvalOptions::default()
+        },
+    );
+    let Some(grid) = &chart.layers[0].density else {
+        panic!("a density grid past the cap");
+    };
+    assert_eq!(grid.panels.len(), density::MAX_DENSITY_PANELS);
+    let counted: u64 = grid
+        .panels
+        .iter()
+        .flat_map(|panel| panel.counts.iter())
+        .map(|&count| u64::from(count))
+        .sum();
+    // 6 bakeries past the cap, two rows each
+    assert_eq!(counted, 140 - 12);
+    assert!(chart.notes.iter().any(|note| note
+        .message
+        .contains("12 rows of further panels are not drawn")));
+}
+
 fn scatter_rows(count: usize) -> String {
     let rows: Vec<String> = (0..count)
         .map(|index| {
