@@ -425,6 +425,172 @@ fn density_grid_is_one_embedded_image_and_rasterises() {
 }
 
 #[test]
+fn a_density_grid_in_two_panels_is_two_images_each_inside_its_own_plot_area() {
+    let chart = charts::density_two_panels();
+    let scene = layout(&chart);
+    assert_eq!(scene.panels.len(), 2);
+    let images: Vec<_> = scene
+        .primitives()
+        .into_iter()
+        .filter_map(|primitive| match &primitive.shape {
+            Shape::Image(image) => Some(image),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(images.len(), 2);
+    for (image, panel) in images.iter().zip(&scene.panels) {
+        let plot = panel.plot;
+        assert!(
+            image.bounds.x >= plot.x - 1e-6
+                && image.bounds.right() <= plot.right() + 1e-6
+                && image.bounds.y >= plot.y - 1e-6
+                && image.bounds.bottom() <= plot.bottom() + 1e-6,
+            "image {:?} outside panel {}'s plot {plot:?}",
+            image.bounds,
+            panel.index
+        );
+        // the same cells in both panels
+        assert_eq!((image.pixel_width, image.pixel_height), (40, 20));
+    }
+    assert_ne!(images[0].png, images[1].png);
+
+    // the same read back from the SVG: every <image> lies in a different panel's plot area
+    let svg = write_svg(&scene);
+    let document = roxmltree::Document::parse(&svg).unwrap();
+    let number = |node: &roxmltree::Node, name: &str| -> f64 {
+        node.attribute(name)
+            .and_then(|text| text.parse().ok())
+            .unwrap_or(f64::NAN)
+    };
+    let mut panels_hit = Vec::new();
+    for node in document
+        .descendants()
+        .filter(|node| node.has_tag_name("image"))
+    {
+        let (x, y) = (number(&node, "x"), number(&node, "y"));
+        let (width, height) = (number(&node, "width"), number(&node, "height"));
+        let inside = scene.panels.iter().position(|panel| {
+            let plot = panel.plot;
+            x >= plot.x - 0.01
+                && x + width <= plot.right() + 0.01
+                && y >= plot.y - 0.01
+                && y + height <= plot.bottom() + 0.01
+        });
+        let Some(panel) = inside else {
+            panic!("<image> at {x},{y} {width}x{height} is in no plot area");
+        };
+        panels_hit.push(panel);
+    }
+    assert_eq!(panels_hit, [0, 1]);
+
+    // one colour scale: the same count is the same colour in both panels, read from the
+    // rasterised images (the calm panel's cells hold 3, the exposed one's 6)
+    let calm = density_png_rgba(images[0]);
+    let exposed = density_png_rgba(images[1]);
+    let pixel = |rgba: &[u8], column: usize, row: usize| -> [u8; 4] {
+        let at = (row * 40 + column) * 4;
+        [rgba[at], rgba[at + 1], rgba[at + 2], rgba[at + 3]]
+    };
+    // calm: lower left filled, upper right empty; exposed: the other way round
+    assert_eq!(pixel(&calm, 0, 19)[3], 255);
+    assert_eq!(pixel(&calm, 39, 0)[3], 0);
+    assert_eq!(pixel(&exposed, 39, 0)[3], 255);
+    assert_eq!(pixel(&exposed, 0, 19)[3], 0);
+    // 6 is the top of the shared scale: the exposed cells are darker than the calm ones
+    assert_ne!(pixel(&calm, 0, 19), pixel(&exposed, 39, 0));
+    let mut alone = charts::density_two_panels();
+    if let Some(grid) = &mut alone.layers[0].density {
+        grid.panels.truncate(1);
+    }
+    let alone_scene = layout(&alone);
+    let alone_images: Vec<_> = alone_scene
+        .primitives()
+        .into_iter()
+        .filter_map(|primitive| match &primitive.shape {
+            Shape::Image(image) => Some(image.clone()),
+            _ => None,
+        })
+        .collect();
+    // with the exposed panel gone, 3 is the top of the scale and the calm cells change colour
+    assert_eq!(alone_images.len(), 1);
+    assert_ne!(density_png_rgba(&alone_images[0]), calm);
+}
+
+#[test]
+fn an_evaluated_grid_that_grew_past_the_data_is_cropped_to_each_panels_plot_area() {
+    use markwell::data::rows::InlineRows;
+    use markwell::eval::{evaluate_chart, EvalOptions, RowSource};
+    use markwell::spec::model::{Source, SourceLocation};
+    // the first 60 rows span 0..9, the later ones reach 22: the grid doubles its span to 36,
+    // well past the axes' domain, and was drawn past the frame and over the other panel
+    let rows: Vec<String> = (0..300)
+        .map(|index| {
+            let value = if index < 60 { index % 10 } else { index % 23 };
+            let ferry = if index % 2 == 0 { "morning" } else { "evening" };
+            format!(r#"{{"ferry": "{ferry}", "x": {value}, "y": {value}}}"#)
+        })
+        .collect();
+    let text = format!(
+        r#"{{"source": {{"rows": [{}]}}, "mark": "point", "panels": {{"by": "ferry"}},
+            "bind": {{"x": "x", "y": "y"}}}}"#,
+        rows.join(",")
+    );
+    let document = markwell::analysis::parse_document(&text);
+    let mut open =
+        |source: &Source| -> Result<Box<dyn RowSource + Send>, markwell::data::DataError> {
+            match &source.location {
+                SourceLocation::Rows { rows, .. } => Ok(Box::new(InlineRows::new(rows.clone()))),
+                _ => panic!("the rows are inline"),
+            }
+        };
+    let chart = evaluate_chart(
+        &document.spec,
+        &mut open,
+        &EvalOptions {
+            max_kept_marks: 50,
+            ..EvalOptions::default()
+        },
+    );
+    let Some(grid) = &chart.layers[0].density else {
+        panic!("a density grid past the cap");
+    };
+    assert!(grid.x_domain.1 > 30.0, "{:?}", grid.x_domain);
+    let scene = layout(&chart);
+    assert_eq!(scene.panels.len(), 2);
+    let images: Vec<_> = scene
+        .primitives()
+        .into_iter()
+        .filter_map(|primitive| match &primitive.shape {
+            Shape::Image(image) => Some(image),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(images.len(), 2);
+    for (image, panel) in images.iter().zip(&scene.panels) {
+        // a cell cut by the plot's edge is kept whole: at most one cell past it
+        let plot = panel.plot;
+        let cell_width = image.bounds.width / f64::from(image.pixel_width);
+        let cell_height = image.bounds.height / f64::from(image.pixel_height);
+        assert!(
+            image.bounds.x >= plot.x - cell_width
+                && image.bounds.right() <= plot.right() + cell_width
+                && image.bounds.y >= plot.y - cell_height
+                && image.bounds.bottom() <= plot.bottom() + cell_height,
+            "image {:?} outside panel {}'s plot {plot:?}",
+            image.bounds,
+            panel.index
+        );
+        assert!(image.pixel_width < grid.width && image.pixel_height < grid.height);
+    }
+}
+
+/// The RGBA pixels of a density image's PNG.
+fn density_png_rgba(image: &markwell::draw::layout::ImageItem) -> Vec<u8> {
+    let pixmap = resvg::tiny_skia::Pixmap::decode_png(&image.png).unwrap();
+    pixmap.data().to_vec()
+}
+
+#[test]
 fn png_scale_multiplies_the_pixel_size() {
     let svg = write_svg(&layout(&charts::bakery_bars()));
     let pixmap = markwell::draw::png::rasterise(&svg, 2.0).unwrap();

@@ -1,16 +1,29 @@
 //! The density grid a layer of one mark per row becomes past the cap on kept marks: counts of
-//! rows per cell over the x and y domains. The domains are not known before the end of the
-//! rows, so the grid starts on the points seen so far and doubles its span towards a point that
-//! falls outside (neighbouring cells merge), like the doubling histogram of the profile.
-//! Memory: `width * height` counters, whatever the number of rows.
+//! rows per cell over the x and y domains, one grid of counts per panel. The domains are not
+//! known before the end of the rows, so the grid starts on the points seen so far and doubles its
+//! span towards a point that falls outside (neighbouring cells merge), like the doubling
+//! histogram of the profile. Every panel's counts share the one geometry (origin, cell size and
+//! doublings), so a point of one panel that grows the grid grows it for all panels, and the
+//! panels' cells stay the same size and line up.
+//!
+//! Memory: `width * height` counters per panel, whatever the number of rows. Panels are at most
+//! `layer::MAX_GROUPS` per chart, far too many for a grid each, so a grid holds at most
+//! [`MAX_DENSITY_PANELS`] panels: at most 64 * 320 * 200 * 4 bytes = 16.4 MB, plus one panel's
+//! counts while growing (finishing turns the counts over in place). Rows of further panels are
+//! refused by [`DoublingGrid::add`], and the layer says how many.
 
-use super::model::DensityGrid;
+use std::collections::HashMap;
+
+use super::model::{DensityGrid, PanelCounts};
 
 /// Cells across and down: one per 2 CSS pixels of the default 640 x 400 frame.
 pub const DENSITY_WIDTH: u32 = 320;
 pub const DENSITY_HEIGHT: u32 = 200;
 /// Doublings allowed per axis (2^1100 covers the whole range of `f64`).
 const MAX_DOUBLINGS: u32 = 1100;
+/// Panels with a density grid of their own per layer; rows of further panels are not drawn.
+/// Common practice, no source: past a few dozen panels each one is too small to read a grid in.
+pub const MAX_DENSITY_PANELS: usize = 64;
 
 #[derive(Clone, Copy, Debug)]
 struct Axis {
@@ -58,47 +71,57 @@ enum Growth {
 pub struct DoublingGrid {
     x: Axis,
     y: Axis,
-    /// `x` fastest, `y` index 0 at the bottom (smallest y).
-    counts: Vec<u32>,
+    /// Per panel with rows, in order of the first row: `x` fastest, `y` index 0 at the bottom
+    /// (smallest y).
+    panels: Vec<(u32, Vec<u32>)>,
+    /// Panel index to its place in `panels`.
+    slots: HashMap<u32, usize>,
+    /// The last panel counted and its place: rows of one panel often come together, and a
+    /// chart without panels has only panel 0, so most rows skip the map.
+    last: Option<(u32, usize)>,
 }
 
 impl DoublingGrid {
-    /// A grid spanning the given starting extents.
+    /// A grid spanning the given starting extents, with no panel yet.
     pub fn new(x_extent: (f64, f64), y_extent: (f64, f64)) -> DoublingGrid {
         let width = DENSITY_WIDTH as usize;
         let height = DENSITY_HEIGHT as usize;
         DoublingGrid {
             x: Axis::covering(x_extent.0, x_extent.1, width),
             y: Axis::covering(y_extent.0, y_extent.1, height),
-            counts: vec![0; width * height],
+            panels: Vec::new(),
+            slots: HashMap::new(),
+            last: None,
         }
     }
 
     fn grow(&mut self, along_x: bool, growth: Growth) {
         let width = self.x.cells;
         let height = self.y.cells;
-        let mut grown = vec![0u32; self.counts.len()];
         let cells = if along_x { width } else { height };
         let moved = |index: usize| match growth {
             Growth::Upward => index / 2,
             Growth::Downward => (index + cells) / 2,
         };
-        for row in 0..height {
-            for column in 0..width {
-                let count = self.counts[row * width + column];
-                if count == 0 {
-                    continue;
+        for (_, counts) in &mut self.panels {
+            let mut grown = vec![0u32; counts.len()];
+            for row in 0..height {
+                for column in 0..width {
+                    let count = counts[row * width + column];
+                    if count == 0 {
+                        continue;
+                    }
+                    let (new_row, new_column) = if along_x {
+                        (row, moved(column))
+                    } else {
+                        (moved(row), column)
+                    };
+                    let cell = &mut grown[new_row * width + new_column];
+                    *cell = cell.saturating_add(count);
                 }
-                let (new_row, new_column) = if along_x {
-                    (row, moved(column))
-                } else {
-                    (moved(row), column)
-                };
-                let cell = &mut grown[new_row * width + new_column];
-                *cell = cell.saturating_add(count);
             }
+            *counts = grown;
         }
-        self.counts = grown;
         let axis = if along_x { &mut self.x } else { &mut self.y };
         if let Growth::Downward = growth {
             axis.origin -= axis.cell * axis.cells as f64;
@@ -123,31 +146,68 @@ impl DoublingGrid {
         }
     }
 
-    /// Count one point (non-finite coordinates are ignored).
-    pub fn add(&mut self, x: f64, y: f64) {
+    /// The place of a panel's counts, made on its first row; `None` past [`MAX_DENSITY_PANELS`].
+    fn slot_of(&mut self, panel: u32) -> Option<usize> {
+        if let Some((last_panel, slot)) = self.last {
+            if last_panel == panel {
+                return Some(slot);
+            }
+        }
+        if let Some(&slot) = self.slots.get(&panel) {
+            self.last = Some((panel, slot));
+            return Some(slot);
+        }
+        if self.panels.len() >= MAX_DENSITY_PANELS {
+            return None;
+        }
+        let slot = self.panels.len();
+        self.panels
+            .push((panel, vec![0; self.x.cells * self.y.cells]));
+        self.slots.insert(panel, slot);
+        self.last = Some((panel, slot));
+        Some(slot)
+    }
+
+    /// Count one point of a panel (non-finite coordinates are ignored). `false` when the point
+    /// is not counted because its panel is past [`MAX_DENSITY_PANELS`].
+    pub fn add(&mut self, panel: u32, x: f64, y: f64) -> bool {
+        let Some(slot) = self.slot_of(panel) else {
+            return false;
+        };
         if !(x.is_finite() && y.is_finite()) {
-            return;
+            return true;
         }
         self.fit(x, true);
         self.fit(y, false);
         let index = self.y.index_of(y) * self.x.cells + self.x.index_of(x);
-        if let Some(cell) = self.counts.get_mut(index) {
+        if let Some(cell) = self.panels[slot].1.get_mut(index) {
             *cell = cell.saturating_add(1);
         }
+        true
     }
 
-    /// The grid as the model has it: row 0 at the top (largest y).
-    pub fn finish(&self) -> DensityGrid {
+    /// The grid as the model has it: panels in the order of their index, row 0 at the top
+    /// (largest y). The counts are turned upside down in place, so finishing needs no more
+    /// memory.
+    pub fn finish(self) -> DensityGrid {
         let width = self.x.cells;
         let height = self.y.cells;
-        let mut counts = Vec::with_capacity(self.counts.len());
-        for row in (0..height).rev() {
-            counts.extend_from_slice(&self.counts[row * width..(row + 1) * width]);
-        }
+        let mut panels: Vec<PanelCounts> = self
+            .panels
+            .into_iter()
+            .map(|(panel, mut counts)| {
+                for row in 0..height / 2 {
+                    let (lower, upper) = counts.split_at_mut((height - 1 - row) * width);
+                    lower[row * width..(row + 1) * width].swap_with_slice(&mut upper[..width]);
+                }
+                PanelCounts { panel, counts }
+            })
+            .collect();
+        panels.sort_by_key(|counts| counts.panel);
         DensityGrid {
             width: width as u32,
             height: height as u32,
-            counts,
+            panels,
             x_domain: (self.x.origin, self.x.end()),
             y_domain: (self.y.origin, self.y.end()),
         }
@@ -158,22 +218,26 @@ impl DoublingGrid {
 mod tests {
     use super::*;
 
+    fn total(counts: &[u32]) -> u64 {
+        counts.iter().map(|&count| u64::from(count)).sum()
+    }
+
     #[test]
     fn points_outside_the_first_extent_grow_the_grid_and_every_point_is_counted() {
         let mut grid = DoublingGrid::new((0.0, 10.0), (0.0, 10.0));
         for step in 0..1000 {
             let value = f64::from(step) * 0.01;
-            grid.add(value, value);
+            assert!(grid.add(0, value, value));
         }
-        grid.add(-50.0, 5.0);
-        grid.add(5.0, 400.0);
+        grid.add(0, -50.0, 5.0);
+        grid.add(0, 5.0, 400.0);
         let finished = grid.finish();
-        let total: u64 = finished.counts.iter().map(|&count| u64::from(count)).sum();
-        assert_eq!(total, 1002);
+        assert_eq!(finished.panels.len(), 1);
+        assert_eq!(total(&finished.panels[0].counts), 1002);
         assert!(finished.x_domain.0 <= -50.0 && finished.x_domain.1 > 10.0);
         assert!(finished.y_domain.1 > 400.0);
         assert_eq!(
-            finished.counts.len(),
+            finished.panels[0].counts.len(),
             (DENSITY_WIDTH * DENSITY_HEIGHT) as usize
         );
     }
@@ -181,8 +245,48 @@ mod tests {
     #[test]
     fn the_top_row_holds_the_largest_y() {
         let mut grid = DoublingGrid::new((0.0, 1.0), (0.0, 1.0));
-        grid.add(0.0, 0.999);
+        grid.add(0, 0.0, 0.999);
         let finished = grid.finish();
-        assert_eq!(finished.counts[0], 1);
+        assert_eq!(finished.panels[0].counts[0], 1);
+    }
+
+    #[test]
+    fn a_point_that_grows_the_grid_moves_every_panels_counts_alike() {
+        let mut grid = DoublingGrid::new((0.0, 10.0), (0.0, 10.0));
+        grid.add(3, 9.99, 0.0);
+        grid.add(1, 0.0, 0.0);
+        // panel 1 grows the x axis to twice its span: panel 3's point moves with it
+        grid.add(1, 15.1, 0.0);
+        let finished = grid.finish();
+        let panels: Vec<u32> = finished.panels.iter().map(|counts| counts.panel).collect();
+        assert_eq!(panels, [1, 3]);
+        let bottom_row = (DENSITY_HEIGHT as usize - 1) * DENSITY_WIDTH as usize;
+        let Some(three) = finished.counts_of(3) else {
+            panic!("panel 3 has a grid");
+        };
+        // 9.99 of a span of 20 over 320 cells is cell 159
+        assert_eq!(three[bottom_row + 159], 1);
+        assert_eq!(total(three), 1);
+        let Some(one) = finished.counts_of(1) else {
+            panic!("panel 1 has a grid");
+        };
+        assert_eq!(one[bottom_row], 1);
+        assert_eq!(one[bottom_row + 241], 1);
+        assert_eq!(total(one), 2);
+        assert_eq!(finished.max_count(), 1);
+    }
+
+    #[test]
+    fn panels_past_the_cap_are_refused() {
+        let mut grid = DoublingGrid::new((0.0, 1.0), (0.0, 1.0));
+        for panel in 0..MAX_DENSITY_PANELS as u32 {
+            assert!(grid.add(panel, 0.5, 0.5));
+        }
+        assert!(!grid.add(MAX_DENSITY_PANELS as u32, 0.5, 0.5));
+        // a panel already there still counts
+        assert!(grid.add(0, 0.5, 0.5));
+        let finished = grid.finish();
+        assert_eq!(finished.panels.len(), MAX_DENSITY_PANELS);
+        assert_eq!(finished.max_count(), 2);
     }
 }

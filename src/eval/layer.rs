@@ -5,7 +5,8 @@
 //!
 //! Memory: bounded by the number of groups (at most [`MAX_GROUPS`] per layer, and as many values
 //! per key channel), by the exact budget for medians and distinct counts, and for layers of one
-//! mark per row by `max_kept_marks` marks, then a fixed density grid. Never by the rows.
+//! mark per row by `max_kept_marks` marks, then a fixed density grid per panel for at most
+//! `density::MAX_DENSITY_PANELS` panels. Never by the rows.
 
 use std::collections::HashMap;
 
@@ -13,7 +14,7 @@ use hashbrown::HashTable;
 use std::sync::Arc;
 
 use super::bins::Bins;
-use super::density::DoublingGrid;
+use super::density::{DoublingGrid, MAX_DENSITY_PANELS};
 use super::model::*;
 use super::quantile::DEFAULT_RANK_ERROR;
 use super::summary::{Accumulator, CellValue};
@@ -1380,7 +1381,8 @@ fn stack(marks: &mut [DrawnMark], positions: &[Vec<u32>], value_index: usize, sh
 /// How the rows of a layer of one mark per row are kept.
 enum Keeping {
     Marks,
-    Density(Box<DoublingGrid>),
+    /// The grid, and the rows of panels past `MAX_DENSITY_PANELS` that it refused.
+    Density(Box<DoublingGrid>, u64),
     /// No density possible (a position is not a number): rows past the cap are counted only.
     Dropping(u64),
 }
@@ -1489,15 +1491,18 @@ fn evaluate_rows(
                     let x_extent = extents[x].0.unwrap_or((0.0, 1.0));
                     let y_extent = extents[y].0.unwrap_or((0.0, 1.0));
                     let mut grid = Box::new(DoublingGrid::new(x_extent, y_extent));
+                    let mut refused = 0u64;
                     for kept in marks.drain(..) {
                         if let (Some(x), Some(y)) =
                             (kept.values[x].as_f64(), kept.values[y].as_f64())
                         {
-                            grid.add(x, y);
+                            if !grid.add(kept.panel, x, y) {
+                                refused += 1;
+                            }
                         }
                     }
                     marks.shrink_to_fit();
-                    Keeping::Density(grid)
+                    Keeping::Density(grid, refused)
                 }
                 None => Keeping::Dropping(0),
             };
@@ -1510,10 +1515,12 @@ fn evaluate_rows(
                 series: 0,
                 rows: 1,
             }),
-            Keeping::Density(grid) => {
+            Keeping::Density(grid, refused) => {
                 if let Some((x, y)) = density_axes {
                     if let (Some(x), Some(y)) = (numbers[x], numbers[y]) {
-                        grid.add(x, y);
+                        if !grid.add(panel, x, y) {
+                            *refused += 1;
+                        }
                     }
                 }
             }
@@ -1541,16 +1548,29 @@ fn evaluate_rows(
     let mut density = None;
     match keeping {
         Keeping::Marks => {}
-        Keeping::Density(grid) => {
-            density = Some(grid.finish());
+        Keeping::Density(grid, refused) => {
+            density = Some((*grid).finish());
             state.note(
                 Some(number),
                 format!(
                     "layer {} has more than {cap} rows to draw, so its marks are drawn as a density grid (rows per cell){}",
                     number + 1,
-                    if panel_slot.is_some() { ", one for all panels" } else { "" }
+                    if panel_slot.is_some() {
+                        ", one per panel on one colour scale"
+                    } else {
+                        ""
+                    }
                 ),
             );
+            if refused > 0 {
+                state.note(
+                    Some(number),
+                    format!(
+                        "layer {} has density grids for {MAX_DENSITY_PANELS} of its panels only (the first seen in the rows); {refused} rows of further panels are not drawn",
+                        number + 1
+                    ),
+                );
+            }
         }
         Keeping::Dropping(dropped) => state.note(
             Some(number),

@@ -123,6 +123,12 @@ pub fn evaluate_chart(
                 }
                 // stable: the order within a panel stays
                 evaluated.marks.sort_by_key(|mark| mark.panel);
+                if let Some(grid) = &mut evaluated.density {
+                    for counts in &mut grid.panels {
+                        counts.panel = new_id.get(counts.panel as usize).copied().unwrap_or(0);
+                    }
+                    grid.panels.sort_by_key(|counts| counts.panel);
+                }
             }
             if order.is_empty() {
                 vec![PanelInfo { label: None }]

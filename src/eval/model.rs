@@ -89,16 +89,48 @@ pub struct DrawnMark {
     pub rows: u64,
 }
 
-/// How a layer that draws one mark per row is drawn past the cap on kept marks.
+/// How a layer that draws one mark per row is drawn past the cap on kept marks: one grid of
+/// counts per panel. Every panel's grid has the same cells (the same `width`, `height` and
+/// domains, so the same cell size), and drawing puts all of them on one colour scale (up to
+/// [`DensityGrid::max_count`]), so that the panels can be compared.
 #[derive(Clone, Debug, PartialEq)]
 pub struct DensityGrid {
     /// Cells across and down; the grid spans the x and y domains.
     pub width: u32,
     pub height: u32,
-    /// Row-major counts, `width * height` long, row 0 at the top (largest y).
-    pub counts: Vec<u32>,
+    /// The panels that have rows, in the order of their index; a chart without panels has one,
+    /// panel 0.
+    pub panels: Vec<PanelCounts>,
     pub x_domain: (f64, f64),
     pub y_domain: (f64, f64),
+}
+
+/// The counts of one panel's density grid.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PanelCounts {
+    /// Index into `EvaluatedChart::panels`.
+    pub panel: u32,
+    /// Row-major counts, `width * height` long, row 0 at the top (largest y).
+    pub counts: Vec<u32>,
+}
+
+impl DensityGrid {
+    /// The counts of a panel (`None`: the panel has no rows in this layer).
+    pub fn counts_of(&self, panel: u32) -> Option<&[u32]> {
+        self.panels
+            .iter()
+            .find(|counts| counts.panel == panel)
+            .map(|counts| counts.counts.as_slice())
+    }
+
+    /// The largest count in any panel: the top of the colour scale every panel shares.
+    pub fn max_count(&self) -> u32 {
+        self.panels
+            .iter()
+            .flat_map(|counts| counts.counts.iter().copied())
+            .max()
+            .unwrap_or(0)
+    }
 }
 
 #[derive(Clone, Debug, PartialEq)]

@@ -356,6 +356,115 @@ fn numeric_panels_are_ordered_by_number() {
     assert_eq!(panels, vec![0, 1, 2]);
 }
 
+#[test]
+fn a_density_grid_keeps_each_panels_rows_in_its_own_counts() {
+    // two harbours whose points lie apart: the calm one's near the origin, the exposed one's
+    // in the far corner. The first two rows set the extent the grid starts on to 0..320 by
+    // 0..200, one unit per cell (320 by 200 cells), so a point at k + 0.5 lies in cell k.
+    let mut points: Vec<(&str, f64, f64)> = vec![("calm", 0.0, 0.0), ("exposed", 320.0, 200.0)];
+    for index in 0..100 {
+        points.push(("calm", 0.5 + (index % 10) as f64, 0.5 + (index % 5) as f64));
+        points.push((
+            "exposed",
+            300.5 + (index % 10) as f64,
+            180.5 + (index % 7) as f64,
+        ));
+    }
+    let rows: Vec<String> = points
+        .iter()
+        .map(|(harbour, x, y)| format!(r#"{{"harbour": "{harbour}", "x": {x}, "y": {y}}}"#))
+        .collect();
+    let text = format!(
+        r#"{{"source": {{"rows": [{}]}}, "mark": "point", "panels": {{"by": "harbour"}},
+            "bind": {{"x": "x", "y": "y"}}}}"#,
+        rows.join(",")
+    );
+    let chart = evaluate_with(
+        &text,
+        &EvalOptions {
+            max_kept_marks: 50,
+            ..EvalOptions::default()
+        },
+    );
+    let layer = &chart.layers[0];
+    assert!(layer.marks.is_empty());
+    let Some(grid) = &layer.density else {
+        panic!("a density grid past the cap");
+    };
+    assert_eq!((grid.width, grid.height), (320, 200));
+    assert_eq!(grid.x_domain.0, 0.0);
+    assert!((grid.x_domain.1 - 320.0).abs() < 1e-6);
+    assert_eq!(grid.panels.len(), 2);
+    for (index, panel) in chart.panels.iter().enumerate() {
+        let Some(harbour) = panel.label.as_deref() else {
+            panic!("panel {index} has a label");
+        };
+        // the counts worked out from the rows: cell k for k <= value < k + 1, the largest
+        // value in the last cell, row 0 of the grid at the top (largest y)
+        let mut expected = vec![0u32; 320 * 200];
+        for (_, x, y) in points.iter().filter(|(name, _, _)| *name == harbour) {
+            let column = (x.floor() as usize).min(319);
+            let row = 199 - (y.floor() as usize).min(199);
+            expected[row * 320 + column] += 1;
+        }
+        let Some(counts) = grid.counts_of(index as u32) else {
+            panic!("{harbour} has a grid");
+        };
+        assert!(counts == expected.as_slice(), "{harbour}: counts differ");
+        let total: u32 = counts.iter().sum();
+        assert_eq!(total, 101, "{harbour}");
+    }
+    // one colour scale for both: the largest count of either panel (calm: 100 rows over 10
+    // distinct points, 10 each, and the corner row at 0, 0 shares the cell of 0.5, 0.5: 11;
+    // exposed: 100 rows over 70 distinct points, at most 2 each)
+    assert_eq!(grid.max_count(), 11);
+    assert!(chart
+        .notes
+        .iter()
+        .any(|note| note.message.contains("one per panel")));
+}
+
+#[test]
+fn density_grids_stop_at_the_panel_cap_and_say_how_many_rows_are_not_drawn() {
+    // 70 bakeries, one row each beyond the first 10 kept: the grid takes the first 64 seen
+    let rows: Vec<String> = (0..140)
+        .map(|index| {
+            format!(
+                r#"{{"bakery": "b{}", "x": {}, "y": 1}}"#,
+                index % 70,
+                index % 9
+            )
+        })
+        .collect();
+    let text = format!(
+        r#"{{"source": {{"rows": [{}]}}, "mark": "point", "panels": {{"by": "bakery"}},
+            "bind": {{"x": "x", "y": "y"}}}}"#,
+        rows.join(",")
+    );
+    let chart = evaluate_with(
+        &text,
+        &EvalOptions {
+            max_kept_marks: 10,
+            ..EvalOptions::default()
+        },
+    );
+    let Some(grid) = &chart.layers[0].density else {
+        panic!("a density grid past the cap");
+    };
+    assert_eq!(grid.panels.len(), density::MAX_DENSITY_PANELS);
+    let counted: u64 = grid
+        .panels
+        .iter()
+        .flat_map(|panel| panel.counts.iter())
+        .map(|&count| u64::from(count))
+        .sum();
+    // 6 bakeries past the cap, two rows each
+    assert_eq!(counted, 140 - 12);
+    assert!(chart.notes.iter().any(|note| note
+        .message
+        .contains("12 rows of further panels are not drawn")));
+}
+
 fn scatter_rows(count: usize) -> String {
     let rows: Vec<String> = (0..count)
         .map(|index| {
@@ -404,7 +513,12 @@ fn points_keep_one_mark_per_row_up_to_the_cap_then_become_a_density_grid() {
     let Some(grid) = &layer.density else {
         panic!("a density grid past the cap");
     };
-    let total: u64 = grid.counts.iter().map(|&count| u64::from(count)).sum();
+    assert_eq!(grid.panels.len(), 1);
+    let total: u64 = grid.panels[0]
+        .counts
+        .iter()
+        .map(|&count| u64::from(count))
+        .sum();
     assert_eq!(total, 500);
     assert!(grid.x_domain.0 <= 0.0 && grid.x_domain.1 >= 96.0);
     assert_eq!(capped.notes.len(), 1);

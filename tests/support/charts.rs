@@ -5,7 +5,8 @@
 use std::sync::Arc;
 
 use markwell::eval::model::{
-    ChannelInfo, Datum, DensityGrid, Domain, DrawnMark, EvaluatedChart, EvaluatedLayer, PanelInfo,
+    ChannelInfo, Datum, DensityGrid, Domain, DrawnMark, EvaluatedChart, EvaluatedLayer,
+    PanelCounts, PanelInfo,
 };
 use markwell::spec::model::{Arrange, AttributeKind, Channel, Mark, Spacing};
 
@@ -538,11 +539,50 @@ pub fn density_scatter(cells_across: u32, cells_down: u32, points: u64) -> Evalu
     layer.density = Some(DensityGrid {
         width: cells_across,
         height: cells_down,
-        counts,
+        panels: vec![PanelCounts { panel: 0, counts }],
         x_domain: (0.0, 30.0),
         y_domain: (0.0, 9.0),
     });
     chart("Wave height against wind speed", vec![layer])
+}
+
+/// A density scatter in two panels whose rows lie in different places: the calm harbour's
+/// points all in the lower left quarter, the exposed one's in the upper right, and the exposed
+/// one with twice as many rows per cell.
+pub fn density_two_panels() -> EvaluatedChart {
+    let (across, down) = (40u32, 20u32);
+    let mut calm = vec![0u32; (across * down) as usize];
+    let mut exposed = vec![0u32; (across * down) as usize];
+    for row in 0..down / 2 {
+        for column in 0..across / 2 {
+            // row 0 is the top (largest y): the calm panel fills the bottom half's left
+            calm[((down / 2 + row) * across + column) as usize] = 3;
+            exposed[(row * across + across / 2 + column) as usize] = 6;
+        }
+    }
+    let mut chart = density_scatter(across, down, 0);
+    chart.title = Some("Wave height against wind speed, two harbours".to_string());
+    let layer = &mut chart.layers[0];
+    layer.rows_read = u64::from(across / 2 * (down / 2)) * 9;
+    if let Some(grid) = &mut layer.density {
+        grid.panels = vec![
+            PanelCounts {
+                panel: 0,
+                counts: calm,
+            },
+            PanelCounts {
+                panel: 1,
+                counts: exposed,
+            },
+        ];
+    }
+    chart.panels = ["calm harbour", "exposed harbour"]
+        .iter()
+        .map(|name| PanelInfo {
+            label: Some(name.to_string()),
+        })
+        .collect();
+    chart
 }
 
 /// Every hand-built chart, named.
@@ -560,6 +600,7 @@ pub fn all_charts() -> Vec<(&'static str, EvaluatedChart)> {
         ("harbour-panels", harbour_panels()),
         ("river-log", river_log()),
         ("density-scatter", density_scatter(120, 80, 50_000)),
+        ("density-two-panels", density_two_panels()),
     ]
 }
 

@@ -144,7 +144,7 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
         let max = layer
             .density
             .as_ref()
-            .and_then(|grid| grid.counts.iter().copied().max())
+            .map(|grid| grid.max_count())
             .unwrap_or(0);
         if max > 0 {
             let scale = (1.0 + f64::from(max)).ln();

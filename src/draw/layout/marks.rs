@@ -99,15 +99,27 @@ pub(super) fn layer_group(
     let mut skipped = 0u64;
 
     if let Some(grid) = &layer.density {
+        // each panel draws its own rows' counts in its own plot area; every panel's grid has
+        // the same cells and one colour scale (up to the largest count of any panel), so the
+        // panels can be compared
+        let max_count = grid.max_count();
+        let mut drawable = false;
         for (panel, (x, y)) in panels.iter().zip(panel_scales) {
             if let (Some(PositionScale::Continuous(x)), Some(PositionScale::Continuous(y))) = (x, y)
             {
-                if let Some(node) = density_image(grid, x, y, panel) {
+                drawable = true;
+                let Some(counts) = u32::try_from(panel.index)
+                    .ok()
+                    .and_then(|index| grid.counts_of(index))
+                else {
+                    continue;
+                };
+                if let Some(node) = density_image(grid, counts, max_count, x, y, panel) {
                     children.push(node);
                 }
             }
         }
-        if children.is_empty() {
+        if !drawable {
             notes.push(format!(
                 "layer {}: the density grid needs number or time positions on both axes",
                 layer.index + 1
@@ -748,34 +760,69 @@ fn bar_geometry(
     Some((rect, shown))
 }
 
+/// One panel's counts of the grid as an image over the grid's domains, coloured up to
+/// `max_count`, cropped to the cells that meet the panel's plot area: the grid doubles its span
+/// while it reads the rows and can reach well past the domains drawn, and those cells (empty
+/// of rows past the data, but not of area) would cover the frame or a neighbouring panel. A
+/// cell cut by the plot's edge is kept whole.
 fn density_image(
     grid: &DensityGrid,
+    counts: &[u32],
+    max_count: u32,
     x: &ContinuousScale,
     y: &ContinuousScale,
     panel: &PanelLayout,
 ) -> Option<Node> {
-    let cells = (grid.width as usize).checked_mul(grid.height as usize)?;
-    if cells == 0 || grid.counts.len() != cells || cells > 4096 * 4096 {
+    let width = grid.width as usize;
+    let height = grid.height as usize;
+    let cells = width.checked_mul(height)?;
+    if cells == 0 || counts.len() != cells || cells > 4096 * 4096 {
         return None;
     }
-    let left = x.map(grid.x_domain.0)?;
-    let right = x.map(grid.x_domain.1)?;
-    let top = y.map(grid.y_domain.1)?;
-    let bottom = y.map(grid.y_domain.0)?;
+    let plot = panel.plot;
+    let (columns, x_domain) = cells_within(
+        grid.x_domain,
+        width,
+        x.invert(plot.x).zip(x.invert(plot.right())),
+    )?;
+    // y: cells counted from the bottom (smallest y); the counts' row 0 is the top
+    let (rows_up, y_domain) = cells_within(
+        grid.y_domain,
+        height,
+        y.invert(plot.bottom()).zip(y.invert(plot.y)),
+    )?;
+    let rows = (height - rows_up.end)..(height - rows_up.start);
+    let cropped_width = columns.len();
+    let cropped_height = rows.len();
+    let cropped: std::borrow::Cow<'_, [u32]> = if cropped_width == width && cropped_height == height
+    {
+        std::borrow::Cow::Borrowed(counts)
+    } else {
+        let mut kept = Vec::with_capacity(cropped_width * cropped_height);
+        for row in rows {
+            kept.extend_from_slice(&counts[row * width + columns.start..row * width + columns.end]);
+        }
+        std::borrow::Cow::Owned(kept)
+    };
+    let left = x.map(x_domain.0)?;
+    let right = x.map(x_domain.1)?;
+    let top = y.map(y_domain.1)?;
+    let bottom = y.map(y_domain.0)?;
     let bounds = BoxRect {
         x: left.min(right),
         y: top.min(bottom),
         width: (right - left).abs(),
         height: (bottom - top).abs(),
     };
-    let _ = panel;
-    let png = density_png(grid)?;
+    let pixel_width = u32::try_from(cropped_width).ok()?;
+    let pixel_height = u32::try_from(cropped_height).ok()?;
+    let png = density_png(pixel_width, pixel_height, &cropped, max_count)?;
     Some(Node::Primitive(Primitive {
         shape: Shape::Image(ImageItem {
             bounds,
             png,
-            pixel_width: grid.width,
-            pixel_height: grid.height,
+            pixel_width,
+            pixel_height,
         }),
         paint: Paint::fill(INK),
         label: None,
@@ -783,19 +830,55 @@ fn density_image(
     }))
 }
 
-/// The grid as an RGBA PNG: empty cells transparent, counts on the ramp by the logarithm of the
-/// count (common practice for density plots, so single points still show).
-pub fn density_png(grid: &DensityGrid) -> Option<Vec<u8>> {
-    let max = grid.counts.iter().copied().max().unwrap_or(0);
-    let scale = (1.0 + f64::from(max)).ln().max(1e-9);
-    let mut pixels = Vec::with_capacity(grid.counts.len() * 4);
+/// The cells along one axis (`cells` of them over `domain`) that meet the data values between
+/// the two `edges` (either way round; `None`: all of them), and the values their span covers.
+/// `None` when no cell meets them.
+fn cells_within(
+    domain: (f64, f64),
+    cells: usize,
+    edges: Option<(f64, f64)>,
+) -> Option<(std::ops::Range<usize>, (f64, f64))> {
+    let size = (domain.1 - domain.0) / cells as f64;
+    let Some((a, b)) = edges.filter(|_| size > 0.0 && size.is_finite()) else {
+        return Some((0..cells, domain));
+    };
+    let (low, high) = (a.min(b), a.max(b));
+    if !(low.is_finite() && high.is_finite()) {
+        return Some((0..cells, domain));
+    }
+    let first = ((low - domain.0) / size).floor().clamp(0.0, cells as f64) as usize;
+    let end = ((high - domain.0) / size).ceil().clamp(0.0, cells as f64) as usize;
+    if first >= end {
+        return None;
+    }
+    // the grid's own ends where a side is not cut, so an uncut grid is drawn as before
+    let from = if first == 0 {
+        domain.0
+    } else {
+        domain.0 + first as f64 * size
+    };
+    let to = if end == cells {
+        domain.1
+    } else {
+        domain.0 + end as f64 * size
+    };
+    Some((first..end, (from, to)))
+}
+
+/// One panel's counts (`width * height`, row 0 at the top) as an RGBA PNG: empty cells
+/// transparent, counts on the ramp by the logarithm of the count over that of `max_count`, the
+/// largest count of every panel (common practice for density plots, so single points still
+/// show).
+pub fn density_png(width: u32, height: u32, counts: &[u32], max_count: u32) -> Option<Vec<u8>> {
+    let scale = (1.0 + f64::from(max_count)).ln().max(1e-9);
+    let mut pixels = Vec::with_capacity(counts.len() * 4);
     let table: Vec<[u8; 3]> = (0..=255)
         .map(|step| {
             let colour = ramp_colour(step as f64 / 255.0);
             [colour.red, colour.green, colour.blue]
         })
         .collect();
-    for count in &grid.counts {
+    for count in counts {
         if *count == 0 {
             pixels.extend_from_slice(&[0, 0, 0, 0]);
         } else {
@@ -805,7 +888,7 @@ pub fn density_png(grid: &DensityGrid) -> Option<Vec<u8>> {
             pixels.extend_from_slice(&[red, green, blue, 255]);
         }
     }
-    let size = resvg::tiny_skia::IntSize::from_wh(grid.width, grid.height)?;
+    let size = resvg::tiny_skia::IntSize::from_wh(width, height)?;
     let pixmap = resvg::tiny_skia::Pixmap::from_vec(pixels, size)?;
     pixmap.encode_png().ok()
 }
