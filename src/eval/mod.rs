@@ -17,7 +17,9 @@ pub mod summary;
 
 pub use model::*;
 
-use crate::budget::{Deadline, TimeBudget};
+use std::sync::Arc;
+
+use crate::budget::TimeBudget;
 use crate::data::{DataError, DataErrorKind};
 use crate::spec::model::{ChartSpec, Source};
 
@@ -78,7 +80,16 @@ pub fn evaluate_chart(
     // every source is read within the chart's one deadline
     let mut timed_open = |source: &Source| -> Result<Box<dyn RowSource + Send + '_>, DataError> {
         let inner = open_rows(source)?;
-        Ok(Box::new(WithinDeadline { inner, deadline }))
+        let stop: StopReason<'_> = Arc::new(move || {
+            deadline
+                .passed()
+                .then(|| timed_out_error(deadline.budget()))
+        });
+        Ok(Box::new(StoppableRows::new(
+            inner,
+            ROWS_BETWEEN_CLOCK_CHECKS,
+            stop,
+        )))
     };
     let mut layers = Vec::new();
     for spec_layer in &spec.layers {
@@ -171,14 +182,34 @@ pub fn timed_out_error(budget: TimeBudget) -> DataError {
     }
 }
 
-/// Rows that stop being delivered once the evaluation's deadline has passed (looked at before
-/// the first row and then every [`ROWS_BETWEEN_CLOCK_CHECKS`] rows).
-struct WithinDeadline<'a> {
+/// Why a scan must stop now, asked between rows (`None`: go on).
+pub type StopReason<'a> = Arc<dyn Fn() -> Option<DataError> + Send + Sync + 'a>;
+
+/// Rows that stop being delivered once `stop` gives a reason, which the scan then returns as
+/// its error. `stop` is asked before the first row and then every `every` rows, so a stopped
+/// scan reads at most `every` rows more and a look costs nothing per row. The evaluation's time
+/// budget and the editor's superseded texts both stop scans through it.
+pub struct StoppableRows<'a> {
     inner: Box<dyn RowSource + Send + 'a>,
-    deadline: Deadline,
+    every: u64,
+    stop: StopReason<'a>,
 }
 
-impl RowSource for WithinDeadline<'_> {
+impl<'a> StoppableRows<'a> {
+    pub fn new(
+        inner: Box<dyn RowSource + Send + 'a>,
+        every: u64,
+        stop: StopReason<'a>,
+    ) -> StoppableRows<'a> {
+        StoppableRows {
+            inner,
+            every: every.max(1),
+            stop,
+        }
+    }
+}
+
+impl RowSource for StoppableRows<'_> {
     fn column_names(&self) -> Vec<String> {
         self.inner.column_names()
     }
@@ -188,21 +219,23 @@ impl RowSource for WithinDeadline<'_> {
         wanted: &[usize],
         row: &mut dyn FnMut(&[Option<&str>]) -> bool,
     ) -> Result<(), DataError> {
-        let deadline = self.deadline;
+        let (stop, every) = (self.stop.clone(), self.every);
         let mut read: u64 = 0;
-        let mut passed = false;
+        let mut reason: Option<DataError> = None;
         let outcome = self.inner.scan(wanted, &mut |cells| {
-            if read % ROWS_BETWEEN_CLOCK_CHECKS == 0 && deadline.passed() {
-                passed = true;
-                return false;
+            if read % every == 0 {
+                if let Some(why) = stop() {
+                    reason = Some(why);
+                    return false;
+                }
             }
             read += 1;
             row(cells)
         });
-        if passed {
-            return Err(timed_out_error(deadline.budget()));
+        match reason {
+            Some(why) => Err(why),
+            None => outcome,
         }
-        outcome
     }
 
     fn is_sample(&self) -> bool {

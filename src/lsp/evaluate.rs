@@ -7,7 +7,7 @@ use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::sync::Arc;
 
 use crate::data::{DataError, DataErrorKind, ResolveOptions};
-use crate::eval::{evaluate_chart, EvalOptions, EvaluatedChart, RowSource};
+use crate::eval::{evaluate_chart, EvalOptions, EvaluatedChart, RowSource, StoppableRows};
 use crate::spec::model::{ChartSpec, Source};
 
 /// Rows read between two looks at whether the text being evaluated is still the current one.
@@ -48,10 +48,7 @@ fn evaluate_with(
     let mut open = |source: &Source| -> Result<Box<dyn RowSource + Send>, DataError> {
         let rows = crate::data::rows::open_rows(source, resolve, sampled)?;
         Ok(match &still_current {
-            Some(still_current) => Box::new(StopWhenSuperseded {
-                inner: rows,
-                still_current: still_current.clone(),
-            }),
+            Some(still_current) => Box::new(stop_when_superseded(rows, still_current.clone())),
             None => rows,
         })
     };
@@ -65,48 +62,25 @@ fn evaluate_with(
     .ok()
 }
 
-/// Rows that stop being delivered once the text they are evaluated for is superseded.
-struct StopWhenSuperseded {
-    inner: Box<dyn RowSource + Send>,
+/// Rows that stop being delivered once the text they are evaluated for is superseded (looked at
+/// every [`ROWS_BETWEEN_CHECKS`] rows).
+fn stop_when_superseded<'a>(
+    rows: Box<dyn RowSource + Send + 'a>,
     still_current: StillCurrent,
-}
-
-impl RowSource for StopWhenSuperseded {
-    fn column_names(&self) -> Vec<String> {
-        self.inner.column_names()
-    }
-
-    fn scan(
-        &mut self,
-        wanted: &[usize],
-        row: &mut dyn FnMut(&[Option<&str>]) -> bool,
-    ) -> Result<(), DataError> {
-        let still_current = self.still_current.clone();
-        let mut read: u64 = 0;
-        let mut superseded = false;
-        let outcome = self.inner.scan(wanted, &mut |cells| {
-            read += 1;
-            if read % ROWS_BETWEEN_CHECKS == 0 && !still_current() {
-                superseded = true;
-                return false;
-            }
-            row(cells)
-        });
-        if superseded {
-            return Err(DataError {
+) -> StoppableRows<'a> {
+    StoppableRows::new(
+        rows,
+        ROWS_BETWEEN_CHECKS,
+        Arc::new(move || {
+            (!still_current()).then(|| DataError {
                 kind: DataErrorKind::Cancelled,
                 message: "the text changed while its rows were read".to_string(),
                 path: None,
                 line: None,
                 byte_offset: None,
-            });
-        }
-        outcome
-    }
-
-    fn is_sample(&self) -> bool {
-        self.inner.is_sample()
-    }
+            })
+        }),
+    )
 }
 
 #[cfg(test)]
@@ -145,13 +119,13 @@ mod tests {
         let read = Arc::new(AtomicU64::new(0));
         let current = Arc::new(AtomicBool::new(true));
         let flag = current.clone();
-        let mut rows = StopWhenSuperseded {
-            inner: Box::new(CountedRows {
+        let mut rows = stop_when_superseded(
+            Box::new(CountedRows {
                 read: read.clone(),
                 limit: 10 * ROWS_BETWEEN_CHECKS,
             }),
-            still_current: Arc::new(move || flag.load(Ordering::SeqCst)),
-        };
+            Arc::new(move || flag.load(Ordering::SeqCst)),
+        );
         let mut delivered = 0u64;
         let outcome = rows.scan(&[0], &mut |_| {
             delivered += 1;
@@ -164,21 +138,22 @@ mod tests {
             outcome.map_err(|error| error.kind),
             Err(DataErrorKind::Cancelled)
         );
-        // the text changed at row 100; the next look, at row 16,384, stops the scan
-        assert_eq!(read.load(Ordering::SeqCst), ROWS_BETWEEN_CHECKS);
-        assert_eq!(delivered, ROWS_BETWEEN_CHECKS - 1);
+        // the text changed at row 100; the next look, after row 16,384 (before the 16,385th is
+        // delivered), stops the scan
+        assert_eq!(read.load(Ordering::SeqCst), ROWS_BETWEEN_CHECKS + 1);
+        assert_eq!(delivered, ROWS_BETWEEN_CHECKS);
     }
 
     #[test]
     fn a_current_scan_reads_everything() {
         let read = Arc::new(AtomicU64::new(0));
-        let mut rows = StopWhenSuperseded {
-            inner: Box::new(CountedRows {
+        let mut rows = stop_when_superseded(
+            Box::new(CountedRows {
                 read: read.clone(),
                 limit: 3 * ROWS_BETWEEN_CHECKS + 5,
             }),
-            still_current: Arc::new(|| true),
-        };
+            Arc::new(|| true),
+        );
         assert!(rows.scan(&[0], &mut |_| true).is_ok());
         assert_eq!(read.load(Ordering::SeqCst), 3 * ROWS_BETWEEN_CHECKS + 5);
     }
