@@ -584,6 +584,153 @@ fn an_evaluated_grid_that_grew_past_the_data_is_cropped_to_each_panels_plot_area
     }
 }
 
+/// A 10 by 10 density grid with one cell filled (5 rows): `filled` is (column, row from the
+/// top). The x axis is logarithmic over 1..1001, the y axis even over 0..10.
+fn one_cell_density_chart(
+    filled: (u32, u32),
+    x_domain: (f64, f64),
+    x_spacing: markwell::spec::model::Spacing,
+    flip_y: bool,
+) -> markwell::eval::model::EvaluatedChart {
+    use markwell::eval::model::{DensityGrid, Domain, PanelCounts};
+    use markwell::spec::model::Spacing;
+    let (across, down) = (10u32, 10u32);
+    let mut counts = vec![0u32; (across * down) as usize];
+    counts[(filled.1 * across + filled.0) as usize] = 5;
+    let mut chart = charts::density_scatter(across, down, 0);
+    let layer = &mut chart.layers[0];
+    layer.channels[0].domain = Domain::Numeric {
+        min: 1.0,
+        max: 1001.0,
+    };
+    layer.channels[0].spacing = Some(Spacing::Logarithmic);
+    layer.channels[1].domain = Domain::Numeric {
+        min: 0.0,
+        max: 10.0,
+    };
+    layer.channels[1].flip = flip_y;
+    layer.density = Some(DensityGrid {
+        width: across,
+        height: down,
+        panels: vec![PanelCounts { panel: 0, counts }],
+        x_domain,
+        y_domain: (0.0, 10.0),
+        x_spacing,
+        y_spacing: Spacing::Even,
+        unplaced: 0,
+    });
+    chart
+}
+
+/// The one density image of a scene, checked to lie inside the plot, and whether it is filled
+/// at a value: the value's place read off the first and last ticks of the drawn axes, as a
+/// reader finds it (x logarithmic, y even).
+fn density_image_reader(
+    scene: &Scene,
+) -> (
+    markwell::draw::layout::ImageItem,
+    impl Fn(f64, f64) -> bool + '_,
+) {
+    let images: Vec<_> = scene
+        .primitives()
+        .into_iter()
+        .filter_map(|primitive| match &primitive.shape {
+            Shape::Image(image) => Some(image.clone()),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(images.len(), 1);
+    let image = images[0].clone();
+    let plot = scene.panels[0].plot;
+    assert!(
+        image.bounds.x >= plot.x - 1e-6
+            && image.bounds.right() <= plot.right() + 1e-6
+            && image.bounds.y >= plot.y - 1e-6
+            && image.bounds.bottom() <= plot.bottom() + 1e-6,
+        "{:?} outside {plot:?}",
+        image.bounds
+    );
+    let rgba = density_png_rgba(&image);
+    let axis_map = |channel: Channel, log: bool| {
+        let axis = scene
+            .axes
+            .iter()
+            .find(|axis| axis.channel == channel)
+            .unwrap();
+        let first = &axis.ticks[0];
+        let last = axis.ticks.last().unwrap();
+        let (a, b) = (first.value.unwrap(), last.value.unwrap());
+        let (pa, pb) = (first.pixel, last.pixel);
+        move |value: f64| {
+            let t = if log {
+                (value.log10() - a.log10()) / (b.log10() - a.log10())
+            } else {
+                (value - a) / (b - a)
+            };
+            pa + t * (pb - pa)
+        }
+    };
+    let x_pixel = axis_map(Channel::X, true);
+    let y_pixel = axis_map(Channel::Y, false);
+    let bounds = image.bounds;
+    let (width, height) = (image.pixel_width, image.pixel_height);
+    let filled_at = move |value_x: f64, value_y: f64| -> bool {
+        let column = ((x_pixel(value_x) - bounds.x) / bounds.width * f64::from(width)) as usize;
+        let row = ((y_pixel(value_y) - bounds.y) / bounds.height * f64::from(height)) as usize;
+        rgba[(row * width as usize + column) * 4 + 3] == 255
+    };
+    (image, filled_at)
+}
+
+/// A grid counted even in the values (as a chart past the cap is not, but a grid of an axis
+/// whose spacing the evaluation does not know would be) on a logarithmic x axis and a flipped
+/// y axis: each row must still be drawn where its value lies on the axis, not where an even
+/// stretch of the grid would put it.
+#[test]
+fn a_density_grid_on_a_logarithmic_and_a_flipped_axis_puts_each_cell_where_its_values_lie() {
+    use markwell::spec::model::Spacing;
+    // 10 cells across 1..1001 (100 wide each) and 10 down 0..10; 5 rows in the cell
+    // x 101..201, y 7..8 (row 2 from the top), nothing else
+    let chart = one_cell_density_chart((1, 2), (1.0, 1001.0), Spacing::Even, true);
+    let scene = layout(&chart);
+    let (image, filled_at) = density_image_reader(&scene);
+    // resampled: more pixels than cells along both axes
+    assert!(image.pixel_width > 10 && image.pixel_height > 10);
+    // inside the cell, near both its ends on the log axis
+    assert!(filled_at(110.0, 7.5));
+    assert!(filled_at(190.0, 7.2));
+    assert!(filled_at(150.0, 7.9));
+    // outside it: where an even stretch of the grid would have drawn the cell (x 10% to 20%
+    // of the grid's width is about 2..4 on this log axis), and the unflipped place of its row
+    // (y 2..3)
+    assert!(!filled_at(3.0, 7.5));
+    assert!(!filled_at(50.0, 7.5));
+    assert!(!filled_at(300.0, 7.5));
+    assert!(!filled_at(150.0, 2.5));
+    assert!(!filled_at(150.0, 6.5));
+}
+
+/// The evaluation counts a logarithmic axis's grid in log10 units: its cells are even on
+/// screen, the image keeps one pixel per cell, and a cell lies between its decades.
+#[test]
+fn a_density_grid_counted_in_log_units_keeps_one_pixel_per_cell_on_a_log_axis() {
+    use markwell::spec::model::Spacing;
+    // log10 x over 0..3 in 10 cells of 0.3 decades: cell 4 is 10^1.2..10^1.5 (15.8..31.6)
+    let chart = one_cell_density_chart((4, 2), (0.0, 3.0), Spacing::Logarithmic, false);
+    let scene = layout(&chart);
+    let (image, filled_at) = density_image_reader(&scene);
+    assert!(
+        image.pixel_width <= 10 && image.pixel_height <= 10,
+        "{image:?}"
+    );
+    assert!(filled_at(16.5, 7.5));
+    assert!(filled_at(30.0, 7.5));
+    assert!(!filled_at(14.0, 7.5));
+    assert!(!filled_at(34.0, 7.5));
+    // not flipped: row 2 from the top is y 7..8
+    assert!(!filled_at(20.0, 2.5));
+}
+
 /// The RGBA pixels of a density image's PNG.
 fn density_png_rgba(image: &markwell::draw::layout::ImageItem) -> Vec<u8> {
     let pixmap = resvg::tiny_skia::Pixmap::decode_png(&image.png).unwrap();

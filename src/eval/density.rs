@@ -15,6 +15,40 @@
 use std::collections::HashMap;
 
 use super::model::{DensityGrid, PanelCounts};
+use crate::spec::model::Spacing;
+
+/// The units a grid axis with this spacing counts in: the value itself, its base-10
+/// logarithm, or its signed square root (the spacings of the axes the layout draws, so that
+/// the cells are even on screen). `None` for a value the spacing cannot place: not finite, or
+/// zero or below on a logarithmic axis. Other spacings count in the values.
+pub fn to_grid_units(spacing: Spacing, value: f64) -> Option<f64> {
+    let units = match spacing {
+        Spacing::Logarithmic if value > 0.0 => value.log10(),
+        Spacing::Logarithmic => return None,
+        Spacing::SquareRoot => value.signum() * value.abs().sqrt(),
+        _ => value,
+    };
+    units.is_finite().then_some(units)
+}
+
+/// The value at a place in grid units (the inverse of [`to_grid_units`]).
+pub fn from_grid_units(spacing: Spacing, units: f64) -> f64 {
+    match spacing {
+        Spacing::Logarithmic => 10f64.powf(units),
+        Spacing::SquareRoot => units.signum() * units * units,
+        _ => units,
+    }
+}
+
+/// The spacing a grid axis counts in for an axis drawn with `spacing`: only the logarithmic
+/// and square-root spacings change the cells; the others are even in the values.
+pub fn grid_spacing(spacing: Option<Spacing>) -> Spacing {
+    match spacing {
+        Some(Spacing::Logarithmic) => Spacing::Logarithmic,
+        Some(Spacing::SquareRoot) => Spacing::SquareRoot,
+        _ => Spacing::Even,
+    }
+}
 
 /// Cells across and down: one per 2 CSS pixels of the default 640 x 400 frame.
 pub const DENSITY_WIDTH: u32 = 320;
@@ -79,11 +113,26 @@ pub struct DoublingGrid {
     /// The last panel counted and its place: rows of one panel often come together, and a
     /// chart without panels has only panel 0, so most rows skip the map.
     last: Option<(u32, usize)>,
+    /// The units of each axis (see [`to_grid_units`]).
+    spacing: (Spacing, Spacing),
+    /// Rows whose value an axis's spacing cannot place.
+    unplaced: u64,
 }
 
 impl DoublingGrid {
-    /// A grid spanning the given starting extents, with no panel yet.
+    /// A grid spanning the given starting extents (in values), with no panel yet, its cells
+    /// even in the values.
     pub fn new(x_extent: (f64, f64), y_extent: (f64, f64)) -> DoublingGrid {
+        DoublingGrid::spaced(x_extent, y_extent, (Spacing::Even, Spacing::Even))
+    }
+
+    /// A grid whose cells are even in the units of `spacing` (x, y; see [`to_grid_units`]),
+    /// starting over the given extents in grid units, with no panel yet.
+    pub fn spaced(
+        x_extent: (f64, f64),
+        y_extent: (f64, f64),
+        spacing: (Spacing, Spacing),
+    ) -> DoublingGrid {
         let width = DENSITY_WIDTH as usize;
         let height = DENSITY_HEIGHT as usize;
         DoublingGrid {
@@ -92,7 +141,14 @@ impl DoublingGrid {
             panels: Vec::new(),
             slots: HashMap::new(),
             last: None,
+            spacing,
+            unplaced: 0,
         }
+    }
+
+    /// The grid units of a point, `None` when an axis cannot place it.
+    pub fn units_of(&self, x: f64, y: f64) -> Option<(f64, f64)> {
+        to_grid_units(self.spacing.0, x).zip(to_grid_units(self.spacing.1, y))
     }
 
     fn grow(&mut self, along_x: bool, growth: Growth) {
@@ -170,6 +226,8 @@ impl DoublingGrid {
 
     /// Count one point of a panel (non-finite coordinates are ignored). `false` when the point
     /// is not counted because its panel is past [`MAX_DENSITY_PANELS`].
+    /// The coordinates are values; a point an axis's spacing cannot place (zero or below on
+    /// a logarithmic axis) is counted as unplaced.
     pub fn add(&mut self, panel: u32, x: f64, y: f64) -> bool {
         let Some(slot) = self.slot_of(panel) else {
             return false;
@@ -177,6 +235,10 @@ impl DoublingGrid {
         if !(x.is_finite() && y.is_finite()) {
             return true;
         }
+        let Some((x, y)) = self.units_of(x, y) else {
+            self.unplaced += 1;
+            return true;
+        };
         self.fit(x, true);
         self.fit(y, false);
         let index = self.y.index_of(y) * self.x.cells + self.x.index_of(x);
@@ -210,6 +272,9 @@ impl DoublingGrid {
             panels,
             x_domain: (self.x.origin, self.x.end()),
             y_domain: (self.y.origin, self.y.end()),
+            x_spacing: self.spacing.0,
+            y_spacing: self.spacing.1,
+            unplaced: self.unplaced,
         }
     }
 }

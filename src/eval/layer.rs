@@ -14,7 +14,7 @@ use hashbrown::HashTable;
 use std::sync::Arc;
 
 use super::bins::Bins;
-use super::density::{DoublingGrid, MAX_DENSITY_PANELS};
+use super::density::{grid_spacing, to_grid_units, DoublingGrid, MAX_DENSITY_PANELS};
 use super::model::*;
 use super::quantile::DEFAULT_RANK_ERROR;
 use super::summary::{Accumulator, CellValue};
@@ -173,6 +173,15 @@ struct Plan<'s> {
 impl Plan<'_> {
     fn channel(&self) -> Channel {
         self.binding.channel
+    }
+
+    /// The spacing its mapping asks for, if any.
+    fn spacing(&self) -> Option<Spacing> {
+        self.binding
+            .mapping
+            .as_ref()
+            .and_then(|mapping| mapping.spacing.as_ref())
+            .map(|spacing| spacing.value)
     }
 
     fn summary(&self) -> Option<Summary> {
@@ -872,9 +881,7 @@ fn channel_infos(
                 kind: plan.drawn_kind,
                 title: channel_title(spec, binding),
                 domain,
-                spacing: mapping
-                    .and_then(|mapping| mapping.spacing.as_ref())
-                    .map(|s| s.value),
+                spacing: plan.spacing(),
                 extent: mapping
                     .and_then(|mapping| mapping.extent.as_ref())
                     .map(|e| e.value),
@@ -1387,6 +1394,16 @@ enum Keeping {
     Dropping(u64),
 }
 
+/// The units a density grid counts in along a plan's axis: those of its spacing for numbers
+/// (times are drawn on an even calendar axis).
+fn grid_spacing_of(plan: &Plan<'_>) -> Spacing {
+    if plan.drawn_kind == AttributeKind::Time {
+        Spacing::Even
+    } else {
+        grid_spacing(plan.spacing())
+    }
+}
+
 #[allow(clippy::too_many_arguments)]
 fn evaluate_rows(
     state: &mut ChartState<'_>,
@@ -1488,9 +1505,29 @@ fn evaluate_rows(
         if keep_values && marks.len() >= cap {
             keeping = match density_axes {
                 Some((x, y)) => {
-                    let x_extent = extents[x].0.unwrap_or((0.0, 1.0));
-                    let y_extent = extents[y].0.unwrap_or((0.0, 1.0));
-                    let mut grid = Box::new(DoublingGrid::new(x_extent, y_extent));
+                    // cells even on screen: in the units of the axes' spacings, over the
+                    // extent of the kept marks in those units
+                    let spacing = (
+                        grid_spacing_of(&plans_view[x]),
+                        grid_spacing_of(&plans_view[y]),
+                    );
+                    let mut unit_extents = (Extent::default(), Extent::default());
+                    for kept in &marks {
+                        if let (Some(x), Some(y)) = (
+                            kept.values[x]
+                                .as_f64()
+                                .and_then(|value| to_grid_units(spacing.0, value)),
+                            kept.values[y]
+                                .as_f64()
+                                .and_then(|value| to_grid_units(spacing.1, value)),
+                        ) {
+                            unit_extents.0.add(x);
+                            unit_extents.1.add(y);
+                        }
+                    }
+                    let x_extent = unit_extents.0 .0.unwrap_or((0.0, 1.0));
+                    let y_extent = unit_extents.1 .0.unwrap_or((0.0, 1.0));
+                    let mut grid = Box::new(DoublingGrid::spaced(x_extent, y_extent, spacing));
                     let mut refused = 0u64;
                     for kept in marks.drain(..) {
                         if let (Some(x), Some(y)) =

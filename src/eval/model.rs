@@ -103,6 +103,14 @@ pub struct DensityGrid {
     pub panels: Vec<PanelCounts>,
     pub x_domain: (f64, f64),
     pub y_domain: (f64, f64),
+    /// How the cells are spaced along x and y: even in the values (`Spacing::Even`), or even in
+    /// their base-10 logarithm (`Logarithmic`) or signed square root (`SquareRoot`) for an axis
+    /// drawn with that spacing, so that the cells are even on screen. The domains are in those
+    /// units ([`crate::eval::density::to_grid_units`]).
+    pub x_spacing: Spacing,
+    pub y_spacing: Spacing,
+    /// Rows not counted because a logarithmic axis cannot place their value (zero or below).
+    pub unplaced: u64,
 }
 
 /// The counts of one panel's density grid.

@@ -425,6 +425,65 @@ fn a_density_grid_keeps_each_panels_rows_in_its_own_counts() {
 }
 
 #[test]
+fn a_density_grid_counts_in_the_units_of_its_axes_spacing() {
+    // x on a logarithmic axis, y on a square-root one: the cells are even in log10(x) and in
+    // sqrt(y), as the axes are drawn. The first two rows set the grid's start to log10 x in
+    // 0..3.2 (0.01 per cell, 320 cells) and sqrt y in 0..20 (0.1 per cell, 200 cells).
+    let mut points: Vec<(f64, f64)> = vec![(1.0, 0.0), (10f64.powf(3.2), 400.0), (0.0, 4.0)];
+    let mut expected_cells = Vec::new();
+    for index in 0..100usize {
+        let (column, row_up) = ((index * 3) % 320, (index * 7) % 200);
+        let x = 10f64.powf(0.005 + 0.01 * column as f64);
+        let y = (0.05 + 0.1 * row_up as f64).powi(2);
+        points.push((x, y));
+        expected_cells.push((column, row_up));
+    }
+    points.push((-5.0, 9.0));
+    let rows: Vec<String> = points
+        .iter()
+        .map(|(x, y)| format!(r#"{{"yield": {x}, "height": {y}}}"#))
+        .collect();
+    let text = format!(
+        r#"{{"source": {{"rows": [{}]}}, "mark": "point",
+            "bind": {{"x": {{"column": "yield", "mapping": {{"spacing": "logarithmic"}}}},
+                      "y": {{"column": "height", "mapping": {{"spacing": "square-root"}}}}}}}}"#,
+        rows.join(",")
+    );
+    let chart = evaluate_with(
+        &text,
+        &EvalOptions {
+            max_kept_marks: 50,
+            ..EvalOptions::default()
+        },
+    );
+    let Some(grid) = &chart.layers[0].density else {
+        panic!("a density grid past the cap");
+    };
+    assert_eq!(
+        (grid.x_spacing, grid.y_spacing),
+        (
+            crate::spec::model::Spacing::Logarithmic,
+            crate::spec::model::Spacing::SquareRoot
+        )
+    );
+    assert!(grid.x_domain.0.abs() < 1e-12 && (grid.x_domain.1 - 3.2).abs() < 1e-6);
+    assert!(grid.y_domain.0.abs() < 1e-12 && (grid.y_domain.1 - 20.0).abs() < 1e-6);
+    // the two rows at x 0 and -5, one among the kept marks and one after: no logarithm
+    assert_eq!(grid.unplaced, 2);
+    let Some(counts) = grid.counts_of(0) else {
+        panic!("panel 0 has a grid");
+    };
+    let mut expected = vec![0u32; 320 * 200];
+    // the two rows that set the start: (log 0, sqrt 0) in the first cell, (3.2, 20) in the last
+    expected[199 * 320] += 1;
+    expected[319] += 1;
+    for (column, row_up) in expected_cells {
+        expected[(199 - row_up) * 320 + column] += 1;
+    }
+    assert!(counts == expected.as_slice(), "counts differ");
+}
+
+#[test]
 fn density_grids_stop_at_the_panel_cap_and_say_how_many_rows_are_not_drawn() {
     // 70 bakeries, one row each beyond the first 10 kept: the grid takes the first 64 seen
     let rows: Vec<String> = (0..140)

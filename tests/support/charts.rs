@@ -542,6 +542,9 @@ pub fn density_scatter(cells_across: u32, cells_down: u32, points: u64) -> Evalu
         panels: vec![PanelCounts { panel: 0, counts }],
         x_domain: (0.0, 30.0),
         y_domain: (0.0, 9.0),
+        x_spacing: Spacing::Even,
+        y_spacing: Spacing::Even,
+        unplaced: 0,
     });
     chart("Wave height against wind speed", vec![layer])
 }

@@ -2,6 +2,7 @@
 //! density image, placed by the chart's scales.
 
 use super::*;
+use crate::eval::density::{from_grid_units, to_grid_units};
 
 // ---------------------------------------------------------------------------------------------
 // Marks
@@ -123,6 +124,14 @@ pub(super) fn layer_group(
             notes.push(format!(
                 "layer {}: the density grid needs number or time positions on both axes",
                 layer.index + 1
+            ));
+        }
+        if grid.unplaced > 0 {
+            notes.push(format!(
+                "layer {}: {} {} not drawn in the density grid (zero or below on a logarithmic axis)",
+                layer.index + 1,
+                grid.unplaced,
+                if grid.unplaced == 1 { "row" } else { "rows" }
             ));
         }
         return Group {
@@ -765,6 +774,13 @@ fn bar_geometry(
 /// while it reads the rows and can reach well past the domains drawn, and those cells (empty
 /// of rows past the data, but not of area) would cover the frame or a neighbouring panel. A
 /// cell cut by the plot's edge is kept whole.
+///
+/// The evaluation spaces the cells as the axes are spaced (even in the values, their logarithm
+/// or their square root), so along an axis drawn that way, the usual way round (x to the right,
+/// y upward), the cells are even on screen and the image holds one pixel per cell. Along any
+/// other axis (flipped, or a spacing the grid was not counted in) the image holds one pixel
+/// per CSS pixel of the plot, each taking the count of the cell its centre's value falls in,
+/// so every row is still drawn where its value lies on the axis.
 fn density_image(
     grid: &DensityGrid,
     counts: &[u32],
@@ -780,43 +796,37 @@ fn density_image(
         return None;
     }
     let plot = panel.plot;
-    let (columns, x_domain) = cells_within(
-        grid.x_domain,
-        width,
-        x.invert(plot.x).zip(x.invert(plot.right())),
+    let columns = axis_samples(
+        (grid.x_domain, width, grid.x_spacing),
+        x,
+        (plot.x, plot.right()),
+        false,
     )?;
-    // y: cells counted from the bottom (smallest y); the counts' row 0 is the top
-    let (rows_up, y_domain) = cells_within(
-        grid.y_domain,
-        height,
-        y.invert(plot.bottom()).zip(y.invert(plot.y)),
+    // the counts' row 0 is the top (largest y); samples run top to bottom
+    let rows = axis_samples(
+        (grid.y_domain, height, grid.y_spacing),
+        y,
+        (plot.y, plot.bottom()),
+        true,
     )?;
-    let rows = (height - rows_up.end)..(height - rows_up.start);
-    let cropped_width = columns.len();
-    let cropped_height = rows.len();
-    let cropped: std::borrow::Cow<'_, [u32]> = if cropped_width == width && cropped_height == height
-    {
-        std::borrow::Cow::Borrowed(counts)
-    } else {
-        let mut kept = Vec::with_capacity(cropped_width * cropped_height);
-        for row in rows {
-            kept.extend_from_slice(&counts[row * width + columns.start..row * width + columns.end]);
+    let pixel_width = u32::try_from(columns.cells.len()).ok()?;
+    let pixel_height = u32::try_from(rows.cells.len()).ok()?;
+    let mut sampled = Vec::with_capacity(columns.cells.len() * rows.cells.len());
+    for row in &rows.cells {
+        for column in &columns.cells {
+            sampled.push(match (row, column) {
+                (Some(row), Some(column)) => counts[row * width + column],
+                _ => 0,
+            });
         }
-        std::borrow::Cow::Owned(kept)
-    };
-    let left = x.map(x_domain.0)?;
-    let right = x.map(x_domain.1)?;
-    let top = y.map(y_domain.1)?;
-    let bottom = y.map(y_domain.0)?;
+    }
     let bounds = BoxRect {
-        x: left.min(right),
-        y: top.min(bottom),
-        width: (right - left).abs(),
-        height: (bottom - top).abs(),
+        x: columns.from,
+        y: rows.from,
+        width: columns.to - columns.from,
+        height: rows.to - rows.from,
     };
-    let pixel_width = u32::try_from(cropped_width).ok()?;
-    let pixel_height = u32::try_from(cropped_height).ok()?;
-    let png = density_png(pixel_width, pixel_height, &cropped, max_count)?;
+    let png = density_png(pixel_width, pixel_height, &sampled, max_count)?;
     Some(Node::Primitive(Primitive {
         shape: Shape::Image(ImageItem {
             bounds,
@@ -828,6 +838,85 @@ fn density_image(
         label: None,
         mark: None,
     }))
+}
+
+/// Along one axis of a density image: the grid cell each pixel of the image shows (`None`:
+/// no cell, transparent), in screen order (left to right, top to bottom), and the screen span
+/// the pixels cover.
+struct AxisSamples {
+    cells: Vec<Option<usize>>,
+    from: f64,
+    to: f64,
+}
+
+/// Image pixels at most along one axis: a plot this long is past any frame markwell draws.
+const MAX_RESAMPLED_PIXELS: f64 = 4096.0;
+
+/// The samples of one axis of a density image (see [`density_image`]): `cells` cells over
+/// `domain` in the grid units of `spacing`, drawn by `scale` into the plot's `edges` (screen,
+/// low to high). `vertical`: the cells are counted from the top (the largest value) and screen
+/// positions grow downward. `None` when no cell meets the plot.
+fn axis_samples(
+    (domain, cells, spacing): ((f64, f64), usize, Spacing),
+    scale: &ContinuousScale,
+    edges: (f64, f64),
+    vertical: bool,
+) -> Option<AxisSamples> {
+    let units = |value: f64| to_grid_units(spacing, value);
+    let screen = |units: f64| scale.map(from_grid_units(spacing, units));
+    let same_spacing = match scale.transform {
+        Transform::Even | Transform::Calendar => spacing == Spacing::Even,
+        Transform::Logarithmic => spacing == Spacing::Logarithmic,
+        Transform::SquareRoot => spacing == Spacing::SquareRoot,
+    };
+    let ends = screen(domain.0).zip(screen(domain.1));
+    // screen positions grow along x and shrink along y as values grow, unless flipped
+    let usual_way = ends.is_some_and(|(low, high)| if vertical { low > high } else { low < high });
+    if same_spacing && usual_way {
+        let edge_units = scale
+            .invert(edges.0)
+            .and_then(units)
+            .zip(scale.invert(edges.1).and_then(units));
+        let (kept, span) = cells_within(domain, cells, edge_units)?;
+        let screen_low = screen(span.0)?;
+        let screen_high = screen(span.1)?;
+        let cells = if vertical {
+            (cells - kept.end..cells - kept.start).map(Some).collect()
+        } else {
+            kept.map(Some).collect()
+        };
+        return Some(AxisSamples {
+            cells,
+            from: screen_low.min(screen_high),
+            to: screen_low.max(screen_high),
+        });
+    }
+    let length = edges.1 - edges.0;
+    let size = (domain.1 - domain.0) / cells as f64;
+    if !(length > 0.0 && length.is_finite() && size > 0.0 && size.is_finite()) {
+        return None;
+    }
+    let pixels = length.ceil().clamp(1.0, MAX_RESAMPLED_PIXELS) as usize;
+    let step = length / pixels as f64;
+    let samples: Vec<Option<usize>> = (0..pixels)
+        .map(|pixel| {
+            let value = scale.invert(edges.0 + (pixel as f64 + 0.5) * step)?;
+            let cell = ((units(value)? - domain.0) / size).floor();
+            if !(cell >= 0.0 && cell < cells as f64) {
+                return None;
+            }
+            let cell = cell as usize;
+            Some(if vertical { cells - 1 - cell } else { cell })
+        })
+        .collect();
+    if samples.iter().all(Option::is_none) {
+        return None;
+    }
+    Some(AxisSamples {
+        cells: samples,
+        from: edges.0,
+        to: edges.1,
+    })
 }
 
 /// The cells along one axis (`cells` of them over `domain`) that meet the data values between
