@@ -731,6 +731,162 @@ fn a_density_grid_counted_in_log_units_keeps_one_pixel_per_cell_on_a_log_axis() 
     assert!(!filled_at(20.0, 2.5));
 }
 
+/// Points whose x and y ask for `ranked` spacing (crossing minutes and fares of invented ferry
+/// runs): `count` runs, minutes far apart.
+fn ranked_scatter(count: usize) -> markwell::eval::model::EvaluatedChart {
+    use markwell::eval::model::{Datum, Domain};
+    use markwell::spec::model::{AttributeKind, Spacing};
+    let minutes: Vec<f64> = (0..count)
+        .map(|index| (index as f64).powi(3) * 0.5 + 11.0)
+        .collect();
+    let fares: Vec<f64> = (0..count)
+        .map(|index| ((index * 7) % count) as f64 * 0.5 + 2.0)
+        .collect();
+    let marks = minutes
+        .iter()
+        .zip(&fares)
+        .map(|(minute, fare)| charts::mark(vec![Datum::Number(*minute), Datum::Number(*fare)]))
+        .collect();
+    let numeric = |values: &[f64]| Domain::Numeric {
+        min: values.iter().copied().fold(f64::INFINITY, f64::min),
+        max: values.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+    };
+    let mut x = charts::channel(
+        Channel::X,
+        "crossing (min)",
+        AttributeKind::Quantitative,
+        numeric(&minutes),
+    );
+    x.spacing = Some(Spacing::Ranked);
+    let mut y = charts::channel(
+        Channel::Y,
+        "fare",
+        AttributeKind::Quantitative,
+        numeric(&fares),
+    );
+    y.spacing = Some(Spacing::Ranked);
+    charts::chart(
+        "Fare by crossing time",
+        vec![charts::layer(Mark::Point, vec![x, y], marks)],
+    )
+}
+
+/// `ranked`: the values in order, one step apart whatever their difference; the smallest at
+/// the left and at the bottom.
+#[test]
+fn ranked_spacing_puts_the_values_in_order_one_step_apart() {
+    let chart = ranked_scatter(12);
+    let scene = layout(&chart);
+    assert!(
+        !scene.notes.iter().any(|note| note.contains("ranked")),
+        "{:?}",
+        scene.notes
+    );
+    let points: Vec<(f64, f64)> = scene
+        .primitives()
+        .into_iter()
+        .filter(|primitive| primitive.mark.is_some())
+        .filter_map(|primitive| match &primitive.shape {
+            Shape::Circle { centre, .. } | Shape::Symbol { centre, .. } => {
+                Some((centre.x, centre.y))
+            }
+            _ => None,
+        })
+        .collect();
+    assert_eq!(points.len(), 12, "{:?}", scene.primitives());
+    // the minutes grow with the row: x steps are equal however far apart the minutes are
+    let steps: Vec<f64> = points
+        .windows(2)
+        .map(|pair| pair[1].0 - pair[0].0)
+        .collect();
+    for step in &steps {
+        assert!(step > &0.0 && (step - steps[0]).abs() < 1e-6, "{steps:?}");
+    }
+    // the fares are 0.5 apart, ranked upward: pixel y falls by one step per rank
+    let fares: Vec<f64> = (0..12)
+        .map(|index| ((index * 7) % 12) as f64 * 0.5 + 2.0)
+        .collect();
+    let y_step = {
+        let lowest = points[fares.iter().position(|fare| *fare == 2.0).unwrap()].1;
+        let next = points[fares.iter().position(|fare| *fare == 2.5).unwrap()].1;
+        lowest - next
+    };
+    assert!(y_step > 0.0);
+    for (point, fare) in points.iter().zip(&fares) {
+        let lowest = points[fares.iter().position(|fare| *fare == 2.0).unwrap()].1;
+        let rank = (fare - 2.0) / 0.5;
+        assert!(
+            (lowest - point.1 - rank * y_step).abs() < 1e-6,
+            "fare {fare}"
+        );
+    }
+    // the axis labels read the values in order
+    let x_axis = scene
+        .axes
+        .iter()
+        .find(|axis| axis.channel == Channel::X)
+        .unwrap();
+    let labels: Vec<f64> = x_axis
+        .ticks
+        .iter()
+        .map(|tick| tick.label.parse().unwrap())
+        .collect();
+    assert!(
+        labels.windows(2).all(|pair| pair[0] < pair[1]),
+        "{labels:?}"
+    );
+}
+
+#[test]
+fn ranked_spacing_falls_back_to_even_with_a_note_where_steps_cannot_be_drawn() {
+    use markwell::draw::layout::MAX_RANKED_STEPS;
+    use markwell::spec::model::Spacing;
+    // too many values
+    let scene = layout(&ranked_scatter(MAX_RANKED_STEPS + 1));
+    assert!(
+        scene
+            .notes
+            .iter()
+            .any(|note| note.contains("`ranked` spacing on `x`")
+                && note.contains(&format!("{} values", MAX_RANKED_STEPS + 1))),
+        "{:?}",
+        scene.notes
+    );
+    // a bar's value axis grows from zero
+    let mut bars = charts::bakery_bars();
+    let value_axis = bars.layers[0]
+        .channels
+        .iter_mut()
+        .find(|info| info.channel == Channel::Y)
+        .unwrap();
+    value_axis.spacing = Some(Spacing::Ranked);
+    let scene = layout(&bars);
+    assert!(
+        scene
+            .notes
+            .iter()
+            .any(|note| note.contains("`ranked` spacing on `y`") && note.contains("from zero")),
+        "{:?}",
+        scene.notes
+    );
+    // the bars are still proportional to their values
+    let rects = rects_of_layer(&scene);
+    let per_unit = rects[0].height / 412.0;
+    assert!((rects[2].height / 530.5 - per_unit).abs() < 1e-6);
+    // rows drawn as a density grid keep no values to rank
+    let mut density = charts::density_scatter(8, 8, 100);
+    density.layers[0].channels[0].spacing = Some(Spacing::Ranked);
+    let scene = layout(&density);
+    assert!(
+        scene
+            .notes
+            .iter()
+            .any(|note| note.contains("`ranked` spacing on `x`") && note.contains("density")),
+        "{:?}",
+        scene.notes
+    );
+}
+
 /// The RGBA pixels of a density image's PNG.
 fn density_png_rgba(image: &markwell::draw::layout::ImageItem) -> Vec<u8> {
     let pixmap = resvg::tiny_skia::Pixmap::decode_png(&image.png).unwrap();

@@ -493,6 +493,72 @@ fn join_domains(first: &Domain, second: &Domain) -> Domain {
     }
 }
 
+/// Distinct values a `ranked` axis draws at most, one step each; past it the axis is spaced
+/// evenly. Common practice, no source: a few thousand steps are already under a pixel each on
+/// the default frame.
+pub const MAX_RANKED_STEPS: usize = 2_000;
+
+/// A `ranked` number axis: its values in order, one step apart whatever their difference, as
+/// the spec asks. The drawn numbers become ordered steps (the domain's categories, labelled as
+/// the numbers are printed; values printed alike share a step), smallest first along x and at
+/// the bottom along y. Spaced evenly instead, with a note, where steps cannot be drawn: on a
+/// value axis that starts at zero (bars and areas grow from a baseline), for rows drawn as a
+/// density grid (their values are not kept), or past [`MAX_RANKED_STEPS`] values.
+fn rank_numbers(
+    chart: &EvaluatedChart,
+    info: &mut ChannelInfo,
+    vertical: bool,
+    notes: &mut Vec<String>,
+) {
+    if info.spacing != Some(Spacing::Ranked) || !matches!(info.domain, Domain::Numeric { .. }) {
+        return;
+    }
+    let mut values: Vec<f64> = Vec::new();
+    let mut reason = None;
+    for layer in &chart.layers {
+        let Some(index) = layer.channel_index(info.channel) else {
+            continue;
+        };
+        if layer.density.is_some() {
+            reason = Some("its rows are drawn as a density grid".to_string());
+            break;
+        }
+        values.extend(
+            layer
+                .marks
+                .iter()
+                .filter_map(|mark| match mark.values.get(index) {
+                    Some(Datum::Number(value)) if value.is_finite() => Some(*value),
+                    _ => None,
+                }),
+        );
+    }
+    values.sort_by(f64::total_cmp);
+    values.dedup();
+    if info.from_zero {
+        reason = Some("bars and areas grow from zero along it".to_string());
+    } else if reason.is_none() && values.len() > MAX_RANKED_STEPS {
+        reason = Some(format!(
+            "it has {} values, more than the {MAX_RANKED_STEPS} steps drawn",
+            values.len()
+        ));
+    }
+    if let Some(reason) = reason {
+        notes.push(format!(
+            "`ranked` spacing on `{}` is drawn as even spacing: {reason}",
+            info.channel.as_str()
+        ));
+        return;
+    }
+    let mut labels: Vec<String> = values.into_iter().map(format_number).collect();
+    labels.dedup();
+    if vertical {
+        // band axes read top-down: the largest value first puts the smallest at the bottom
+        labels.reverse();
+    }
+    info.domain = Domain::Categories(labels);
+}
+
 /// A position scale for `info` over a placeholder range (set per panel later).
 fn position_scale(info: &ChannelInfo, target_ticks: usize) -> Option<PositionScale> {
     match &info.domain {
@@ -1067,8 +1133,13 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
             layer.channel(Channel::X).is_none() && layer.channel(Channel::Y).is_none()
         });
 
-    let x_info = joined_channel(chart, Channel::X);
-    let y_info = joined_channel(chart, Channel::Y);
+    let mut x_info = joined_channel(chart, Channel::X);
+    let mut y_info = joined_channel(chart, Channel::Y);
+    for (info, vertical) in [(&mut x_info, false), (&mut y_info, true)] {
+        if let Some(info) = info {
+            rank_numbers(chart, info, vertical, &mut notes);
+        }
+    }
 
     // legends take the right side: in one column, or in more when one is taller than the
     // frame; else rows below the plots; else fewer entries (see `plan_legends`)
@@ -1562,14 +1633,6 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
         legends.push(legend);
     }
 
-    for info in [&x_info, &y_info].into_iter().flatten() {
-        if info.spacing == Some(Spacing::Ranked) && matches!(info.domain, Domain::Numeric { .. }) {
-            notes.push(format!(
-                "`ranked` spacing on `{}` is drawn as even spacing",
-                info.channel.as_str()
-            ));
-        }
-    }
     for layer in &chart.layers {
         for info in &layer.channels {
             if matches!(info.channel, Channel::Tilt | Channel::Texture) {
