@@ -1216,3 +1216,224 @@ fn a_chart_with_many_legends_draws_a_dozen_and_says_so() {
         assert_legends_fit(&format!("sixty layers at {width} x {height}"), &scene);
     }
 }
+
+/// The marks of a scene with their shapes and paints.
+fn drawn_marks(scene: &Scene) -> Vec<&markwell::draw::layout::Primitive> {
+    scene
+        .primitives()
+        .into_iter()
+        .filter(|primitive| primitive.mark.is_some())
+        .collect()
+}
+
+#[test]
+fn texture_hatches_each_bar_by_its_category_and_the_svg_fills_it_with_a_pattern() {
+    use markwell::draw::layout::texture::{Hatch, HATCHES};
+    use markwell::draw::layout::LegendGlyph;
+    let chart = charts::orchard_soils();
+    let scene = layout(&chart);
+    assert!(
+        !scene.notes.iter().any(|note| note.contains("texture")),
+        "{:?}",
+        scene.notes
+    );
+    let bars = drawn_marks(&scene);
+    assert_eq!(bars.len(), 5);
+    // soils in the domain's order: loam, clay, sand, chalk, clay
+    let hatches: Vec<Option<Hatch>> = bars.iter().map(|bar| bar.paint.hatch).collect();
+    assert_eq!(
+        hatches,
+        [0, 1, 2, 3, 1].map(|soil| Some(HATCHES[soil])).to_vec()
+    );
+    // the legend lists the four soils with their patterns
+    let legend = scene
+        .legends
+        .iter()
+        .find(|legend| legend.channel == Channel::Texture)
+        .expect("a texture legend");
+    let keys: Vec<(String, Option<LegendGlyph>)> = legend
+        .entries
+        .iter()
+        .map(|entry| (entry.label.clone(), entry.glyph.clone()))
+        .collect();
+    assert_eq!(
+        keys,
+        ["loam", "clay", "sand", "chalk"]
+            .iter()
+            .enumerate()
+            .map(|(index, soil)| (soil.to_string(), Some(LegendGlyph::Hatch(HATCHES[index]))))
+            .collect::<Vec<_>>()
+    );
+
+    // the SVG: one pattern per distinct (hatch, colour), each hatched bar filled with one
+    let svg = write_svg(&scene);
+    let document = roxmltree::Document::parse(&svg).unwrap();
+    let patterns: Vec<&str> = document
+        .descendants()
+        .filter(|node| node.has_tag_name("pattern"))
+        .filter_map(|node| node.attribute("id"))
+        .collect();
+    // the legend's keys are drawn in ink, the bars in their colour: 3 + 3 patterns
+    assert_eq!(patterns.len(), 6, "{patterns:?}");
+    let layer = document
+        .descendants()
+        .find(|node| {
+            node.attribute("class")
+                .is_some_and(|class| class.starts_with("layer"))
+        })
+        .unwrap();
+    let fills: Vec<&str> = layer
+        .descendants()
+        .filter(|node| node.has_tag_name("rect"))
+        .filter_map(|node| node.attribute("fill"))
+        .collect();
+    assert_eq!(fills.len(), 5);
+    assert!(!fills[0].starts_with("url("), "{fills:?}"); // loam is the plain fill
+    for fill in &fills[1..] {
+        let id = fill
+            .strip_prefix("url(#")
+            .and_then(|rest| rest.strip_suffix(')'))
+            .unwrap_or_else(|| panic!("{fill}"));
+        assert!(patterns.contains(&id), "{id} not among {patterns:?}");
+    }
+    assert_eq!(fills[1], fills[4], "both clay orchards share a pattern");
+    assert!(fills[1] != fills[2] && fills[2] != fills[3]);
+
+    // drawn: a plain bar is one colour inside, a hatched bar has its lines and its wash
+    let picture = markwell::draw::png::rasterise(&svg, 1.0).unwrap();
+    let colours_inside = |bar: &markwell::draw::layout::Primitive| {
+        let Shape::Rect(rect) = &bar.shape else {
+            panic!("{bar:?}")
+        };
+        let mut seen = std::collections::BTreeSet::new();
+        for y in (rect.y as u32 + 3)..(rect.bottom() as u32 - 3) {
+            for x in (rect.x as u32 + 3)..(rect.right() as u32 - 3) {
+                let pixel = picture.pixel(x, y).unwrap();
+                seen.insert([pixel.red(), pixel.green(), pixel.blue(), pixel.alpha()]);
+            }
+        }
+        seen.len()
+    };
+    assert_eq!(colours_inside(bars[0]), 1);
+    for bar in &bars[1..] {
+        assert!(colours_inside(bar) > 2, "{bar:?}");
+    }
+}
+
+#[test]
+fn texture_on_lines_is_a_dash_pattern_per_series_with_dashes_in_the_legend() {
+    use markwell::draw::layout::LegendGlyph;
+    let mut chart = charts::ferry_lines(Mark::Line);
+    chart.layers[0].channels[2].channel = Channel::Texture;
+    let scene = layout(&chart);
+    let lines: Vec<Vec<f64>> = drawn_marks(&scene)
+        .iter()
+        .filter(|primitive| matches!(primitive.shape, Shape::Polyline { .. }))
+        .map(|primitive| primitive.paint.dash.clone())
+        .collect();
+    assert_eq!(lines.len(), 2, "{lines:?}");
+    // Puffin's line is solid, Tern's dashed, in multiples of the 2 px stroke
+    assert!(lines[0].is_empty(), "{lines:?}");
+    assert_eq!(lines[1], vec![8.0, 4.0]);
+    let legend = scene
+        .legends
+        .iter()
+        .find(|legend| legend.channel == Channel::Texture)
+        .unwrap();
+    let glyphs: Vec<_> = legend
+        .entries
+        .iter()
+        .map(|entry| entry.glyph.clone())
+        .collect();
+    assert_eq!(
+        glyphs,
+        vec![Some(LegendGlyph::Dash(0)), Some(LegendGlyph::Dash(1))]
+    );
+    let svg = write_svg(&scene);
+    assert!(svg.contains("stroke-dasharray=\"8 4\""));
+    assert!(!svg.contains("<pattern"), "lines use no fill pattern");
+}
+
+#[test]
+fn tilt_turns_each_point_into_a_stroke_at_its_angle_and_skips_a_missing_value() {
+    use markwell::draw::layout::LegendGlyph;
+    let chart = charts::lighthouse_wind();
+    let scene = layout(&chart);
+    let strokes: Vec<f64> = drawn_marks(&scene)
+        .iter()
+        .map(|primitive| match &primitive.shape {
+            // degrees counter-clockwise from horizontal, screen y downward
+            Shape::Line { from, to } => (from.y - to.y).atan2(to.x - from.x).to_degrees(),
+            other => panic!("a tilted point is a stroke, not {other:?}"),
+        })
+        .collect();
+    // the 24th reading has no wind speed: 23 strokes and a note
+    assert_eq!(strokes.len(), 23);
+    assert!(
+        scene
+            .notes
+            .iter()
+            .any(|note| note.starts_with("layer 1: 1 mark not drawn")),
+        "{:?}",
+        scene.notes
+    );
+    for (hour, angle) in strokes.iter().enumerate() {
+        let wind = 4.0 + (hour as f64 * 1.7) % 32.0;
+        let expected = (wind - 4.0) / 32.0 * 90.0;
+        assert!(
+            (angle - expected).abs() < 1e-6,
+            "hour {hour}: {angle} vs {expected}"
+        );
+    }
+    let legend = scene
+        .legends
+        .iter()
+        .find(|legend| legend.channel == Channel::Tilt)
+        .unwrap();
+    assert!(legend.entries.len() >= 3);
+    let mut previous = -1.0;
+    for entry in &legend.entries {
+        let Some(LegendGlyph::Tilt(degrees)) = entry.glyph else {
+            panic!("{entry:?}")
+        };
+        let wind: f64 = entry.label.parse().unwrap();
+        assert!((degrees - (wind - 4.0) / 32.0 * 90.0).abs() < 1e-9);
+        assert!(degrees > previous);
+        previous = degrees;
+    }
+}
+
+#[test]
+fn a_mark_that_cannot_show_texture_or_tilt_says_so_in_a_note() {
+    // tilt on bars, texture on points
+    let mut bars = charts::orchard_soils();
+    bars.layers[0].channels[2].channel = Channel::Tilt;
+    let scene = layout(&bars);
+    assert!(
+        scene
+            .notes
+            .iter()
+            .any(|note| note.contains("bar marks do not show the `tilt` channel")),
+        "{:?}",
+        scene.notes
+    );
+    assert!(drawn_marks(&scene)
+        .iter()
+        .all(|primitive| primitive.paint.hatch.is_none()));
+    assert!(!scene
+        .legends
+        .iter()
+        .any(|legend| legend.channel == Channel::Tilt));
+    let mut points = charts::lighthouse_wind();
+    points.layers[0].channels[2].channel = Channel::Texture;
+    let scene = layout(&points);
+    assert!(
+        scene
+            .notes
+            .iter()
+            .any(|note| note.contains("point marks do not show the `texture` channel")),
+        "{:?}",
+        scene.notes
+    );
+    assert_eq!(drawn_marks(&scene).len(), 24);
+}

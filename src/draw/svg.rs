@@ -2,8 +2,10 @@
 //! position and colour was decided by the layout), adds `<title>` and `<desc>` for the chart and
 //! `role` / `aria-label` for screen readers, and writes real `<text>` for every label.
 
+use std::collections::HashMap;
 use std::fmt::Write as _;
 
+use crate::draw::layout::texture::Hatch;
 use crate::draw::layout::{
     Anchor, Group, Node, Paint, Point, Primitive, Role, Scene, Shape, Symbol, TextItem,
 };
@@ -43,11 +45,158 @@ pub fn write_svg(scene: &Scene) -> String {
         out,
         "<g font-family=\"{FONT_FAMILY}, sans-serif\" stroke-linecap=\"butt\" stroke-linejoin=\"round\">"
     );
+    let patterns = Patterns::of(scene);
+    patterns.write_defs(&mut out);
     for group in &scene.groups {
-        write_group(&mut out, group, 1);
+        write_group(&mut out, group, 1, &patterns);
     }
     out.push_str("</g>\n</svg>\n");
     out
+}
+
+/// Side of the square tile a hatch pattern repeats, in CSS pixels.
+const HATCH_TILE: f64 = 8.0;
+/// Opacity of the wash of the mark's colour under its hatching, so that a hatched mark keeps
+/// its colour and its outline against the background (markwell's own choice, no source).
+const HATCH_WASH_OPACITY: f64 = 0.35;
+
+/// The fill patterns a scene uses: one `<pattern>` per distinct (hatch, colour), ids in the
+/// order they first appear so that the same scene always gives the same text.
+struct Patterns {
+    ids: HashMap<(Hatch, String), String>,
+    order: Vec<(Hatch, String)>,
+}
+
+impl Patterns {
+    fn of(scene: &Scene) -> Patterns {
+        let mut patterns = Patterns {
+            ids: HashMap::new(),
+            order: Vec::new(),
+        };
+        let mut stack: Vec<&Group> = scene.groups.iter().rev().collect();
+        while let Some(group) = stack.pop() {
+            for child in group.children.iter().rev() {
+                match child {
+                    Node::Group(inner) => stack.push(inner),
+                    Node::Primitive(primitive) => patterns.add(&primitive.paint),
+                }
+            }
+        }
+        patterns
+    }
+
+    fn add(&mut self, paint: &Paint) {
+        let (Some(hatch), Some(fill)) = (paint.hatch, &paint.fill) else {
+            return;
+        };
+        if hatch == Hatch::Solid {
+            return;
+        }
+        let key = (hatch, fill.clone());
+        if self.ids.contains_key(&key) {
+            return;
+        }
+        // ids are made of the pattern's name, its colour's letters and digits, and its place
+        // (two colours that differ only in other characters still get distinct ids)
+        let colour: String = fill
+            .chars()
+            .filter(char::is_ascii_alphanumeric)
+            .take(16)
+            .collect();
+        let id = format!("mw-{}-{}-{}", hatch.name(), colour, self.order.len() + 1);
+        self.ids.insert(key.clone(), id);
+        self.order.push(key);
+    }
+
+    /// The id of the pattern for this paint, when it has one.
+    fn id(&self, paint: &Paint) -> Option<&str> {
+        let hatch = paint.hatch?;
+        let fill = paint.fill.as_ref()?;
+        self.ids.get(&(hatch, fill.clone())).map(String::as_str)
+    }
+
+    fn write_defs(&self, out: &mut String) {
+        if self.order.is_empty() {
+            return;
+        }
+        out.push_str("<defs>\n");
+        for key in &self.order {
+            let Some(id) = self.ids.get(key) else {
+                continue;
+            };
+            let (hatch, fill) = key;
+            let colour = escape(fill);
+            let tile = number(HATCH_TILE);
+            let _ = writeln!(
+                out,
+                " <pattern id=\"{id}\" patternUnits=\"userSpaceOnUse\" width=\"{tile}\" height=\"{tile}\">"
+            );
+            let _ = writeln!(
+                out,
+                "  <rect x=\"0\" y=\"0\" width=\"{tile}\" height=\"{tile}\" fill=\"{colour}\" fill-opacity=\"{}\"/>",
+                number(HATCH_WASH_OPACITY)
+            );
+            for element in hatch_elements(*hatch) {
+                let _ = writeln!(out, "  {element} fill=\"{colour}\" stroke=\"{colour}\"/>");
+            }
+            out.push_str(" </pattern>\n");
+        }
+        out.push_str("</defs>\n");
+    }
+}
+
+/// The lines and dots of one tile of a hatch (without their closing `/>` and paint). Diagonal
+/// lines run past the tile's corners so that neighbouring tiles join without gaps.
+fn hatch_elements(hatch: Hatch) -> Vec<String> {
+    let t = HATCH_TILE;
+    let h = t / 2.0;
+    let line = |x1: f64, y1: f64, x2: f64, y2: f64, width: f64| {
+        format!(
+            "<line x1=\"{}\" y1=\"{}\" x2=\"{}\" y2=\"{}\" stroke-width=\"{}\"",
+            number(x1),
+            number(y1),
+            number(x2),
+            number(y2),
+            number(width)
+        )
+    };
+    let rising = || {
+        vec![
+            line(-1.0, t + 1.0, t + 1.0, -1.0, 1.4),
+            line(-1.0, 1.0, 1.0, -1.0, 1.4),
+            line(t - 1.0, t + 1.0, t + 1.0, t - 1.0, 1.4),
+        ]
+    };
+    let falling = || {
+        vec![
+            line(-1.0, -1.0, t + 1.0, t + 1.0, 1.4),
+            line(-1.0, t - 1.0, 1.0, t + 1.0, 1.4),
+            line(t - 1.0, -1.0, t + 1.0, 1.0, 1.4),
+        ]
+    };
+    match hatch {
+        Hatch::Solid => Vec::new(),
+        Hatch::Rising => rising(),
+        Hatch::Falling => falling(),
+        Hatch::Crossed => {
+            let mut both = rising();
+            both.extend(falling());
+            both
+        }
+        Hatch::Horizontal => vec![line(0.0, h, t, h, 2.0)],
+        Hatch::Vertical => vec![line(h, 0.0, h, t, 2.0)],
+        Hatch::Dotted => [(t / 4.0, t / 4.0), (3.0 * t / 4.0, 3.0 * t / 4.0)]
+            .iter()
+            .map(|(x, y)| {
+                format!(
+                    "<circle cx=\"{}\" cy=\"{}\" r=\"1.4\" stroke-width=\"0\"",
+                    number(*x),
+                    number(*y)
+                )
+            })
+            .collect(),
+        Hatch::Grid => vec![line(0.0, h, t, h, 1.0), line(h, 0.0, h, t, 1.0)],
+    }
 }
 
 fn role_class(role: Role) -> String {
@@ -65,7 +214,7 @@ fn role_class(role: Role) -> String {
     class.to_string()
 }
 
-fn write_group(out: &mut String, group: &Group, depth: usize) {
+fn write_group(out: &mut String, group: &Group, depth: usize, patterns: &Patterns) {
     if group.children.is_empty() {
         return;
     }
@@ -81,8 +230,8 @@ fn write_group(out: &mut String, group: &Group, depth: usize) {
     out.push_str(">\n");
     for child in &group.children {
         match child {
-            Node::Group(inner) => write_group(out, inner, depth + 1),
-            Node::Primitive(primitive) => write_primitive(out, primitive, depth + 1),
+            Node::Group(inner) => write_group(out, inner, depth + 1, patterns),
+            Node::Primitive(primitive) => write_primitive(out, primitive, depth + 1, patterns),
         }
     }
     indent(out, depth);
@@ -95,7 +244,7 @@ fn indent(out: &mut String, depth: usize) {
     }
 }
 
-fn write_primitive(out: &mut String, primitive: &Primitive, depth: usize) {
+fn write_primitive(out: &mut String, primitive: &Primitive, depth: usize, patterns: &Patterns) {
     indent(out, depth);
     let aria = primitive
         .label
@@ -184,15 +333,22 @@ fn write_primitive(out: &mut String, primitive: &Primitive, depth: usize) {
             return;
         }
     }
-    write_paint(out, &primitive.paint);
+    write_paint(out, &primitive.paint, patterns.id(&primitive.paint));
     out.push_str(&aria);
     out.push_str("/>\n");
 }
 
-fn write_paint(out: &mut String, paint: &Paint) {
+fn write_paint(out: &mut String, paint: &Paint, pattern: Option<&str>) {
     match &paint.fill {
         Some(fill) => {
-            let _ = write!(out, " fill=\"{}\"", escape(fill));
+            match pattern {
+                Some(id) => {
+                    let _ = write!(out, " fill=\"url(#{id})\"");
+                }
+                None => {
+                    let _ = write!(out, " fill=\"{}\"", escape(fill));
+                }
+            }
             if paint.fill_opacity < 1.0 {
                 let _ = write!(out, " fill-opacity=\"{}\"", number(paint.fill_opacity));
             }

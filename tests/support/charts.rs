@@ -588,6 +588,106 @@ pub fn density_two_panels() -> EvaluatedChart {
     chart
 }
 
+/// Pears picked per orchard, each bar hatched by the orchard's soil (texture).
+pub fn orchard_soils() -> EvaluatedChart {
+    let orchards = [
+        "Hollow Lane",
+        "Bramley Hill",
+        "Weir Field",
+        "Long Acre",
+        "Kiln Close",
+    ];
+    let soils = ["loam", "clay", "sand", "chalk"];
+    let picked = [820.0, 640.0, 455.5, 910.0, 300.0];
+    let soil_of = [0, 1, 2, 3, 1];
+    let mut y = channel(
+        Channel::Y,
+        "pears picked (crates)",
+        AttributeKind::Quantitative,
+        numeric(&picked),
+    );
+    y.from_zero = true;
+    let marks = orchards
+        .iter()
+        .zip(picked)
+        .zip(soil_of)
+        .map(|((orchard, value), soil)| {
+            mark(vec![text(orchard), Datum::Number(value), text(soils[soil])])
+        })
+        .collect();
+    chart(
+        "Pears picked per orchard, by soil",
+        vec![layer(
+            Mark::Bar,
+            vec![
+                channel(
+                    Channel::X,
+                    "orchard",
+                    AttributeKind::Categorical,
+                    categories(&orchards),
+                ),
+                y,
+                channel(
+                    Channel::Texture,
+                    "soil",
+                    AttributeKind::Categorical,
+                    categories(&soils),
+                ),
+            ],
+            marks,
+        )],
+    )
+}
+
+/// Wave height by hour at a lighthouse, each point a stroke tilted by the wind speed; the
+/// last reading has no wind speed.
+pub fn lighthouse_wind() -> EvaluatedChart {
+    let mut marks = Vec::new();
+    for hour in 0..24 {
+        let t = hour as f64;
+        let wave = 0.6 + 0.08 * t + (t / 3.0).sin() * 0.4;
+        let wind = if hour == 23 {
+            Datum::Missing
+        } else {
+            Datum::Number(4.0 + (t * 1.7) % 32.0)
+        };
+        marks.push(mark(vec![Datum::Number(t), Datum::Number(wave), wind]));
+    }
+    chart(
+        "Waves and wind at the point",
+        vec![layer(
+            Mark::Point,
+            vec![
+                channel(
+                    Channel::X,
+                    "hour",
+                    AttributeKind::Quantitative,
+                    Domain::Numeric {
+                        min: 0.0,
+                        max: 23.0,
+                    },
+                ),
+                channel(
+                    Channel::Y,
+                    "wave height (m)",
+                    AttributeKind::Quantitative,
+                    Domain::Numeric { min: 0.0, max: 3.0 },
+                ),
+                channel(
+                    Channel::Tilt,
+                    "wind (knots)",
+                    AttributeKind::Quantitative,
+                    Domain::Numeric {
+                        min: 4.0,
+                        max: 36.0,
+                    },
+                ),
+            ],
+            marks,
+        )],
+    )
+}
+
 /// Every hand-built chart, named.
 pub fn all_charts() -> Vec<(&'static str, EvaluatedChart)> {
     vec![
@@ -604,6 +704,8 @@ pub fn all_charts() -> Vec<(&'static str, EvaluatedChart)> {
         ("river-log", river_log()),
         ("density-scatter", density_scatter(120, 80, 50_000)),
         ("density-two-panels", density_two_panels()),
+        ("orchard-soils", orchard_soils()),
+        ("lighthouse-wind", lighthouse_wind()),
     ]
 }
 

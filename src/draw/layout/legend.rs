@@ -1,9 +1,12 @@
-//! Legends for colour (categories and ramps), size and shape channels, and for a density grid,
+//! Legends for colour (categories and ramps), size, shape, texture and tilt channels, and for a
+//! density grid,
 //! and their arrangement inside the frame (`plan_legends`): one column at the right, more
 //! columns, rows below the plots, and as a last resort fewer entries; what is left out is said
 //! in a note.
 
+use super::texture::{texture_legend, tilt_legend, tilted_stroke, DASHES, HATCHES};
 use super::*;
+use crate::knowledge::perceived::mark_shows;
 
 // ---------------------------------------------------------------------------------------------
 // Legends
@@ -25,6 +28,9 @@ pub(super) struct LegendSpec {
 }
 
 const SWATCH: f64 = 11.0;
+/// The length of the stroke that shows a dash pattern in a legend: long enough for two
+/// repeats of the longest pattern at the legend's stroke width.
+const DASH_KEY_LENGTH: f64 = 24.0;
 /// Entries one legend lists at most; past it the last says how many more there are.
 pub const MAX_LEGEND_ENTRIES: usize = 16;
 const LEGEND_ROW: f64 = 17.0;
@@ -62,6 +68,7 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
                             colour: Some(colour.clone()),
                             symbol: None,
                             radius: SWATCH / 2.0,
+                            glyph: None,
                         })
                         .collect(),
                     ColourScale::Ramp { low, high, .. } => legend_values(*low, *high)
@@ -71,6 +78,7 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
                             colour: Some(scale.ramp_at(value).to_hex()),
                             symbol: None,
                             radius: SWATCH / 2.0,
+                            glyph: None,
                         })
                         .collect(),
                 }
@@ -90,6 +98,38 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
                         colour: None,
                         symbol: Some(Symbol::Circle),
                         radius: symbol_radius(value, reach),
+                        glyph: None,
+                    })
+                    .collect()
+            } else if info.channel == Channel::Texture && mark_shows(layer.mark, Channel::Texture) {
+                let strokes = matches!(layer.mark, Mark::Line | Mark::Segment);
+                texture_legend(info)
+                    .into_iter()
+                    .map(|(label, index)| LegendEntry {
+                        label: shorten_label(&label),
+                        colour: None,
+                        symbol: None,
+                        radius: SWATCH / 2.0,
+                        glyph: Some(if strokes {
+                            LegendGlyph::Dash(index)
+                        } else {
+                            LegendGlyph::Hatch(HATCHES[index % HATCHES.len()])
+                        }),
+                    })
+                    .collect()
+            } else if info.channel == Channel::Tilt && mark_shows(layer.mark, Channel::Tilt) {
+                let samples = match info.domain {
+                    Domain::Numeric { min, max } => legend_values(min, max),
+                    _ => Vec::new(),
+                };
+                tilt_legend(info, samples)
+                    .into_iter()
+                    .map(|(label, degrees)| LegendEntry {
+                        label: shorten_label(&label),
+                        colour: None,
+                        symbol: None,
+                        radius: SWATCH / 2.0,
+                        glyph: Some(LegendGlyph::Tilt(degrees)),
                     })
                     .collect()
             } else if info.channel == Channel::Shape {
@@ -104,6 +144,7 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
                         colour: None,
                         symbol: Some(SYMBOLS[index % SYMBOLS.len()]),
                         radius: DEFAULT_POINT_RADIUS + 1.0,
+                        glyph: None,
                     })
                     .collect()
             } else {
@@ -161,6 +202,7 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
                     colour: Some(ramp_colour(0.15 + 0.85 * t).to_hex()),
                     symbol: None,
                     radius: SWATCH / 2.0,
+                    glyph: None,
                 });
             }
             if !seen.contains(&max) {
@@ -169,6 +211,7 @@ pub(super) fn legend_channels(chart: &EvaluatedChart, background: Srgb8) -> Vec<
                     colour: Some(ramp_colour(1.0).to_hex()),
                     symbol: None,
                     radius: SWATCH / 2.0,
+                    glyph: None,
                 });
             }
             specs.push(
@@ -220,6 +263,7 @@ impl LegendSpec {
                 colour: None,
                 symbol: None,
                 radius: SWATCH / 2.0,
+                glyph: None,
             });
         }
         lines
@@ -232,7 +276,10 @@ impl LegendSpec {
     fn mark_room(&self) -> f64 {
         self.entries
             .iter()
-            .map(|entry| entry.radius * 2.0)
+            .map(|entry| match entry.glyph {
+                Some(LegendGlyph::Dash(_)) => DASH_KEY_LENGTH,
+                _ => entry.radius * 2.0,
+            })
             .fold(SWATCH, f64::max)
     }
 
@@ -555,6 +602,52 @@ fn plan_some_legends(specs: &[LegendSpec], room: &LegendRoom) -> LegendPlan {
     plan
 }
 
+/// The key of a texture or tilt legend entry, centred on `centre`.
+fn glyph_key(glyph: &LegendGlyph, centre: Point) -> Node {
+    match glyph {
+        LegendGlyph::Hatch(hatch) => {
+            let mut paint = Paint::fill(MUTED_INK);
+            paint.hatch = Some(*hatch);
+            paint.stroke = Some(MUTED_INK.to_string());
+            paint.stroke_width = 0.8;
+            plain(
+                Shape::Rect(BoxRect {
+                    x: centre.x - SWATCH / 2.0,
+                    y: centre.y - SWATCH / 2.0,
+                    width: SWATCH,
+                    height: SWATCH,
+                }),
+                paint,
+            )
+        }
+        LegendGlyph::Dash(index) => {
+            let width = 2.0;
+            let mut paint = Paint::stroke(INK, width);
+            paint.dash = DASHES[index % DASHES.len()]
+                .iter()
+                .map(|length| length * width)
+                .collect();
+            plain(
+                Shape::Line {
+                    from: Point {
+                        x: centre.x - DASH_KEY_LENGTH / 2.0,
+                        y: centre.y,
+                    },
+                    to: Point {
+                        x: centre.x + DASH_KEY_LENGTH / 2.0,
+                        y: centre.y,
+                    },
+                },
+                paint,
+            )
+        }
+        LegendGlyph::Tilt(degrees) => {
+            let (from, to) = tilted_stroke(centre, SWATCH * 0.6, *degrees);
+            plain(Shape::Line { from, to }, Paint::stroke(INK, 2.0))
+        }
+    }
+}
+
 pub(super) fn legend_group(placed: PlacedLegend, origin: Point) -> (Group, LegendLayout) {
     let spec = placed.spec;
     let x = origin.x + placed.offset.x;
@@ -587,33 +680,37 @@ pub(super) fn legend_group(placed: PlacedLegend, origin: Point) -> (Group, Legen
                 x: column_x + mark_room / 2.0,
                 y: y + row / 2.0,
             };
-            match (entry.symbol, &entry.colour) {
-                (None, Some(colour)) => children.push(plain(
-                    Shape::Rect(BoxRect {
-                        x: centre.x - SWATCH / 2.0,
-                        y: centre.y - SWATCH / 2.0,
-                        width: SWATCH,
-                        height: SWATCH,
-                    }),
-                    Paint::fill(colour),
-                )),
-                (Some(symbol), _) => {
-                    let paint = Paint::stroke(INK, 1.0);
-                    let shape = if symbol == Symbol::Circle {
-                        Shape::Circle {
-                            centre,
-                            radius: entry.radius,
-                        }
-                    } else {
-                        Shape::Symbol {
-                            symbol,
-                            centre,
-                            radius: entry.radius,
-                        }
-                    };
-                    children.push(plain(shape, paint));
+            if let Some(glyph) = &entry.glyph {
+                children.push(glyph_key(glyph, centre));
+            } else {
+                match (entry.symbol, &entry.colour) {
+                    (None, Some(colour)) => children.push(plain(
+                        Shape::Rect(BoxRect {
+                            x: centre.x - SWATCH / 2.0,
+                            y: centre.y - SWATCH / 2.0,
+                            width: SWATCH,
+                            height: SWATCH,
+                        }),
+                        Paint::fill(colour),
+                    )),
+                    (Some(symbol), _) => {
+                        let paint = Paint::stroke(INK, 1.0);
+                        let shape = if symbol == Symbol::Circle {
+                            Shape::Circle {
+                                centre,
+                                radius: entry.radius,
+                            }
+                        } else {
+                            Shape::Symbol {
+                                symbol,
+                                centre,
+                                radius: entry.radius,
+                            }
+                        };
+                        children.push(plain(shape, paint));
+                    }
+                    (None, None) => {}
                 }
-                (None, None) => {}
             }
             children.push(text_node(text_item(
                 Point {

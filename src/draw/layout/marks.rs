@@ -1,8 +1,10 @@
 //! The marks of a layer: bars, segments, lines, areas, points, labels, cells, wedges and the
 //! density image, placed by the chart's scales.
 
+use super::texture::{texture_index, tilt_degrees, tilted_stroke, DASHES, HATCHES};
 use super::*;
 use crate::eval::density::{from_grid_units, to_grid_units};
+use crate::knowledge::perceived::mark_shows;
 
 // ---------------------------------------------------------------------------------------------
 // Marks
@@ -45,6 +47,32 @@ pub(super) fn layer_group(
         Domain::Categories(categories) => Some(categories.clone()),
         _ => None,
     });
+    // texture and tilt, on the marks that show them (the `channel-not-on-mark` rule and a
+    // scene note name the others)
+    let shown_index = |channel: Channel| {
+        layer
+            .channel_index(channel)
+            .filter(|_| mark_shows(layer.mark, channel))
+    };
+    let texture_at = shown_index(Channel::Texture);
+    let texture_of = |mark: &DrawnMark| -> Option<usize> {
+        let index = texture_at?;
+        texture_index(&layer.channels[index], mark.values.get(index)?)
+    };
+    let hatch_of = |mark: &DrawnMark| texture_of(mark).map(|index| HATCHES[index % HATCHES.len()]);
+    let dash_of = |mark: &DrawnMark, width: f64| -> Vec<f64> {
+        texture_of(mark).map_or_else(Vec::new, |index| {
+            DASHES[index % DASHES.len()]
+                .iter()
+                .map(|length| length * width)
+                .collect()
+        })
+    };
+    let tilt_at = shown_index(Channel::Tilt);
+    let tilt_of = |mark: &DrawnMark| -> Option<f64> {
+        let index = tilt_at?;
+        tilt_degrees(&layer.channels[index], mark.values.get(index)?)
+    };
     let label_index = layer.channel_index(Channel::Label);
     let angle_index = layer.channel_index(Channel::Angle);
     let x_index = layer.channel_index(Channel::X);
@@ -186,6 +214,7 @@ pub(super) fn layer_group(
                 let mut paint = Paint::fill(&colour_of(mark));
                 paint.stroke = Some(chart_background_hex(background));
                 paint.stroke_width = 1.0;
+                paint.hatch = hatch_of(mark);
                 children.push(Node::Primitive(Primitive {
                     shape: Shape::Wedge {
                         centre,
@@ -242,7 +271,9 @@ pub(super) fn layer_group(
                 };
                 let colour = colour_of(mark);
                 let (shape, paint) = if layer.mark == Mark::Bar {
-                    (Shape::Rect(rect), Paint::fill(&colour))
+                    let mut paint = Paint::fill(&colour);
+                    paint.hatch = hatch_of(mark);
+                    (Shape::Rect(rect), paint)
                 } else {
                     let (from, to) = if rect.width <= rect.height {
                         let x = rect.x + rect.width / 2.0;
@@ -257,7 +288,9 @@ pub(super) fn layer_group(
                         let y = rect.y + rect.height / 2.0;
                         (Point { x: rect.x, y }, Point { x: rect.right(), y })
                     };
-                    (Shape::Line { from, to }, Paint::stroke(&colour, 1.5))
+                    let mut paint = Paint::stroke(&colour, 1.5);
+                    paint.dash = dash_of(mark, 1.5);
+                    (Shape::Line { from, to }, paint)
                 };
                 children.push(Node::Primitive(Primitive {
                     shape,
@@ -341,6 +374,7 @@ pub(super) fn layer_group(
                 if layer.mark == Mark::Line {
                     let mut paint = Paint::stroke(&colour, 2.0);
                     paint.fill = None;
+                    paint.dash = dash_of(mark, 2.0);
                     children.push(Node::Primitive(Primitive {
                         shape: Shape::Polyline {
                             points: top,
@@ -373,6 +407,7 @@ pub(super) fn layer_group(
                         });
                     }
                     let mut paint = Paint::fill(&colour);
+                    paint.hatch = hatch_of(mark);
                     paint.fill_opacity = if layer.arrange == Some(Arrange::Overlap) {
                         0.55
                     } else {
@@ -435,7 +470,8 @@ pub(super) fn layer_group(
                             content: &shorten_label(&content),
                             size: MARK_LABEL_SIZE,
                             anchor: Anchor::Middle,
-                            rotation: 0.0,
+                            // clockwise on screen: the tilt turns counter-clockwise
+                            rotation: tilt_of(mark).map_or(0.0, |degrees| -degrees),
                             colour: &colour,
                         },
                     );
@@ -487,6 +523,18 @@ pub(super) fn layer_group(
                 if matches!(symbol, Symbol::Plus | Symbol::Cross) {
                     paint = Paint::stroke(&colour, 1.6);
                 }
+                // a tilted point is a short stroke through its centre
+                let (shape, paint) = match tilt_of(mark) {
+                    Some(degrees) => {
+                        let (from, to) = tilted_stroke(centre, radius * 1.6, degrees);
+                        (Shape::Line { from, to }, Paint::stroke(&colour, 2.0))
+                    }
+                    None if tilt_at.is_some() => {
+                        skipped += 1;
+                        continue;
+                    }
+                    None => (shape, paint),
+                };
                 children.push(Node::Primitive(Primitive {
                     shape,
                     paint,
@@ -525,7 +573,10 @@ pub(super) fn layer_group(
                     .and_then(Datum::as_f64);
                 children.push(Node::Primitive(Primitive {
                     shape: Shape::Rect(rect),
-                    paint: Paint::fill(&colour_of(mark)),
+                    paint: Paint {
+                        hatch: hatch_of(mark),
+                        ..Paint::fill(&colour_of(mark))
+                    },
                     label: describe(mark, value),
                     mark: Some(MarkRef {
                         layer: layer_index,
@@ -602,7 +653,7 @@ fn note_skipped(notes: &mut Vec<String>, layer: &EvaluatedLayer, skipped: u64) {
     }
 }
 
-fn datum_text(datum: &Datum) -> Option<String> {
+pub(super) fn datum_text(datum: &Datum) -> Option<String> {
     match datum {
         Datum::Missing => None,
         Datum::Number(value) => Some(format_number(*value)),

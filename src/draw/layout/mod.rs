@@ -10,6 +10,7 @@
 
 mod legend;
 mod marks;
+pub mod texture;
 
 use legend::{
     legend_channels, legend_group, plan_legends, LegendRoom, LegendSide, LEGEND_GAP_ACROSS,
@@ -146,6 +147,9 @@ pub struct Paint {
     pub stroke_width: f64,
     /// Dash and gap lengths, empty for a solid stroke.
     pub dash: Vec<f64>,
+    /// A fill pattern of the `texture` channel, drawn in the `fill` colour (`None` and
+    /// [`texture::Hatch::Solid`]: the plain fill).
+    pub hatch: Option<texture::Hatch>,
 }
 
 impl Paint {
@@ -156,6 +160,7 @@ impl Paint {
             stroke: None,
             stroke_width: 0.0,
             dash: Vec::new(),
+            hatch: None,
         }
     }
 
@@ -166,6 +171,7 @@ impl Paint {
             stroke: Some(colour.to_string()),
             stroke_width: width,
             dash: Vec::new(),
+            hatch: None,
         }
     }
 }
@@ -269,6 +275,10 @@ pub struct Group {
     pub children: Vec<Node>,
 }
 
+// Nearly every node of a scene is a primitive (the marks, ticks and labels; groups are a few
+// per layer, axis and legend), so boxing the larger variant would add an allocation per mark
+// and save nothing.
+#[allow(clippy::large_enum_variant)]
 #[derive(Clone, Debug, PartialEq)]
 pub enum Node {
     Primitive(Primitive),
@@ -321,6 +331,19 @@ pub struct LegendEntry {
     pub colour: Option<String>,
     pub symbol: Option<Symbol>,
     pub radius: f64,
+    /// The key of a `texture` or `tilt` legend, drawn instead of a swatch or symbol.
+    pub glyph: Option<LegendGlyph>,
+}
+
+/// The key of a `texture` or `tilt` legend entry.
+#[derive(Clone, Debug, PartialEq)]
+pub enum LegendGlyph {
+    /// A swatch filled with this pattern.
+    Hatch(texture::Hatch),
+    /// A short stroke with this dash pattern (the index into [`texture::DASHES`]).
+    Dash(usize),
+    /// A short stroke at this many degrees counter-clockwise from horizontal.
+    Tilt(f64),
 }
 
 #[derive(Clone, Debug, PartialEq)]
@@ -1635,10 +1658,13 @@ pub fn layout(chart: &EvaluatedChart) -> Scene {
 
     for layer in &chart.layers {
         for info in &layer.channels {
-            if matches!(info.channel, Channel::Tilt | Channel::Texture) {
+            if matches!(info.channel, Channel::Tilt | Channel::Texture)
+                && !crate::knowledge::perceived::mark_shows(layer.mark, info.channel)
+            {
                 notes.push(format!(
-                    "layer {}: the `{}` channel is not drawn yet",
+                    "layer {}: {} marks do not show the `{}` channel, so it is not drawn",
                     layer.index + 1,
+                    layer.mark.as_str(),
                     info.channel.as_str()
                 ));
             }
