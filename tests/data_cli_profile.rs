@@ -209,15 +209,23 @@ fn profiles_with_odd_names_print_as_before() {
             .position(|line| line.starts_with("column "))
             .unwrap_or_else(|| panic!("{stdout}"));
         let kind_at = lines[heading].find("kind").unwrap_or_default();
-        let kind_at = lines[heading][..kind_at].chars().count();
+        // in terminal columns: wide characters take two (Unicode Standard Annex #11)
+        let width = markwell::data::render::terminal_width;
+        let kind_at = width(&lines[heading][..kind_at]);
         for row in lines[heading + 2..]
             .iter()
             .take_while(|line| !line.is_empty())
         {
-            let cell: String = row.chars().skip(kind_at).take(4).collect();
+            let split = row
+                .char_indices()
+                .map(|(index, _)| index)
+                .find(|index| width(&row[..*index]) >= kind_at)
+                .unwrap_or(row.len());
+            let cell: String = row[split..].chars().take(4).collect();
             assert!(
-                ["quan", "cate", "time", "orde"].contains(&cell.as_str())
-                    && row.chars().nth(kind_at.saturating_sub(1)) == Some(' '),
+                width(&row[..split]) == kind_at
+                    && ["quan", "cate", "time", "orde"].contains(&cell.as_str())
+                    && row[..split].ends_with(' '),
                 "{extension}: row out of line: {row}"
             );
         }
@@ -275,4 +283,45 @@ fn json_of_files_that_cannot_be_profiled() {
     assert_eq!(profiles[0], profiles[1]);
     assert_eq!(profiles[0]["rows"], 2);
     assert!(stderr.contains("missing-bakery.csv") && stderr.contains("missing-ferry.csv"));
+}
+
+/// Wide characters (CJK, emoji) take two terminal columns and combining marks none (Unicode
+/// Standard Annex #11): the table lines up by what a terminal shows, not by characters.
+#[test]
+fn the_table_lines_up_names_with_wide_and_combining_characters() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("stalls.csv");
+    std::fs::write(
+        &path,
+        "🍎 apples,梨の木,Cafe\u{301} crêpe,plain\n3,pear,fig,x\n4,plum,fig,y\n",
+    )
+    .unwrap();
+    let (code, stdout, stderr) = markwell(&["profile", &path.to_string_lossy()]);
+    assert_eq!(code, 0, "{stderr}");
+    let width = |text: &str| markwell::data::render::terminal_width(text);
+    assert_eq!(width("🍎"), 2);
+    assert_eq!(width("e\u{301}"), 1);
+    // the second cell of the heading and of each row starts at the same terminal column
+    let lines: Vec<&str> = stdout
+        .lines()
+        .skip_while(|line| !line.starts_with("column"))
+        .filter(|line| !line.starts_with('-'))
+        .take(5)
+        .collect();
+    assert_eq!(lines.len(), 5, "{stdout}");
+    let kind_at: Vec<usize> = lines
+        .iter()
+        .map(|line| {
+            let at = line
+                .find("kind")
+                .or_else(|| line.find("categorical"))
+                .or_else(|| line.find("quantitative"))
+                .unwrap_or_else(|| panic!("{line}"));
+            width(&line[..at])
+        })
+        .collect();
+    assert!(
+        kind_at.windows(2).all(|pair| pair[0] == pair[1]),
+        "{kind_at:?}\n{stdout}"
+    );
 }

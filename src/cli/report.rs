@@ -13,6 +13,7 @@ use std::io::{self, Write};
 
 use crate::analysis::facts::{layer_facts, KindOrigin};
 use crate::analysis::rules::SYNTAX_ERROR;
+use crate::data::render::terminal_width;
 use crate::data::DataContext;
 use crate::diagnostic::{Diagnostic, Fix, FixKind, RelatedTarget, Severity};
 use crate::spec::model::{ChartSpec, Source, SourceLocation};
@@ -491,12 +492,12 @@ fn write_header(
         let column_width = layer
             .channels
             .iter()
-            .map(|channel| printable(&channel.column).chars().count())
+            .map(|channel| terminal_width(&printable(&channel.column)))
             .max()
             .unwrap_or(0);
         for channel in &layer.channels {
             let column = printable(&channel.column);
-            let pad = column_width.saturating_sub(column.chars().count());
+            let pad = column_width.saturating_sub(terminal_width(&column));
             writeln!(
                 out,
                 "    {:channel_width$} ← {column}{}  {}",

@@ -43,13 +43,30 @@ fn format_distinct(distinct: &DistinctCount) -> String {
     }
 }
 
+/// The columns `text` takes in a terminal: East Asian wide characters and emoji take two,
+/// combining marks none (Unicode Standard Annex #11, as the `unicode-width` crate implements
+/// it). Tables are aligned by this width, not by the count of characters.
+pub fn terminal_width(text: &str) -> usize {
+    unicode_width::UnicodeWidthStr::width(text)
+}
+
+/// `text` cut to at most `limit` terminal columns, with `…` (one column) at the cut.
 fn shorten(text: &str, limit: usize) -> String {
-    if text.chars().count() <= limit {
-        text.to_string()
-    } else {
-        let kept: String = text.chars().take(limit.saturating_sub(1)).collect();
-        format!("{kept}…")
+    if terminal_width(text) <= limit {
+        return text.to_string();
     }
+    let room = limit.saturating_sub(1);
+    let mut kept = String::new();
+    let mut width = 0;
+    for character in text.chars() {
+        let next = unicode_width::UnicodeWidthChar::width(character).unwrap_or(0);
+        if width + next > room {
+            break;
+        }
+        width += next;
+        kept.push(character);
+    }
+    format!("{kept}…")
 }
 
 fn summary_cell(column: &ColumnProfile) -> String {
@@ -186,7 +203,7 @@ fn table_cells_raw(column: &ColumnProfile) -> [String; 8] {
 fn table_line(cells: &[&str], widths: &[usize]) -> String {
     let mut text = String::new();
     for (index, (cell, width)) in cells.iter().zip(widths.iter()).enumerate() {
-        let padding = width.saturating_sub(cell.chars().count());
+        let padding = width.saturating_sub(terminal_width(cell));
         let right_aligned = (2..=4).contains(&index);
         if right_aligned {
             text.push_str(&" ".repeat(padding));
@@ -213,11 +230,11 @@ fn table_line(cells: &[&str], widths: &[usize]) -> String {
 pub fn write_profile_text(profile: &DataProfile, out: &mut dyn Write) -> io::Result<()> {
     let mut widths: Vec<usize> = TABLE_HEADINGS
         .iter()
-        .map(|heading| heading.chars().count())
+        .map(|heading| terminal_width(heading))
         .collect();
     for column in &profile.columns {
         for (width, cell) in widths.iter_mut().zip(table_cells(column).iter()) {
-            *width = (*width).max(cell.chars().count());
+            *width = (*width).max(terminal_width(cell));
         }
     }
     let source = profile.path.as_ref().map_or_else(
