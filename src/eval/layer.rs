@@ -536,19 +536,13 @@ pub(super) fn evaluate_layer(
     let spec = state.spec;
     let number = layer.index;
     let Some(mark) = layer.mark.as_ref().map(|mark| mark.value) else {
-        state.note(
-            Some(number),
-            format!("layer {} has no `mark`, so it is not drawn", number + 1),
-        );
+        state.note(Some(number), "no `mark`, so it is not drawn".to_string());
         return None;
     };
     let Some(source) = spec.source_for_layer(layer) else {
         state.note(
             Some(number),
-            format!(
-                "layer {} has no `source`, so there are no rows to draw",
-                number + 1
-            ),
+            "no `source`, so there are no rows to draw".to_string(),
         );
         return None;
     };
@@ -607,10 +601,7 @@ pub(super) fn evaluate_layer(
                 None => {
                     state.note(
                         Some(number),
-                        format!(
-                            "layer {} binds `{column}`, which the data does not have, so it is not drawn",
-                            number + 1
-                        ),
+                        format!("`{column}` is not a column of its data, so it is not drawn"),
                     );
                     return None;
                 }
@@ -625,8 +616,7 @@ pub(super) fn evaluate_layer(
                 state.note(
                     Some(number),
                     format!(
-                        "the panels are by `{column}`, which the data of layer {} does not have, so it is not drawn",
-                        number + 1
+                        "the panels are by `{column}`, which is not a column of its data, so it is not drawn"
                     ),
                 );
                 return None;
@@ -636,10 +626,7 @@ pub(super) fn evaluate_layer(
     if bound.is_empty() {
         state.note(
             Some(number),
-            format!(
-                "layer {} binds no column it can draw, so it is not drawn",
-                number + 1
-            ),
+            "no column it can draw is bound, so it is not drawn".to_string(),
         );
         return None;
     }
@@ -828,18 +815,14 @@ fn read_error(state: &mut ChartState<'_>, layer: usize, error: &crate::data::Dat
         state.note(
             Some(layer),
             format!(
-                "{error}, so layer {} is not drawn; `evaluate-seconds` under `[data]` in markwell.toml (or `--evaluate-seconds`) raises the budget",
-                layer + 1
+                "{error}, so it is not drawn; `evaluate-seconds` under `[data]` in markwell.toml (or `--evaluate-seconds`) raises the budget"
             ),
         );
         return;
     }
     state.note(
         Some(layer),
-        format!(
-            "the data of layer {} could not be read ({error}), so it is not drawn",
-            layer + 1
-        ),
+        format!("its data could not be read ({error}), so it is not drawn"),
     );
 }
 
@@ -1113,8 +1096,7 @@ fn evaluate_groups(
         state.note(
             Some(number),
             format!(
-                "layer {} has more than {MAX_GROUPS} groups{}; {rows_over_cap} rows of further groups are not drawn",
-                number + 1,
+                "more than {MAX_GROUPS} groups{}; {rows_over_cap} rows of further groups are not drawn",
                 if panel_values_full { " or panels" } else { "" }
             ),
         );
@@ -1267,8 +1249,7 @@ fn evaluate_groups(
                 None => state.note(
                     Some(number),
                     format!(
-                        "layer {} asks to `{}` its marks but has no value axis to stack on",
-                        number + 1,
+                        "`arrange` asks to `{}` its marks but it has no value axis to stack on",
                         arrange.as_str()
                     ),
                 ),
@@ -1590,8 +1571,7 @@ fn evaluate_rows(
             state.note(
                 Some(number),
                 format!(
-                    "layer {} has more than {cap} rows to draw, so its marks are drawn as a density grid (rows per cell){}",
-                    number + 1,
+                    "more than {cap} rows to draw, so its marks are drawn as a density grid (rows per cell){}",
                     if panel_slot.is_some() {
                         ", one per panel on one colour scale"
                     } else {
