@@ -494,7 +494,8 @@ fn the_evaluation_time_budget_stops_a_long_evaluation_with_a_warning() {
     // nothing was drawn: exit 2, as for any spec with nothing to draw
     assert_eq!(run.code, Some(2), "{}", run.stderr);
     assert!(
-        run.stderr.contains("layer 1: evaluating the chart took longer")
+        run.stderr
+            .contains("layer 1: evaluating the chart took longer")
             && run.stderr.contains("so it is not drawn")
             && run.stderr.contains("evaluate-seconds"),
         "{}",

@@ -75,11 +75,34 @@ pub const TEXTURE_NUMBER_STEPS: usize = 5;
 /// category's place in the domain, or a number's step of the domain. `None` when the value has
 /// none (missing, or outside a category domain).
 pub fn texture_index(info: &ChannelInfo, datum: &Datum) -> Option<usize> {
+    match place_of(info, datum)? {
+        Place::Category { place, .. } => Some(place % HATCHES.len()),
+        Place::Along(t) => {
+            let step = (t * TEXTURE_NUMBER_STEPS as f64).floor();
+            Some(step.clamp(0.0, (TEXTURE_NUMBER_STEPS - 1) as f64) as usize)
+        }
+    }
+}
+
+/// Where a drawn value lies in its channel's domain.
+enum Place {
+    /// The `place`-th of `count` categories.
+    Category { place: usize, count: usize },
+    /// A number or time this far along its domain, 0 at the smallest and 1 at the largest
+    /// (0 when the domain is one value).
+    Along(f64),
+}
+
+/// `None` when the value has no place: missing, not finite, or not a category of the domain.
+fn place_of(info: &ChannelInfo, datum: &Datum) -> Option<Place> {
     match &info.domain {
         Domain::Categories(categories) => {
             let key = category_key(datum)?;
             let place = categories.iter().position(|category| *category == key)?;
-            Some(place % HATCHES.len())
+            Some(Place::Category {
+                place,
+                count: categories.len(),
+            })
         }
         Domain::Numeric { min, max } | Domain::Time { min, max } => {
             let value = datum.as_f64()?;
@@ -87,12 +110,12 @@ pub fn texture_index(info: &ChannelInfo, datum: &Datum) -> Option<usize> {
                 return None;
             }
             let span = max - min;
-            let step = if span > 0.0 {
-                ((value - min) / span * TEXTURE_NUMBER_STEPS as f64).floor()
+            let t = if span > 0.0 {
+                ((value - min) / span).clamp(0.0, 1.0)
             } else {
                 0.0
             };
-            Some(step.clamp(0.0, (TEXTURE_NUMBER_STEPS - 1) as f64) as usize)
+            Some(Place::Along(t))
         }
         Domain::Empty => None,
     }
@@ -134,27 +157,10 @@ pub const MAX_TILT: f64 = 90.0;
 /// level; an unordered category one of equal turns around the half circle (a stroke at 180°
 /// is the stroke at 0°). `None` when the value has none.
 pub fn tilt_degrees(info: &ChannelInfo, datum: &Datum) -> Option<f64> {
-    match &info.domain {
-        Domain::Categories(categories) => {
-            let key = category_key(datum)?;
-            let place = categories.iter().position(|category| *category == key)?;
-            Some(category_tilt(info.kind, place, categories.len()))
-        }
-        Domain::Numeric { min, max } | Domain::Time { min, max } => {
-            let value = datum.as_f64()?;
-            if !value.is_finite() {
-                return None;
-            }
-            let span = max - min;
-            let t = if span > 0.0 {
-                ((value - min) / span).clamp(0.0, 1.0)
-            } else {
-                0.5
-            };
-            Some(t * MAX_TILT)
-        }
-        Domain::Empty => None,
-    }
+    Some(match place_of(info, datum)? {
+        Place::Category { place, count } => category_tilt(info.kind, place, count),
+        Place::Along(t) => t * MAX_TILT,
+    })
 }
 
 fn category_tilt(kind: AttributeKind, place: usize, count: usize) -> f64 {
