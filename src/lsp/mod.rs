@@ -16,6 +16,7 @@ pub mod evaluation_cache;
 pub mod features;
 pub mod framing;
 pub mod log;
+mod pages;
 pub mod server;
 pub mod settings;
 pub mod structure;

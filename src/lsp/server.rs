@@ -44,6 +44,7 @@ use crate::lsp::documents::{next_generation, AnalysisOutcome, OpenDocument, Text
 use crate::lsp::evaluation_cache::{sampled_evaluation, CachedEvaluation};
 use crate::lsp::features;
 use crate::lsp::log;
+use crate::lsp::pages;
 use crate::lsp::settings::{merge_settings, parse_editor_settings, EditorSettings};
 use crate::lsp::structure;
 use crate::lsp::workspace::{self, WorkspaceIndex};
@@ -450,9 +451,11 @@ impl Backend {
         };
         let cache = self.state.cache.clone();
         let result = tokio::task::spawn_blocking(move || {
-            catch_unwind(AssertUnwindSafe(|| {
-                analyse_snapshot(&snapshot, &cache, Some(reuse))
-            }))
+            pages::giving_back(|| {
+                catch_unwind(AssertUnwindSafe(|| {
+                    analyse_snapshot(&snapshot, &cache, Some(reuse))
+                }))
+            })
         })
         .await;
         match result {
@@ -589,9 +592,11 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         ANALYSES_RUNNING.fetch_add(1, Ordering::SeqCst);
         let mut task = tokio::task::spawn_blocking(move || {
             let _running = RunningAnalysis;
-            catch_unwind(AssertUnwindSafe(|| {
-                analyse_snapshot(&snapshot, &cache, None)
-            }))
+            pages::giving_back(|| {
+                catch_unwind(AssertUnwindSafe(|| {
+                    analyse_snapshot(&snapshot, &cache, None)
+                }))
+            })
         });
         // wait for the analysis, but let a newer text supersede it: a slow read (a network
         // file system, a huge head) must not hold the document; the abandoned run finishes on
@@ -861,15 +866,17 @@ fn start_exact_evaluation(
         };
         let evaluation = if still_current() {
             let task = tokio::task::spawn_blocking(move || {
-                // keyed before the rows are read: data changed meanwhile misses next time
-                let pending = crate::lsp::evaluation_cache::pending_entry(&parsed, &resolve);
-                let evaluation = Arc::new(crate::lsp::evaluate::evaluate_exactly(
-                    &parsed.spec,
-                    &resolve,
-                    still_current,
-                )?);
-                let entry = pending.keep(&evaluation);
-                Some((evaluation, entry))
+                pages::giving_back(|| {
+                    // keyed before the rows are read: data changed meanwhile misses next time
+                    let pending = crate::lsp::evaluation_cache::pending_entry(&parsed, &resolve);
+                    let evaluation = Arc::new(crate::lsp::evaluate::evaluate_exactly(
+                        &parsed.spec,
+                        &resolve,
+                        still_current,
+                    )?);
+                    let entry = pending.keep(&evaluation);
+                    Some((evaluation, entry))
+                })
             });
             match task.await {
                 Ok(evaluation) => evaluation,
@@ -939,12 +946,14 @@ fn start_full_scan(state: Arc<ServerState>, path: PathBuf, read: ReadOptions) {
         let scan_path = path.clone();
         let scan_share = share_done.clone();
         let mut task = tokio::task::spawn_blocking(move || {
-            catch_unwind(AssertUnwindSafe(|| {
-                cache.full_profile_within(&scan_path, &read, &limits, &|share| {
-                    scan_share.store((share.clamp(0.0, 1.0) * 100.0) as u64, Ordering::Relaxed);
-                    true
-                })
-            }))
+            pages::giving_back(|| {
+                catch_unwind(AssertUnwindSafe(|| {
+                    cache.full_profile_within(&scan_path, &read, &limits, &|share| {
+                        scan_share.store((share.clamp(0.0, 1.0) * 100.0) as u64, Ordering::Relaxed);
+                        true
+                    })
+                }))
+            })
         });
         let started = tokio::time::Instant::now();
         let mut token: Option<lsp::NumberOrString> = None;
@@ -2043,10 +2052,12 @@ impl Backend {
             return;
         };
         let scanned = tokio::task::spawn_blocking(move || {
-            catch_unwind(AssertUnwindSafe(|| {
-                WorkspaceIndex::scan(&root, allow_outside)
-            }))
-            .ok()
+            pages::giving_back(|| {
+                catch_unwind(AssertUnwindSafe(|| {
+                    WorkspaceIndex::scan(&root, allow_outside)
+                }))
+                .ok()
+            })
         })
         .await
         .ok()
@@ -2501,24 +2512,26 @@ async fn closed_spec_reports(
     };
     let cache = state.cache.clone();
     let results = tokio::task::spawn_blocking(move || {
-        specs
-            .iter()
-            .filter_map(|spec| {
-                catch_unwind(AssertUnwindSafe(|| {
-                    check_closed_spec(
-                        spec,
-                        root.as_deref(),
-                        allow_outside,
-                        &config,
-                        limits,
-                        &cache,
-                        encoding,
-                    )
-                }))
-                .ok()
-                .flatten()
-            })
-            .collect::<Vec<_>>()
+        pages::giving_back(|| {
+            specs
+                .iter()
+                .filter_map(|spec| {
+                    catch_unwind(AssertUnwindSafe(|| {
+                        check_closed_spec(
+                            spec,
+                            root.as_deref(),
+                            allow_outside,
+                            &config,
+                            limits,
+                            &cache,
+                            encoding,
+                        )
+                    }))
+                    .ok()
+                    .flatten()
+                })
+                .collect::<Vec<_>>()
+        })
     })
     .await
     .unwrap_or_default();
