@@ -307,9 +307,9 @@ fn ten_thousand_open_documents_keep_the_server_answering_with_bounded_memory() {
         "100 documents of {} KB: {before} -> {after} KiB resident, {big_factor:.1} times their size",
         big_bytes / 100 / 1000
     );
-    // measured 48 to 50 times in a debug build (106 to 116 before the analysing threads gave their
-    // free pages back after each run, `src/lsp/pages.rs`; 204 to 255 before the tree and model
-    // were made smaller). What the server keeps of each is 34 times its text (`cargo bench
+    // measured 48 to 50 times in a debug build (106 to 116 before the analysing threads gave
+    // their free pages back after each run, `src/lsp/pages.rs`; 204 to 255 before the tree and
+    // model were made smaller). What the server keeps of each is 34 times its text (`cargo bench
     // --bench document_memory`: the syntax tree 12.5, the model and its findings 13.4, the
     // schema findings 2.3, the rule findings 3.0, the rope and line index 2.2, the sampled
     // evaluation 1.8); the rest is allocator pages that live state shares with freed blocks
@@ -351,8 +351,8 @@ fn a_long_editing_session_does_not_grow_the_server_memory() {
     // bound: after 3,060 edits to one document (in bursts the server analyses, each one
     // published) and 30 open/close cycles of 10 more documents, resident memory is within
     // 1.25 times plus 24 MiB of what it was after a warm-up of 200 edits (measured in a debug
-    // build: 58 to 64 MiB after the warm-up, 55 to 59 MiB halfway and at the end, printed below); a map
-    // keyed by version or document that is never pruned, or the
+    // build: 58 to 64 MiB after the warm-up, 55 to 59 MiB halfway and at the end, printed
+    // below); a map keyed by version or document that is never pruned, or the
     // analyses of old texts kept, would grow with the session
     let dir = tempfile::tempdir().unwrap_or_else(|error| panic!("{error}"));
     let mut rows = String::from("pier,crossings\n");

@@ -450,12 +450,10 @@ impl Backend {
             (Self::snapshot_of(&self.state, uri, record), reuse)
         };
         let cache = self.state.cache.clone();
-        let result = tokio::task::spawn_blocking(move || {
-            pages::giving_back(|| {
-                catch_unwind(AssertUnwindSafe(|| {
-                    analyse_snapshot(&snapshot, &cache, Some(reuse))
-                }))
-            })
+        let result = pages::spawn_blocking(move || {
+            catch_unwind(AssertUnwindSafe(|| {
+                analyse_snapshot(&snapshot, &cache, Some(reuse))
+            }))
         })
         .await;
         match result {
@@ -590,13 +588,11 @@ async fn analysis_loop(state: Arc<ServerState>, uri: lsp::Url, loop_id: u64) {
         let generation = snapshot.generation;
         let cache = state.cache.clone();
         ANALYSES_RUNNING.fetch_add(1, Ordering::SeqCst);
-        let mut task = tokio::task::spawn_blocking(move || {
+        let mut task = pages::spawn_blocking(move || {
             let _running = RunningAnalysis;
-            pages::giving_back(|| {
-                catch_unwind(AssertUnwindSafe(|| {
-                    analyse_snapshot(&snapshot, &cache, None)
-                }))
-            })
+            catch_unwind(AssertUnwindSafe(|| {
+                analyse_snapshot(&snapshot, &cache, None)
+            }))
         });
         // wait for the analysis, but let a newer text supersede it: a slow read (a network
         // file system, a huge head) must not hold the document; the abandoned run finishes on
@@ -865,18 +861,16 @@ fn start_exact_evaluation(
             })
         };
         let evaluation = if still_current() {
-            let task = tokio::task::spawn_blocking(move || {
-                pages::giving_back(|| {
-                    // keyed before the rows are read: data changed meanwhile misses next time
-                    let pending = crate::lsp::evaluation_cache::pending_entry(&parsed, &resolve);
-                    let evaluation = Arc::new(crate::lsp::evaluate::evaluate_exactly(
-                        &parsed.spec,
-                        &resolve,
-                        still_current,
-                    )?);
-                    let entry = pending.keep(&evaluation);
-                    Some((evaluation, entry))
-                })
+            let task = pages::spawn_blocking(move || {
+                // keyed before the rows are read: data changed meanwhile misses next time
+                let pending = crate::lsp::evaluation_cache::pending_entry(&parsed, &resolve);
+                let evaluation = Arc::new(crate::lsp::evaluate::evaluate_exactly(
+                    &parsed.spec,
+                    &resolve,
+                    still_current,
+                )?);
+                let entry = pending.keep(&evaluation);
+                Some((evaluation, entry))
             });
             match task.await {
                 Ok(evaluation) => evaluation,
@@ -945,15 +939,13 @@ fn start_full_scan(state: Arc<ServerState>, path: PathBuf, read: ReadOptions) {
         let cache = state.cache.clone();
         let scan_path = path.clone();
         let scan_share = share_done.clone();
-        let mut task = tokio::task::spawn_blocking(move || {
-            pages::giving_back(|| {
-                catch_unwind(AssertUnwindSafe(|| {
-                    cache.full_profile_within(&scan_path, &read, &limits, &|share| {
-                        scan_share.store((share.clamp(0.0, 1.0) * 100.0) as u64, Ordering::Relaxed);
-                        true
-                    })
-                }))
-            })
+        let mut task = pages::spawn_blocking(move || {
+            catch_unwind(AssertUnwindSafe(|| {
+                cache.full_profile_within(&scan_path, &read, &limits, &|share| {
+                    scan_share.store((share.clamp(0.0, 1.0) * 100.0) as u64, Ordering::Relaxed);
+                    true
+                })
+            }))
         });
         let started = tokio::time::Instant::now();
         let mut token: Option<lsp::NumberOrString> = None;
@@ -2051,13 +2043,11 @@ impl Backend {
             self.state.workspace_scanned.store(true, Ordering::SeqCst);
             return;
         };
-        let scanned = tokio::task::spawn_blocking(move || {
-            pages::giving_back(|| {
-                catch_unwind(AssertUnwindSafe(|| {
-                    WorkspaceIndex::scan(&root, allow_outside)
-                }))
-                .ok()
-            })
+        let scanned = pages::spawn_blocking(move || {
+            catch_unwind(AssertUnwindSafe(|| {
+                WorkspaceIndex::scan(&root, allow_outside)
+            }))
+            .ok()
         })
         .await
         .ok()
@@ -2203,7 +2193,7 @@ impl Backend {
         let places = self.column_places(&target).await;
         let cache = self.state.cache.clone();
         let data_file = target.data_file.clone();
-        let profile = tokio::task::spawn_blocking(move || {
+        let profile = pages::spawn_blocking(move || {
             cache
                 .full_profile(&data_file, &ReadOptions::default(), &|_| true)
                 .ok()
@@ -2511,27 +2501,25 @@ async fn closed_spec_reports(
         )
     };
     let cache = state.cache.clone();
-    let results = tokio::task::spawn_blocking(move || {
-        pages::giving_back(|| {
-            specs
-                .iter()
-                .filter_map(|spec| {
-                    catch_unwind(AssertUnwindSafe(|| {
-                        check_closed_spec(
-                            spec,
-                            root.as_deref(),
-                            allow_outside,
-                            &config,
-                            limits,
-                            &cache,
-                            encoding,
-                        )
-                    }))
-                    .ok()
-                    .flatten()
-                })
-                .collect::<Vec<_>>()
-        })
+    let results = pages::spawn_blocking(move || {
+        specs
+            .iter()
+            .filter_map(|spec| {
+                catch_unwind(AssertUnwindSafe(|| {
+                    check_closed_spec(
+                        spec,
+                        root.as_deref(),
+                        allow_outside,
+                        &config,
+                        limits,
+                        &cache,
+                        encoding,
+                    )
+                }))
+                .ok()
+                .flatten()
+            })
+            .collect::<Vec<_>>()
     })
     .await
     .unwrap_or_default();
